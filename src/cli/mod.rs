@@ -1,0 +1,40 @@
+//! Command-line parsing and the glue from arguments to library calls, one file per
+//! subcommand.
+
+mod output;
+mod run_command;
+
+use anyhow::Result;
+use clap::{Parser, Subcommand};
+
+/// How long radiation takes to random-walk out of a scattering medium: Monte Carlo against
+/// diffusion theory.
+#[derive(Debug, Parser)]
+#[command(name = "sojourn", version, about, long_about = None)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// Run photons through a model and compare with diffusion theory.
+    Run(run_command::RunArgs),
+}
+
+/// Parses the command line and runs the chosen subcommand.
+pub fn run() -> Result<()> {
+    let cli = Cli::parse();
+    match cli.command {
+        Command::Run(args) => run_command::execute(args),
+    }
+}
+
+/// Whether an error is a closed stdout (e.g. piped into `head`), which is not a failure.
+pub fn is_broken_pipe(error: &anyhow::Error) -> bool {
+    error.chain().any(|cause| {
+        cause
+            .downcast_ref::<std::io::Error>()
+            .is_some_and(|io| io.kind() == std::io::ErrorKind::BrokenPipe)
+    })
+}

@@ -1,0 +1,53 @@
+//! The whole escape-time distribution against theory: for a uniform, conservative sphere
+//! with a centred source, the Kolmogorov–Smirnov distance between the Monte Carlo escape
+//! times and the exact first-passage distribution of diffusion out of a sphere
+//! (../shared/REFERENCES.md item 3), with the surface moved out to the Milne extrapolated
+//! radius R + q∞ l_tr.
+
+use super::estimates::MILNE_EXTRAPOLATION_LENGTH;
+use super::{first_passage, ks};
+use crate::medium::{Geometry, Medium, Source};
+use crate::tally::PathStats;
+use crate::units::SPEED_OF_LIGHT_CM_S;
+
+/// Radius (cm) and diffusion coefficient (cm²/s) of the diffusion sphere equivalent to
+/// `medium`, if it is one uniform, conservative sphere with a centred source.
+pub fn equivalent_sphere(medium: &Medium) -> Option<(f64, f64)> {
+    if medium.geometry() != Geometry::Sphere || medium.layers().len() != 1 {
+        return None;
+    }
+    if medium.source() != Source::centre() {
+        return None;
+    }
+    let layer = &medium.layers()[0];
+    let transport = layer.transport_extinction_per_cm();
+    if layer.albedo() < 1.0 || transport <= 0.0 {
+        return None;
+    }
+    let speed = SPEED_OF_LIGHT_CM_S / layer.refractive_index();
+    let diffusion = speed / (3.0 * transport);
+    let radius = medium.size_cm() + MILNE_EXTRAPOLATION_LENGTH / transport;
+    Some((radius, diffusion))
+}
+
+/// KS distance between the escape-time histogram of `escapes` and the first-passage CDF of
+/// the equivalent diffusion sphere, evaluated at the histogram's bin edges (a lower bound of
+/// the unbinned statistic; bins are 1.2 % wide). `None` where no equivalent sphere exists.
+pub fn first_passage_ks_distance(medium: &Medium, escapes: &PathStats) -> Option<f64> {
+    let (radius, diffusion) = equivalent_sphere(medium)?;
+    let histogram = &escapes.time_histogram;
+    let (below, above) = histogram.out_of_range();
+    if histogram.total() == 0 || histogram.zero_count() > 0 || below > 0 || above > 0 {
+        return None;
+    }
+    let layout = histogram.layout();
+    let edges = layout.edges();
+    let counts = histogram.bin_counts();
+    let cdf = |t: f64| first_passage::cdf(t * diffusion / (radius * radius));
+    Some(ks::ks_distance_binned(
+        &edges,
+        &counts,
+        histogram.total(),
+        cdf,
+    ))
+}

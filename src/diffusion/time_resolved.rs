@@ -1,0 +1,1 @@
+//! Time-resolved slab diffusion (in progress).

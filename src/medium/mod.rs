@@ -1,0 +1,325 @@
+//! The scattering medium: geometry, homogeneous layers and the photon source, all in cgs.
+//!
+//! A [`Medium`] is either a sphere of concentric shells (innermost first) or a plane-parallel
+//! slab of layers (top first, unbounded sideways). It is built in code with
+//! [`Medium::sphere`] / [`Medium::slab`] or loaded from a JSON model file with
+//! [`model_file::load_model`]; both paths validate every value, so nothing downstream sees
+//! raw input.
+
+mod error;
+mod layer;
+pub mod model_file;
+
+pub use error::{MediumError, Quantity};
+pub use layer::Layer;
+
+use crate::units::LengthUnit;
+
+/// The shape of the medium.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Geometry {
+    /// Concentric spherical shells.
+    Sphere,
+    /// Plane-parallel layers, unbounded sideways.
+    Slab,
+}
+
+/// Where and how photons start.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Source {
+    /// Sphere: isotropic point source at distance `radius_cm` from the centre.
+    SpherePoint {
+        /// Distance from the centre, cm.
+        radius_cm: f64,
+    },
+    /// Slab: collimated beam entering the top face at `polar_angle_deg` from the normal.
+    Beam {
+        /// Angle from the inward normal, degrees (0 ≤ angle < 90).
+        polar_angle_deg: f64,
+    },
+    /// Slab: isotropic point source at `depth_cm` below the top face.
+    SlabPoint {
+        /// Depth below the top face, cm.
+        depth_cm: f64,
+    },
+}
+
+impl Source {
+    /// Isotropic point source at the centre of a sphere.
+    pub fn centre() -> Self {
+        Source::SpherePoint { radius_cm: 0.0 }
+    }
+
+    /// Collimated beam at normal incidence on a slab.
+    pub fn normal_beam() -> Self {
+        Source::Beam {
+            polar_angle_deg: 0.0,
+        }
+    }
+}
+
+/// A validated medium. Boundaries are in cm: for a sphere the outer radius of each shell,
+/// for a slab the depth of the bottom of each layer below the top face.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Medium {
+    name: String,
+    geometry: Geometry,
+    layers: Vec<Layer>,
+    boundaries_cm: Vec<f64>,
+    ambient_index: f64,
+    source: Source,
+    source_layer: usize,
+    display_unit: LengthUnit,
+}
+
+impl Medium {
+    /// A sphere of concentric shells given innermost first as `(outer radius cm, layer)`.
+    ///
+    /// # Errors
+    /// Empty list, radii not strictly increasing or not positive and finite, no layer with
+    /// positive extinction, a refractive index other than 1 (spheres have no refractive
+    /// boundaries), or a source that is not a point inside the sphere.
+    pub fn sphere(shells: Vec<(f64, Layer)>, source: Source) -> Result<Self, MediumError> {
+        let (boundaries_cm, layers) =
+            split_layers(shells, "outer_radius", |previous, radius| radius > previous)?;
+        for (index, layer) in layers.iter().enumerate() {
+            if layer.refractive_index() != 1.0 {
+                return Err(MediumError::value(
+                    format!("layers[{index}].refractive_index"),
+                    layer.refractive_index(),
+                    Quantity::Dimensionless,
+                    "1 (refractive boundaries apply to slabs only)",
+                ));
+            }
+        }
+        let outer = *boundaries_cm.last().unwrap_or(&0.0);
+        let source_layer = match source {
+            Source::SpherePoint { radius_cm } => {
+                if !(radius_cm.is_finite() && (0.0..outer).contains(&radius_cm)) {
+                    return Err(MediumError::value(
+                        "source.radius",
+                        radius_cm,
+                        Quantity::Length,
+                        format!("a distance from the centre in [0, {outer} cm)"),
+                    ));
+                }
+                boundaries_cm.partition_point(|&b| b <= radius_cm)
+            }
+            _ => {
+                return Err(MediumError::Invalid {
+                    field: "source.kind".into(),
+                    problem: "a sphere takes a point source (\"kind\": \"point\", \"radius\")"
+                        .into(),
+                });
+            }
+        };
+        Ok(Self {
+            name: String::new(),
+            geometry: Geometry::Sphere,
+            layers,
+            boundaries_cm,
+            ambient_index: 1.0,
+            source,
+            source_layer,
+            display_unit: LengthUnit::Cm,
+        })
+    }
+
+    /// A slab of layers given top first as `(thickness cm, layer)`, surrounded by a medium of
+    /// refractive index `ambient_index` (≥ 1).
+    ///
+    /// # Errors
+    /// Empty list, non-positive or non-finite thickness, no layer with positive extinction,
+    /// an ambient index below 1, a beam angle outside [0, 90) degrees, or a point source
+    /// outside the slab.
+    pub fn slab(
+        layers: Vec<(f64, Layer)>,
+        ambient_index: f64,
+        source: Source,
+    ) -> Result<Self, MediumError> {
+        if !(ambient_index.is_finite() && ambient_index >= 1.0) {
+            return Err(MediumError::value(
+                "ambient_index",
+                ambient_index,
+                Quantity::Dimensionless,
+                "a finite number >= 1",
+            ));
+        }
+        let mut depth = 0.0;
+        let mut with_depths = Vec::with_capacity(layers.len());
+        for (index, (thickness, layer)) in layers.into_iter().enumerate() {
+            if !(thickness.is_finite() && thickness > 0.0) {
+                return Err(MediumError::value(
+                    format!("layers[{index}].thickness"),
+                    thickness,
+                    Quantity::Length,
+                    "a finite thickness > 0",
+                ));
+            }
+            depth += thickness;
+            with_depths.push((depth, layer));
+        }
+        let (boundaries_cm, layers) = split_layers(with_depths, "thickness", |_, _| true)?;
+        let total = *boundaries_cm.last().unwrap_or(&0.0);
+        let source_layer = match source {
+            Source::Beam { polar_angle_deg } => {
+                if !(0.0..90.0).contains(&polar_angle_deg) {
+                    return Err(MediumError::value(
+                        "source.polar_angle_deg",
+                        polar_angle_deg,
+                        Quantity::AngleDeg,
+                        "an angle from the normal in [0, 90) degrees",
+                    ));
+                }
+                0
+            }
+            Source::SlabPoint { depth_cm } => {
+                if !(depth_cm.is_finite() && (0.0..=total).contains(&depth_cm)) {
+                    return Err(MediumError::value(
+                        "source.depth",
+                        depth_cm,
+                        Quantity::Length,
+                        format!("a depth in [0, {total} cm]"),
+                    ));
+                }
+                boundaries_cm
+                    .partition_point(|&b| b <= depth_cm)
+                    .min(layers.len() - 1)
+            }
+            Source::SpherePoint { .. } => {
+                return Err(MediumError::Invalid {
+                    field: "source.kind".into(),
+                    problem: "a slab takes \"beam\" or a point source at a \"depth\"".into(),
+                });
+            }
+        };
+        Ok(Self {
+            name: String::new(),
+            geometry: Geometry::Slab,
+            layers,
+            boundaries_cm,
+            ambient_index,
+            source,
+            source_layer,
+            display_unit: LengthUnit::Cm,
+        })
+    }
+
+    /// The same medium with a name (used in reports).
+    pub fn with_name(mut self, name: impl Into<String>) -> Self {
+        self.name = name.into();
+        self
+    }
+
+    /// The same medium, reporting lengths in `unit` (computation stays in cm).
+    pub fn with_display_unit(mut self, unit: LengthUnit) -> Self {
+        self.display_unit = unit;
+        self
+    }
+
+    /// The medium's name (may be empty).
+    pub fn name(&self) -> &str {
+        &self.name
+    }
+
+    /// Sphere or slab.
+    pub fn geometry(&self) -> Geometry {
+        self.geometry
+    }
+
+    /// The layers, innermost (sphere) or top (slab) first.
+    pub fn layers(&self) -> &[Layer] {
+        &self.layers
+    }
+
+    /// Outer radius of each shell (sphere) or depth of the bottom of each layer (slab), cm.
+    pub fn boundaries_cm(&self) -> &[f64] {
+        &self.boundaries_cm
+    }
+
+    /// Inner and outer boundary of layer `index`, cm (radius or depth).
+    pub fn layer_bounds_cm(&self, index: usize) -> (f64, f64) {
+        let inner = if index == 0 {
+            0.0
+        } else {
+            self.boundaries_cm[index - 1]
+        };
+        (inner, self.boundaries_cm[index])
+    }
+
+    /// Outer radius (sphere) or total thickness (slab), cm.
+    pub fn size_cm(&self) -> f64 {
+        *self.boundaries_cm.last().expect("a medium has layers")
+    }
+
+    /// Refractive index of the surroundings.
+    pub fn ambient_index(&self) -> f64 {
+        self.ambient_index
+    }
+
+    /// The photon source.
+    pub fn source(&self) -> Source {
+        self.source
+    }
+
+    /// Index of the layer holding the source (0 for a beam).
+    pub fn source_layer(&self) -> usize {
+        self.source_layer
+    }
+
+    /// The unit the user gave lengths in, for reports.
+    pub fn display_unit(&self) -> LengthUnit {
+        self.display_unit
+    }
+}
+
+/// Checks a list of `(boundary, layer)` pairs: non-empty, boundaries positive, finite and
+/// accepted by `increasing`, at least one layer that interacts.
+fn split_layers(
+    items: Vec<(f64, Layer)>,
+    boundary_field: &str,
+    increasing: impl Fn(f64, f64) -> bool,
+) -> Result<(Vec<f64>, Vec<Layer>), MediumError> {
+    if items.is_empty() {
+        return Err(MediumError::Invalid {
+            field: "layers".into(),
+            problem: "expected at least one layer".into(),
+        });
+    }
+    let mut boundaries = Vec::with_capacity(items.len());
+    let mut layers = Vec::with_capacity(items.len());
+    let mut previous = 0.0;
+    for (index, (boundary, layer)) in items.into_iter().enumerate() {
+        if !(boundary.is_finite() && boundary > 0.0) {
+            return Err(MediumError::value(
+                format!("layers[{index}].{boundary_field}"),
+                boundary,
+                Quantity::Length,
+                "a finite number > 0",
+            ));
+        }
+        if index > 0 && !increasing(previous, boundary) {
+            return Err(MediumError::value(
+                format!("layers[{index}].{boundary_field}"),
+                boundary,
+                Quantity::Length,
+                format!(
+                    "a value greater than layers[{}].{boundary_field} ({previous} cm): \
+                     shells go innermost first with increasing radii",
+                    index - 1
+                ),
+            ));
+        }
+        previous = boundary;
+        boundaries.push(boundary);
+        layers.push(layer);
+    }
+    if layers.iter().all(|layer| layer.extinction_per_cm() == 0.0) {
+        return Err(MediumError::Invalid {
+            field: "layers".into(),
+            problem: "every layer has zero extinction: photons would never interact".into(),
+        });
+    }
+    Ok((boundaries, layers))
+}

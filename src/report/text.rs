@@ -1,0 +1,169 @@
+//! The readable text rendering of a [`RunReport`] (stdout by default).
+
+use std::fmt::Write;
+
+use super::run_report::{RunReport, TimeSummary};
+use crate::medium::Geometry;
+use crate::units::{format_duration, format_significant};
+
+fn time(value: Option<f64>) -> String {
+    value.map_or_else(|| "-".to_string(), format_duration)
+}
+
+fn number(value: Option<f64>) -> String {
+    value.map_or_else(|| "-".to_string(), |v| format_significant(v, 4))
+}
+
+fn fraction(value: f64, stderr: f64) -> String {
+    format!("{value:.5} ± {stderr:.5}")
+}
+
+fn time_rows(out: &mut String, label: &str, summary: &TimeSummary) {
+    let _ = writeln!(
+        out,
+        "  {label:<12} n = {:<9} mean {} ± {}   median {}   5–95 % {} – {}",
+        summary.count,
+        time(summary.mean_s),
+        time(summary.stderr_s),
+        time(summary.median_s),
+        time(summary.p05_s),
+        time(summary.p95_s),
+    );
+}
+
+/// Renders the report as a table for a terminal.
+pub fn render_run_report(report: &RunReport) -> String {
+    let mut out = String::new();
+    let title = if report.model.name.is_empty() {
+        "(unnamed model)".to_string()
+    } else {
+        report.model.name.clone()
+    };
+    let geometry = match report.geometry {
+        Geometry::Sphere => "sphere",
+        Geometry::Slab => "slab",
+    };
+    let _ = writeln!(out, "sojourn {} · {title}", report.sojourn_version);
+    let _ = writeln!(
+        out,
+        "  model {} · {geometry}, {} layer(s) · {} photons · seed {} · method {} · {:.2} s",
+        report.model.file,
+        report.model.layers,
+        report.photons,
+        report.seed,
+        report.method,
+        report.elapsed_s
+    );
+    let _ = writeln!(out);
+    let _ = writeln!(out, "Outcome (fraction of photons launched, ± 1σ)");
+    let o = &report.outcome;
+    if let (Some(v), Some(e)) = (o.escaped, o.stderr.escaped) {
+        let _ = writeln!(out, "  escaped      {}", fraction(v, e));
+    }
+    if let (Some(v), Some(e)) = (o.reflected, o.stderr.reflected) {
+        let _ = writeln!(out, "  reflected    {}   (diffuse)", fraction(v, e));
+    }
+    if let (Some(v), Some(e)) = (o.transmitted, o.stderr.transmitted) {
+        let _ = writeln!(
+            out,
+            "  transmitted  {}   (unscattered included)",
+            fraction(v, e)
+        );
+    }
+    let _ = writeln!(
+        out,
+        "  absorbed     {}",
+        fraction(o.absorbed, o.stderr.absorbed)
+    );
+    let _ = writeln!(
+        out,
+        "  censored     {}",
+        fraction(o.censored, o.stderr.censored)
+    );
+    let _ = writeln!(out);
+    let _ = writeln!(out, "Time in the medium (photons that left it)");
+    time_rows(&mut out, "all escapes", &report.escape_time);
+    if let Some(summary) = &report.reflected_time {
+        time_rows(&mut out, "reflected", summary);
+    }
+    if let Some(summary) = &report.transmitted_time {
+        time_rows(&mut out, "transmitted", summary);
+    }
+    let s = &report.scatterings;
+    let _ = writeln!(
+        out,
+        "  scatterings  mean {} ± {}   median {}   5–95 % {} – {}",
+        number(s.mean),
+        number(s.stderr),
+        number(s.median),
+        number(s.p05),
+        number(s.p95)
+    );
+    let _ = writeln!(out);
+    let d = &report.diffusion;
+    let path = match report.geometry {
+        Geometry::Sphere => "source → surface",
+        Geometry::Slab => "total thickness",
+    };
+    let _ = writeln!(out, "Diffusion theory on this model");
+    let _ = writeln!(
+        out,
+        "  optical depth ({path})           {}",
+        format_significant(d.optical_depth, 5)
+    );
+    let _ = writeln!(
+        out,
+        "  mean free path                          {} – {} cm",
+        format_significant(d.mean_free_path_min_cm, 4),
+        format_significant(d.mean_free_path_max_cm, 4)
+    );
+    let _ = writeln!(
+        out,
+        "  rule of thumb N ≈ τ², t ≈ τ·L/c          N = {}   t = {}",
+        format_significant(d.naive_scatterings, 4),
+        format_duration(d.naive_time_s)
+    );
+    let _ = writeln!(
+        out,
+        "  steady diffusion, surface at boundary    N = {}   t = {}",
+        format_significant(d.mean_scatterings, 4),
+        format_duration(d.mean_time_s)
+    );
+    let _ = writeln!(
+        out,
+        "  same, Milne extrapolated boundary        N = {}   t = {}",
+        format_significant(d.mean_scatterings_extrapolated, 4),
+        format_duration(d.mean_time_extrapolated_s)
+    );
+    let _ = writeln!(out);
+    let c = &report.comparison;
+    let _ = writeln!(out, "Monte Carlo / diffusion");
+    let _ = writeln!(
+        out,
+        "  mean time / extrapolated diffusion       {} ± {} (1σ)",
+        number(c.time_ratio),
+        number(c.time_ratio_stderr)
+    );
+    let _ = writeln!(
+        out,
+        "  mean time / diffusion (no extrapolation) {}",
+        number(c.time_ratio_plain)
+    );
+    let _ = writeln!(
+        out,
+        "  mean time / rule of thumb                {}",
+        number(c.naive_time_ratio)
+    );
+    if let Some(ks) = c.ks_distance {
+        let _ = writeln!(
+            out,
+            "  KS distance to the diffusion first-passage distribution   {}",
+            format_significant(ks, 3)
+        );
+    }
+    let _ = writeln!(out);
+    for note in &report.notes {
+        let _ = writeln!(out, "note: {note}");
+    }
+    out
+}

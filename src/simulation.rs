@@ -1,0 +1,91 @@
+//! Running many photons: parallel over photons with rayon, one random stream per photon,
+//! tallies merged exactly, so a seed fixes the result bit for bit whatever the thread count.
+
+use std::time::Instant;
+
+use rayon::prelude::*;
+
+use crate::medium::Medium;
+use crate::tally::Tally;
+use crate::transport::rng::photon_rng;
+use crate::transport::{DirectWalker, WalkLimits};
+
+/// What to run.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RunConfig {
+    /// Number of photons.
+    pub photons: u64,
+    /// Seed of the random streams.
+    pub seed: u64,
+    /// Stream id (e.g. the index of a sweep point); photons of different streams are
+    /// independent.
+    pub stream: u64,
+    /// Index of the first photon (shards run disjoint index ranges of one run).
+    pub first_photon: u64,
+    /// Per-photon limits.
+    pub limits: WalkLimits,
+}
+
+impl Default for RunConfig {
+    fn default() -> Self {
+        Self {
+            photons: 10_000,
+            seed: 1,
+            stream: 0,
+            first_photon: 0,
+            limits: WalkLimits::default(),
+        }
+    }
+}
+
+/// The result of a run: the merged tally and the wall-clock time it took.
+#[derive(Debug, Clone)]
+pub struct RunResult {
+    /// Merged outcomes of all photons.
+    pub tally: Tally,
+    /// Wall-clock time of the run, s (not reproducible; excluded from comparisons).
+    pub elapsed_s: f64,
+}
+
+/// Runs `config.photons` photons through `medium`.
+/// Runs on the current rayon thread pool; to choose the thread count, call it inside
+/// `rayon::ThreadPoolBuilder::new().num_threads(n).build()?.install(|| run(..))`.
+pub fn run(medium: &Medium, config: &RunConfig) -> RunResult {
+    run_with_progress(medium, config, &|_| {})
+}
+
+/// Like [`run`], calling `progress(photons done)` from time to time (from the calling
+/// thread, between batches).
+pub fn run_with_progress(
+    medium: &Medium,
+    config: &RunConfig,
+    progress: &(dyn Fn(u64) + Sync),
+) -> RunResult {
+    let started = Instant::now();
+    let walker = DirectWalker::new(medium, config.limits);
+    let mut tally = Tally::new();
+    let end = config.first_photon + config.photons;
+    let batch = (config.photons / 100).clamp(1_000, 1_000_000);
+    let mut start = config.first_photon;
+    while start < end {
+        let stop = (start + batch).min(end);
+        let part = (start..stop)
+            .into_par_iter()
+            .fold(Tally::new, |mut tally, photon| {
+                let mut rng = photon_rng(config.seed, config.stream, photon);
+                tally.record(&walker.walk(&mut rng));
+                tally
+            })
+            .reduce(Tally::new, |mut a, b| {
+                a.merge(&b);
+                a
+            });
+        tally.merge(&part);
+        start = stop;
+        progress(start - config.first_photon);
+    }
+    RunResult {
+        tally,
+        elapsed_s: started.elapsed().as_secs_f64(),
+    }
+}

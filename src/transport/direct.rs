@@ -1,0 +1,223 @@
+//! The direct walker: every free flight and every scattering simulated, with exact
+//! optical-depth stepping across layer boundaries.
+//!
+//! Each flight draws an optical depth τ* = −ln ξ (exponential, ziggurat sampler) and spends
+//! it layer by layer along the ray, using exact ray–sphere or ray–plane distances, until it
+//! is used up (an interaction) or the photon leaves the medium. No step ever uses the mean
+//! free path of its starting point alone, so the walk is exact for any layering.
+
+use nalgebra::Vector3;
+use rand::{Rng, RngExt};
+use rand_distr::Exp1;
+
+use super::direction;
+use super::geometry::{Exit, plane_exit, segment_inside_shell, shell_exit};
+use super::phase::PhaseFunction;
+use crate::medium::{Geometry, Medium, Source};
+use crate::tally::{Outcome, PhotonRecord};
+use crate::units::SPEED_OF_LIGHT_CM_S;
+
+/// Limits on a single photon's walk.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WalkLimits {
+    /// Free flights allowed before the photon is counted as censored.
+    pub max_steps: u64,
+}
+
+impl Default for WalkLimits {
+    fn default() -> Self {
+        Self {
+            max_steps: 100_000_000,
+        }
+    }
+}
+
+/// What the walker needs of one layer, precomputed.
+#[derive(Debug, Clone)]
+struct LayerOptics {
+    extinction_per_cm: f64,
+    albedo: f64,
+    phase: PhaseFunction,
+    /// n / c, s/cm: time per unit path length.
+    slowness_s_cm: f64,
+    /// Inner radius squared (sphere) or top depth (slab), cm² or cm.
+    inner: f64,
+    /// Outer radius squared (sphere) or bottom depth (slab), cm² or cm.
+    outer: f64,
+}
+
+/// A photon in flight.
+#[derive(Debug, Clone)]
+struct Photon {
+    position: Vector3<f64>,
+    direction: Vector3<f64>,
+    layer: usize,
+    time_s: f64,
+    scatterings: f64,
+    steps: u64,
+}
+
+/// The direct Monte Carlo walker for one medium. Immutable and `Sync`: share it between
+/// threads and give each photon its own random stream.
+#[derive(Debug, Clone)]
+pub struct DirectWalker {
+    geometry: Geometry,
+    layers: Vec<LayerOptics>,
+    source: Source,
+    source_layer: usize,
+    limits: WalkLimits,
+}
+
+impl DirectWalker {
+    /// A walker for `medium` with per-photon `limits`.
+    pub fn new(medium: &Medium, limits: WalkLimits) -> Self {
+        let geometry = medium.geometry();
+        let layers = medium
+            .layers()
+            .iter()
+            .enumerate()
+            .map(|(index, layer)| {
+                let (inner, outer) = medium.layer_bounds_cm(index);
+                let (inner, outer) = match geometry {
+                    Geometry::Sphere => (inner * inner, outer * outer),
+                    Geometry::Slab => (inner, outer),
+                };
+                LayerOptics {
+                    extinction_per_cm: layer.extinction_per_cm(),
+                    albedo: layer.albedo(),
+                    phase: *layer.phase(),
+                    slowness_s_cm: layer.refractive_index() / SPEED_OF_LIGHT_CM_S,
+                    inner,
+                    outer,
+                }
+            })
+            .collect();
+        Self {
+            geometry,
+            layers,
+            source: medium.source(),
+            source_layer: medium.source_layer(),
+            limits,
+        }
+    }
+
+    /// Follows one photon from the source until it leaves, is absorbed or hits the step cap.
+    pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
+        let mut photon = self.launch(rng);
+        let outcome = loop {
+            if photon.steps >= self.limits.max_steps {
+                break Outcome::Censored;
+            }
+            photon.steps += 1;
+            if let Some(outcome) = self.fly(&mut photon, rng) {
+                break outcome;
+            }
+            let layer = &self.layers[photon.layer];
+            if layer.albedo < 1.0 && rng.random::<f64>() >= layer.albedo {
+                break Outcome::Absorbed;
+            }
+            photon.scatterings += 1.0;
+            photon.direction = match layer.phase {
+                PhaseFunction::Isotropic => direction::isotropic(rng),
+                phase => {
+                    let cos_theta = phase.sample_cosine(rng);
+                    direction::scatter(&photon.direction, cos_theta, rng)
+                }
+            };
+        };
+        PhotonRecord {
+            outcome,
+            time_s: photon.time_s,
+            scatterings: photon.scatterings,
+            jumps: 0.0,
+            direct_steps: photon.steps as f64,
+            jump_time_s: 0.0,
+        }
+    }
+
+    fn launch<R: Rng + ?Sized>(&self, rng: &mut R) -> Photon {
+        let (position, direction) = match self.source {
+            Source::SpherePoint { radius_cm } => {
+                (Vector3::new(0.0, 0.0, radius_cm), direction::isotropic(rng))
+            }
+            Source::SlabPoint { depth_cm } => {
+                (Vector3::new(0.0, 0.0, depth_cm), direction::isotropic(rng))
+            }
+            Source::Beam { polar_angle_deg } => {
+                let (sin, cos) = polar_angle_deg.to_radians().sin_cos();
+                (Vector3::zeros(), Vector3::new(sin, 0.0, cos))
+            }
+        };
+        Photon {
+            position,
+            direction,
+            layer: self.source_layer,
+            time_s: 0.0,
+            scatterings: 0.0,
+            steps: 0,
+        }
+    }
+
+    /// One free flight: spends a fresh exponential optical depth across layers. Returns the
+    /// outcome if the photon leaves the medium (or can never interact), `None` at an
+    /// interaction point.
+    fn fly<R: Rng + ?Sized>(&self, photon: &mut Photon, rng: &mut R) -> Option<Outcome> {
+        let mut tau: f64 = rng.sample(Exp1);
+        loop {
+            let layer = &self.layers[photon.layer];
+            if self.geometry == Geometry::Sphere && layer.extinction_per_cm > 0.0 {
+                let s = tau / layer.extinction_per_cm;
+                if segment_inside_shell(
+                    &photon.position,
+                    &photon.direction,
+                    s,
+                    layer.inner,
+                    layer.outer,
+                ) {
+                    photon.position += s * photon.direction;
+                    photon.time_s += s * layer.slowness_s_cm;
+                    return None;
+                }
+            }
+            let (distance, exit) = match self.geometry {
+                Geometry::Sphere => shell_exit(
+                    &photon.position,
+                    &photon.direction,
+                    layer.inner,
+                    layer.outer,
+                ),
+                Geometry::Slab => plane_exit(
+                    photon.position.z,
+                    photon.direction.z,
+                    layer.inner,
+                    layer.outer,
+                ),
+            };
+            if !distance.is_finite() {
+                // Gliding parallel to the faces of a transparent layer: it never interacts.
+                return Some(Outcome::Censored);
+            }
+            let tau_to_exit = layer.extinction_per_cm * distance;
+            if tau < tau_to_exit {
+                let s = tau / layer.extinction_per_cm;
+                photon.position += s * photon.direction;
+                photon.time_s += s * layer.slowness_s_cm;
+                return None;
+            }
+            tau -= tau_to_exit;
+            photon.position += distance * photon.direction;
+            photon.time_s += distance * layer.slowness_s_cm;
+            match exit {
+                Exit::Next if photon.layer + 1 == self.layers.len() => {
+                    return Some(match self.geometry {
+                        Geometry::Sphere => Outcome::Escaped,
+                        Geometry::Slab => Outcome::Transmitted,
+                    });
+                }
+                Exit::Next => photon.layer += 1,
+                Exit::Previous if photon.layer == 0 => return Some(Outcome::Reflected),
+                Exit::Previous => photon.layer -= 1,
+            }
+        }
+    }
+}
