@@ -26,8 +26,10 @@
 
 pub mod diffusion;
 pub mod medium;
+pub mod opacity;
 pub mod report;
 pub mod simulation;
+pub mod star;
 pub mod tally;
 pub mod transport;
 pub mod units;

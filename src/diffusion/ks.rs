@@ -287,20 +287,28 @@ mod tests {
         let q1 = 2.0 * ((-2.0f64).exp() - (-8.0f64).exp() + (-18.0f64).exp() - (-32.0f64).exp());
         assert_relative_eq!(kolmogorov_q(1.0), q1, max_relative = 1e-14);
         assert_relative_eq!(kolmogorov_q(1.358_098_6), 0.05, max_relative = 1e-3);
-        // The two forms agree where they switch.
-        let below = kolmogorov_q(1.18 - 1e-12);
-        let x = (-2.0f64 * 1.18 * 1.18).exp();
-        let series = 2.0 * (x - x.powi(4) + x.powi(9) - x.powi(16) + x.powi(25));
-        assert_relative_eq!(below, series, max_relative = 1e-12);
+        // The small-λ form (used below 1.18) agrees with the defining alternating series.
+        for lambda in [0.6f64, 0.9, 1.1, 1.1799] {
+            let x = (-2.0 * lambda * lambda).exp();
+            let series: f64 = (1..=12)
+                .map(|k: i32| 2.0 * if k % 2 == 1 { 1.0 } else { -1.0 } * x.powi(k * k))
+                .sum();
+            assert_relative_eq!(kolmogorov_q(lambda), series, max_relative = 1e-13);
+        }
         assert_eq!(kolmogorov_q(0.0), 1.0);
         assert!(kolmogorov_q(0.1) > 1.0 - 1e-15);
         assert!(kolmogorov_q(5.0) < 1e-20);
-        // Critical value: c(0.05) = sqrt(−ln 0.025 / 2) = 1.35810.
-        assert_relative_eq!(ks_critical_value(1, 0.05), 1.358_098_6, max_relative = 1e-7);
+        // Critical value: c(0.05) = sqrt(−ln 0.025 / 2) = sqrt(3.688879454 / 2) = 1.358101516
+        // (the exact 5 % point of Q_KS is 1.358099; the leading term is that close).
+        assert_relative_eq!(
+            ks_critical_value(1, 0.05),
+            1.358_101_516,
+            max_relative = 1e-9
+        );
         assert_relative_eq!(
             ks_critical_value(100, 0.05),
-            0.135_809_86,
-            max_relative = 1e-7
+            0.135_810_151_6,
+            max_relative = 1e-9
         );
         assert!(ks_critical_value(0, 0.05).is_nan());
     }

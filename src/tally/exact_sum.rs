@@ -19,10 +19,11 @@ const LIMBS: usize = 68;
 /// limbs are i64, so 2^30 additions can never overflow.
 const ADDS_BEFORE_NORMALISE: u32 = 1 << 30;
 
-/// Exact sum of finite `f64` values (non-finite values poison the sum to NaN).
+/// Exact sum of finite `f64` values (non-finite values poison the sum to NaN). The limbs
+/// live on the heap so that tallies stay small on the stack of rayon's workers.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct ExactSum {
-    limbs: [i64; LIMBS],
+    limbs: Box<[i64; LIMBS]>,
     pending: u32,
     poisoned: bool,
 }
@@ -37,7 +38,7 @@ impl ExactSum {
     /// An empty sum (zero).
     pub fn new() -> Self {
         Self {
-            limbs: [0; LIMBS],
+            limbs: Box::new([0; LIMBS]),
             pending: 0,
             poisoned: false,
         }

@@ -1,0 +1,8 @@
+//! Checks of the physics against exact results and published values
+//! (../shared/REFERENCES.md).
+
+mod exact_stepping;
+mod phase_functions;
+mod reproducibility;
+mod slab_reflectance;
+mod sphere_diffusion;

@@ -1,0 +1,9 @@
+//! The integration suite: one test binary (links once), modules by theme.
+//!
+//! Statistical tests use fixed seeds; their tolerances are stated in standard errors (σ) of
+//! the Monte Carlo estimate, plus, where the check value is itself approximate, the stated
+//! uncertainty of that value.
+
+mod cli;
+mod physics;
+mod support;
