@@ -16,7 +16,7 @@
 //!
 //! // A uniform, purely scattering sphere of radius 1 cm and optical radius 5.
 //! let layer = Layer::new("core", 5.0, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
-//! let medium = Medium::sphere(vec![(1.0, layer)], Source::Centre).unwrap();
+//! let medium = Medium::sphere(vec![(1.0, layer)], Source::centre()).unwrap();
 //! let result = run(&medium, &RunConfig { photons: 2_000, seed: 7, ..RunConfig::default() });
 //! assert_eq!(result.tally.launched(), 2_000);
 //! // Every photon escapes a conservative sphere.

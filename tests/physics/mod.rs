@@ -2,6 +2,7 @@
 //! (../shared/REFERENCES.md).
 
 mod exact_stepping;
+mod h_function;
 mod phase_functions;
 mod reproducibility;
 mod slab_reflectance;
