@@ -67,6 +67,9 @@ pub struct Medium {
     geometry: Geometry,
     layers: Vec<Layer>,
     boundaries_cm: Vec<f64>,
+    /// For each boundary (outer edge of layer i), whether it is a sharp interface between
+    /// different materials (`true`) or an internal division of a smooth profile (`false`).
+    sharp: Vec<bool>,
     ambient_index: f64,
     source: Source,
     source_layer: usize,
@@ -117,6 +120,7 @@ impl Medium {
         Ok(Self {
             name: String::new(),
             geometry: Geometry::Sphere,
+            sharp: vec![true; layers.len()],
             layers,
             boundaries_cm,
             ambient_index: 1.0,
@@ -197,6 +201,7 @@ impl Medium {
         Ok(Self {
             name: String::new(),
             geometry: Geometry::Slab,
+            sharp: vec![true; layers.len()],
             layers,
             boundaries_cm,
             ambient_index,
@@ -216,6 +221,27 @@ impl Medium {
     pub fn with_display_unit(mut self, unit: LengthUnit) -> Self {
         self.display_unit = unit;
         self
+    }
+
+    /// The same medium with the boundaries at the outer edges of layers `indices` marked as
+    /// internal divisions of a smooth profile rather than sharp material interfaces. The
+    /// walk is exact either way; the accelerated walker may jump across smooth divisions
+    /// (where the mean free path changes by less than its tolerance) but never across sharp
+    /// interfaces. Indices past the last layer are ignored; the outer surface stays sharp.
+    pub fn with_smooth_boundaries(mut self, indices: impl IntoIterator<Item = usize>) -> Self {
+        let last = self.layers.len() - 1;
+        for index in indices {
+            if index < last {
+                self.sharp[index] = false;
+            }
+        }
+        self
+    }
+
+    /// Whether the boundary at the outer edge (sphere) or bottom (slab) of layer `index` is a
+    /// sharp material interface (see [`Medium::with_smooth_boundaries`]).
+    pub fn is_sharp_boundary(&self, index: usize) -> bool {
+        self.sharp.get(index).copied().unwrap_or(true)
     }
 
     /// The medium's name (may be empty).
