@@ -6,9 +6,60 @@ use std::time::Instant;
 use rayon::prelude::*;
 
 use crate::medium::Medium;
+use crate::tally::PhotonRecord;
 use crate::tally::Tally;
 use crate::transport::rng::photon_rng;
-use crate::transport::{DirectWalker, WalkLimits};
+use crate::transport::{AcceleratedWalker, Acceleration, DirectWalker, WalkLimits};
+
+/// How photons are walked.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Method {
+    /// Every flight and scattering simulated.
+    Direct,
+    /// Diffusion jumps wherever R₀ ≥ γ l_tr, direct steps elsewhere.
+    Accelerated,
+    /// The accelerated walker (identical photons to `direct` where no jump applies).
+    #[default]
+    Auto,
+}
+
+impl Method {
+    /// The method's name as written on the command line and in reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Method::Direct => "direct",
+            Method::Accelerated => "accelerated",
+            Method::Auto => "auto",
+        }
+    }
+}
+
+/// The walker a run uses.
+enum Walker {
+    Direct(DirectWalker),
+    Accelerated(AcceleratedWalker),
+}
+
+impl Walker {
+    fn new(medium: &Medium, config: &RunConfig) -> Self {
+        match config.method {
+            Method::Direct => Walker::Direct(DirectWalker::new(medium, config.limits)),
+            Method::Accelerated | Method::Auto => Walker::Accelerated(AcceleratedWalker::new(
+                medium,
+                config.limits,
+                config.acceleration,
+            )),
+        }
+    }
+
+    fn walk(&self, rng: &mut crate::transport::rng::PhotonRng) -> PhotonRecord {
+        match self {
+            Walker::Direct(walker) => walker.walk(rng),
+            Walker::Accelerated(walker) => walker.walk(rng),
+        }
+    }
+}
 
 /// What to run.
 #[derive(Debug, Clone, PartialEq)]
@@ -24,6 +75,10 @@ pub struct RunConfig {
     pub first_photon: u64,
     /// Per-photon limits.
     pub limits: WalkLimits,
+    /// Walk method.
+    pub method: Method,
+    /// Parameters of the accelerated walk (used by `Accelerated` and `Auto`).
+    pub acceleration: Acceleration,
 }
 
 impl Default for RunConfig {
@@ -34,6 +89,8 @@ impl Default for RunConfig {
             stream: 0,
             first_photon: 0,
             limits: WalkLimits::default(),
+            method: Method::default(),
+            acceleration: Acceleration::default(),
         }
     }
 }
@@ -62,7 +119,7 @@ pub fn run_with_progress(
     progress: &(dyn Fn(u64) + Sync),
 ) -> RunResult {
     let started = Instant::now();
-    let walker = DirectWalker::new(medium, config.limits);
+    let walker = Walker::new(medium, config);
     let mut tally = Tally::new();
     let end = config.first_photon + config.photons;
     let batch = (config.photons / 100).clamp(1_000, 1_000_000);

@@ -8,8 +8,8 @@ use clap::Args;
 use sojourn::medium::Medium;
 use sojourn::medium::model_file::{DEMO_MODEL_JSON, DEMO_MODEL_LABEL, load_model, parse_model};
 use sojourn::report::{RunReport, render_run_report};
-use sojourn::simulation::{RunConfig, run};
-use sojourn::transport::WalkLimits;
+use sojourn::simulation::{Method, RunConfig, run};
+use sojourn::transport::{Acceleration, WalkLimits};
 
 use super::output::write_text;
 
@@ -33,6 +33,52 @@ pub struct RunArgs {
     /// Free flights allowed per photon before it is counted as censored.
     #[arg(long, default_value_t = WalkLimits::default().max_steps, value_parser = clap::value_parser!(u64).range(1..))]
     max_steps: u64,
+    /// Walk method: `direct` (every scattering), `accelerated` (diffusion jumps deep inside
+    /// nearly uniform regions), `auto` (the accelerated walker; identical to direct where no
+    /// jump applies).
+    #[arg(long, value_enum, default_value_t = MethodArg::Auto)]
+    method: MethodArg,
+    /// Accelerated walk: jump only where the distance to the nearest interface is at least
+    /// GAMMA transport mean free paths.
+    #[arg(long, default_value_t = Acceleration::default().gamma, value_parser = positive_number)]
+    gamma: f64,
+    /// Accelerated walk: relative change of the mean free path allowed inside a jump sphere.
+    #[arg(long, default_value_t = Acceleration::default().epsilon, value_parser = positive_number)]
+    epsilon: f64,
+    /// Accelerated walk: do not tilt jump exits along the gradient of the diffusion
+    /// coefficient (for measuring the drift bias only).
+    #[arg(long)]
+    no_drift_correction: bool,
+}
+
+/// Walk methods on the command line.
+#[derive(Debug, Clone, Copy, clap::ValueEnum)]
+enum MethodArg {
+    Direct,
+    Accelerated,
+    Auto,
+}
+
+impl From<MethodArg> for Method {
+    fn from(method: MethodArg) -> Self {
+        match method {
+            MethodArg::Direct => Method::Direct,
+            MethodArg::Accelerated => Method::Accelerated,
+            MethodArg::Auto => Method::Auto,
+        }
+    }
+}
+
+/// Parses a finite number > 0.
+fn positive_number(text: &str) -> Result<f64, String> {
+    let value: f64 = text
+        .parse()
+        .map_err(|_| format!("{text:?} is not a number"))?;
+    if value.is_finite() && value > 0.0 {
+        Ok(value)
+    } else {
+        Err(format!("{value} is not a finite number > 0"))
+    }
 }
 
 fn load(args: &RunArgs) -> Result<(Medium, String)> {
@@ -53,6 +99,12 @@ pub fn execute(args: RunArgs) -> Result<()> {
         seed: args.seed,
         limits: WalkLimits {
             max_steps: args.max_steps,
+        },
+        method: args.method.into(),
+        acceleration: Acceleration {
+            gamma: args.gamma,
+            epsilon: args.epsilon,
+            drift_correction: !args.no_drift_correction,
         },
         ..RunConfig::default()
     };

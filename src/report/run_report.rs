@@ -5,7 +5,7 @@ use serde::Serialize;
 
 use crate::diffusion::{self, DiffusionEstimate};
 use crate::medium::{Geometry, Medium};
-use crate::simulation::{RunConfig, RunResult};
+use crate::simulation::{Method, RunConfig, RunResult};
 use crate::tally::{PathStats, Tally};
 
 /// Where the model came from and what it is.
@@ -227,6 +227,12 @@ pub struct Comparison {
 /// How the walk went: method, absorption treatment and cost.
 #[derive(Debug, Clone, Serialize)]
 pub struct WalkSummary {
+    /// Jump threshold γ in transport mean free paths (accelerated walks; null for direct).
+    pub gamma: Option<f64>,
+    /// Mean-free-path tolerance ε across a jump sphere (accelerated walks; null for direct).
+    pub epsilon: Option<f64>,
+    /// Whether jump exits were tilted along ∇D (accelerated walks; null for direct).
+    pub drift_correction: Option<bool>,
     /// Diffusion jumps per photon.
     pub jumps_per_photon: f64,
     /// Direct free flights per photon.
@@ -291,6 +297,7 @@ impl RunReport {
         let launched = tally.launched().max(1) as f64;
         let walk = tally.walk();
         let total_time = walk.total_time_s.value();
+        let accelerated = config.method != Method::Direct;
         let mut notes = vec!["absorption is analog: an absorbed photon ends its walk".to_string()];
         if medium.geometry() == Geometry::Sphere {
             notes.push(
@@ -317,7 +324,7 @@ impl RunReport {
                 length_unit: medium.display_unit().symbol().to_string(),
             },
             geometry: medium.geometry(),
-            method: "direct".to_string(),
+            method: config.method.name().to_string(),
             absorption: "analog".to_string(),
             photons: tally.launched(),
             seed: config.seed,
@@ -332,6 +339,9 @@ impl RunReport {
             diffusion: DiffusionSummary::from(&estimate),
             comparison,
             walk: WalkSummary {
+                gamma: accelerated.then_some(config.acceleration.gamma),
+                epsilon: accelerated.then_some(config.acceleration.epsilon),
+                drift_correction: accelerated.then_some(config.acceleration.drift_correction),
                 jumps_per_photon: walk.jumps.value() / launched,
                 direct_steps_per_photon: walk.direct_steps.value() / launched,
                 jump_time_fraction: if total_time > 0.0 {

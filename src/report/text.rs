@@ -161,6 +161,24 @@ pub fn render_run_report(report: &RunReport) -> String {
             format_significant(ks, 3)
         );
     }
+    let w = &report.walk;
+    if let (Some(gamma), Some(epsilon)) = (w.gamma, w.epsilon) {
+        let _ = writeln!(
+            out,
+            "Walk: {} jumps + {} direct flights per photon; jumps cover {:.1} % of the time (γ = {}, ε = {})",
+            format_significant(w.jumps_per_photon, 4),
+            format_significant(w.direct_steps_per_photon, 4),
+            100.0 * w.jump_time_fraction,
+            gamma,
+            epsilon
+        );
+    } else {
+        let _ = writeln!(
+            out,
+            "Walk: {} direct flights per photon",
+            format_significant(w.direct_steps_per_photon, 4)
+        );
+    }
     let _ = writeln!(out);
     for note in &report.notes {
         let _ = writeln!(out, "note: {note}");

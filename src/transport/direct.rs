@@ -48,13 +48,19 @@ struct LayerOptics {
 
 /// A photon in flight.
 #[derive(Debug, Clone)]
-struct Photon {
-    position: Vector3<f64>,
-    direction: Vector3<f64>,
-    layer: usize,
-    time_s: f64,
-    scatterings: f64,
-    steps: u64,
+pub(super) struct Photon {
+    /// Position, cm (sphere: centre at the origin; slab: z = depth below the top face).
+    pub(super) position: Vector3<f64>,
+    /// Unit direction of flight.
+    pub(super) direction: Vector3<f64>,
+    /// Index of the layer holding the photon.
+    pub(super) layer: usize,
+    /// Time since launch, s.
+    pub(super) time_s: f64,
+    /// Scatterings so far.
+    pub(super) scatterings: f64,
+    /// Free flights (and jumps) so far, counted against the step cap.
+    pub(super) steps: u64,
 }
 
 /// The direct Monte Carlo walker for one medium. Immutable and `Sync`: share it between
@@ -112,18 +118,9 @@ impl DirectWalker {
             if let Some(outcome) = self.fly(&mut photon, rng) {
                 break outcome;
             }
-            let layer = &self.layers[photon.layer];
-            if layer.albedo < 1.0 && rng.random::<f64>() >= layer.albedo {
-                break Outcome::Absorbed;
+            if let Some(outcome) = self.interact(&mut photon, rng) {
+                break outcome;
             }
-            photon.scatterings += 1.0;
-            photon.direction = match layer.phase {
-                PhaseFunction::Isotropic => direction::isotropic(rng),
-                phase => {
-                    let cos_theta = phase.sample_cosine(rng);
-                    direction::scatter(&photon.direction, cos_theta, rng)
-                }
-            };
         };
         PhotonRecord {
             outcome,
@@ -135,7 +132,40 @@ impl DirectWalker {
         }
     }
 
-    fn launch<R: Rng + ?Sized>(&self, rng: &mut R) -> Photon {
+    /// The per-photon limits.
+    pub(super) fn limits(&self) -> WalkLimits {
+        self.limits
+    }
+
+    /// Whether photons start with an isotropic direction (point sources).
+    pub(super) fn source_is_isotropic(&self) -> bool {
+        !matches!(self.source, Source::Beam { .. })
+    }
+
+    /// An interaction at the photon's position: absorption (returns the outcome) or a
+    /// scattering into a new direction drawn from the layer's phase function.
+    pub(super) fn interact<R: Rng + ?Sized>(
+        &self,
+        photon: &mut Photon,
+        rng: &mut R,
+    ) -> Option<Outcome> {
+        let layer = &self.layers[photon.layer];
+        if layer.albedo < 1.0 && rng.random::<f64>() >= layer.albedo {
+            return Some(Outcome::Absorbed);
+        }
+        photon.scatterings += 1.0;
+        photon.direction = match layer.phase {
+            PhaseFunction::Isotropic => direction::isotropic(rng),
+            phase => {
+                let cos_theta = phase.sample_cosine(rng);
+                direction::scatter(&photon.direction, cos_theta, rng)
+            }
+        };
+        None
+    }
+
+    /// A photon at the source, with its initial direction.
+    pub(super) fn launch<R: Rng + ?Sized>(&self, rng: &mut R) -> Photon {
         let (position, direction) = match self.source {
             Source::SpherePoint { radius_cm } => {
                 (Vector3::new(0.0, 0.0, radius_cm), direction::isotropic(rng))
@@ -161,7 +191,7 @@ impl DirectWalker {
     /// One free flight: spends a fresh exponential optical depth across layers. Returns the
     /// outcome if the photon leaves the medium (or can never interact), `None` at an
     /// interaction point.
-    fn fly<R: Rng + ?Sized>(&self, photon: &mut Photon, rng: &mut R) -> Option<Outcome> {
+    pub(super) fn fly<R: Rng + ?Sized>(&self, photon: &mut Photon, rng: &mut R) -> Option<Outcome> {
         let mut tau: f64 = rng.sample(Exp1);
         loop {
             let layer = &self.layers[photon.layer];

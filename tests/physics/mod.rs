@@ -1,6 +1,7 @@
 //! Checks of the physics against exact results and published values
 //! (../shared/REFERENCES.md).
 
+mod accelerated;
 mod exact_stepping;
 mod h_function;
 mod phase_functions;

@@ -3,9 +3,10 @@
 #![allow(dead_code)]
 
 pub mod chandrasekhar;
+pub mod profiles;
 
 use sojourn::medium::{Layer, Medium, Source};
-use sojourn::simulation::{RunConfig, RunResult, run};
+use sojourn::simulation::{Method, RunConfig, RunResult, run};
 use sojourn::transport::PhaseFunction;
 
 /// A layer with extinction `sigma` (1/cm), albedo `omega`, phase `phase`, index 1.
@@ -23,13 +24,19 @@ pub fn uniform_sphere(tau: f64) -> Medium {
     .expect("valid sphere")
 }
 
-/// Runs `photons` photons with `seed`.
+/// Runs `photons` photons with `seed` with the direct walker.
 pub fn run_photons(medium: &Medium, photons: u64, seed: u64) -> RunResult {
+    run_method(medium, photons, seed, Method::Direct)
+}
+
+/// Runs `photons` photons with `seed` and `method` (default acceleration settings).
+pub fn run_method(medium: &Medium, photons: u64, seed: u64, method: Method) -> RunResult {
     run(
         medium,
         &RunConfig {
             photons,
             seed,
+            method,
             ..RunConfig::default()
         },
     )
