@@ -3,7 +3,7 @@
 //! two-sample Kolmogorov–Smirnov distance between the two escape-time histograms with its
 //! p-value. Prints the table quoted in the README.
 //!
-//! `cargo run --release --example validate_acceleration [-- PHOTONS]`
+//! `cargo run --release --example validate_acceleration [-- PHOTONS [GAMMA [CASE]]]`
 
 #[path = "../tests/support/profiles.rs"]
 mod profiles;
@@ -12,7 +12,7 @@ use sojourn::diffusion::ks::{kolmogorov_p_value, two_sample_ks_binned};
 use sojourn::medium::{Layer, Medium, Source};
 use sojourn::simulation::{Method, RunConfig, run};
 use sojourn::tally::PathStats;
-use sojourn::transport::PhaseFunction;
+use sojourn::transport::{Acceleration, PhaseFunction};
 
 fn uniform(tau: f64, g: f64) -> Medium {
     let phase = if g == 0.0 {
@@ -31,11 +31,18 @@ fn two_zone() -> Medium {
     Medium::sphere(vec![(0.3, core), (3.3, envelope)], Source::centre()).expect("valid")
 }
 
-fn escapes(medium: &Medium, method: Method, photons: u64, seed: u64) -> (PathStats, f64) {
+fn escapes(
+    medium: &Medium,
+    method: Method,
+    photons: u64,
+    seed: u64,
+    acceleration: Acceleration,
+) -> (PathStats, f64) {
     let config = RunConfig {
         photons,
         seed,
         method,
+        acceleration,
         ..RunConfig::default()
     };
     let result = run(medium, &config);
@@ -48,6 +55,11 @@ fn main() {
         .nth(1)
         .and_then(|a| a.parse().ok())
         .unwrap_or(20_000);
+    let mut acceleration = Acceleration::default();
+    if let Some(gamma) = std::env::args().nth(2).and_then(|a| a.parse().ok()) {
+        acceleration.gamma = gamma;
+    }
+    let only: Option<usize> = std::env::args().nth(3).and_then(|a| a.parse().ok());
     let profile = profiles::exponential_sphere(600.0, 3.0, 1.0, 300);
     let cases: Vec<(String, Medium)> = vec![
         ("uniform sphere τ = 30".into(), uniform(30.0, 0.0)),
@@ -74,9 +86,13 @@ fn main() {
         "| model | direct mean (l/c units) | accelerated / direct | σ of ratio | KS distance | KS p-value | steps per photon direct → accelerated |"
     );
     println!("|---|---|---|---|---|---|---|");
-    for (name, medium) in cases {
-        let (direct, direct_steps) = escapes(&medium, Method::Direct, photons, 1);
-        let (fast, fast_steps) = escapes(&medium, Method::Accelerated, photons, 2);
+    println!("γ = {}, ε = {}", acceleration.gamma, acceleration.epsilon);
+    for (index, (name, medium)) in cases.into_iter().enumerate() {
+        if only.is_some_and(|wanted| wanted != index) {
+            continue;
+        }
+        let (direct, direct_steps) = escapes(&medium, Method::Direct, photons, 1, acceleration);
+        let (fast, fast_steps) = escapes(&medium, Method::Accelerated, photons, 2, acceleration);
         let (m1, e1) = (
             direct.time_s.mean().unwrap(),
             direct.time_s.std_error().unwrap(),

@@ -54,7 +54,7 @@ impl Default for Acceleration {
     /// Defaults chosen by measurement (README, "Accelerated walk").
     fn default() -> Self {
         Self {
-            gamma: 5.0,
+            gamma: 10.0,
             epsilon: 0.1,
             drift_correction: true,
         }

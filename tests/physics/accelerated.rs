@@ -158,8 +158,8 @@ fn very_deep_uniform_spheres_follow_diffusion() {
 #[test]
 fn cost_grows_like_log_tau() {
     // Source at R/2: the walk approaches the surface in jumps that shrink geometrically, so
-    // the number of jumps plus flights per photon grows like log τ. Measured: ≈ 50 at 10³,
-    // ≈ 186 at 10¹². Asserted: from τ = 10³ to 10¹² (log τ × 4) the cost grows less than 6×.
+    // the number of jumps plus flights per photon grows like log τ. Measured (γ = 10): ≈ 91 at 10³,
+    // ≈ 227 at 10¹². Asserted: from τ = 10³ to 10¹² (log τ × 4) the cost grows less than 6×.
     let cost = |tau: f64| {
         let medium = Medium::sphere(
             vec![(1.0, layer(tau, 1.0, PhaseFunction::Isotropic))],
