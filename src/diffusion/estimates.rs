@@ -265,16 +265,42 @@ fn slab_residence(layers: &[DiffusionLayer], z0: f64) -> Residence {
     residence
 }
 
-/// Slab residence for the medium's source: a point source at its depth, or for a beam the
-/// average over the exponential distribution of first-collision depths (plus the flight time
-/// to that depth), with the uncollided photons leaving ballistically.
+/// Slab residence for the medium's source: a point or plane source at its depth; for a beam
+/// the average over the exponential distribution of first-collision depths (plus the flight
+/// time to that depth), with the uncollided photons leaving ballistically; for diffuse
+/// illumination the beam average over cosine-weighted incidence (16 nodes, midpoint rule
+/// in μ²). Refraction at the entry face is not modelled here.
 fn slab_source_average(medium: &Medium, layers: &[DiffusionLayer]) -> Residence {
-    let polar_angle_deg = match medium.source() {
-        Source::SlabPoint { depth_cm } => return slab_residence(layers, depth_cm),
-        Source::Beam { polar_angle_deg } => polar_angle_deg,
-        Source::SpherePoint { .. } => 0.0,
-    };
-    let mu0 = polar_angle_deg.to_radians().cos();
+    match medium.source() {
+        Source::SlabPoint { depth_cm } | Source::SlabPlane { depth_cm } => {
+            slab_residence(layers, depth_cm)
+        }
+        Source::Beam { polar_angle_deg } => {
+            beam_average(medium, layers, polar_angle_deg.to_radians().cos())
+        }
+        Source::Diffuse => {
+            let nodes = 16;
+            let mut average = Residence {
+                per_layer_s: vec![0.0; layers.len()],
+                ..Residence::default()
+            };
+            for k in 0..nodes {
+                let mu0 = ((k as f64 + 0.5) / nodes as f64).sqrt();
+                let part = beam_average(medium, layers, mu0);
+                average.time_s += part.time_s / nodes as f64;
+                average.scatterings += part.scatterings / nodes as f64;
+                for (sum, value) in average.per_layer_s.iter_mut().zip(&part.per_layer_s) {
+                    *sum += value / nodes as f64;
+                }
+            }
+            average
+        }
+        Source::SpherePoint { .. } => beam_average(medium, layers, 1.0),
+    }
+}
+
+/// Slab residence for a collimated beam entering at direction cosine `mu0`.
+fn beam_average(medium: &Medium, layers: &[DiffusionLayer], mu0: f64) -> Residence {
     // Depth, time and layer at a given slant optical depth along the beam.
     let slant = |tau_target: f64| -> Option<(f64, f64)> {
         let mut tau = 0.0;

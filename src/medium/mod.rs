@@ -43,6 +43,15 @@ pub enum Source {
         /// Depth below the top face, cm.
         depth_cm: f64,
     },
+    /// Slab: isotropic plane source at `depth_cm` below the top face (photons start at
+    /// x = y = 0: in a laterally unbounded slab every result but the radial distribution is
+    /// the same as for a point source).
+    SlabPlane {
+        /// Depth below the top face, cm.
+        depth_cm: f64,
+    },
+    /// Slab: diffuse (Lambertian) illumination of the top face from the ambient medium.
+    Diffuse,
 }
 
 impl Source {
@@ -70,7 +79,8 @@ pub struct Medium {
     /// For each boundary (outer edge of layer i), whether it is a sharp interface between
     /// different materials (`true`) or an internal division of a smooth profile (`false`).
     sharp: Vec<bool>,
-    ambient_index: f64,
+    ambient_above: f64,
+    ambient_below: f64,
     source: Source,
     source_layer: usize,
     display_unit: LengthUnit,
@@ -123,7 +133,8 @@ impl Medium {
             sharp: vec![true; layers.len()],
             layers,
             boundaries_cm,
-            ambient_index: 1.0,
+            ambient_above: 1.0,
+            ambient_below: 1.0,
             source,
             source_layer,
             display_unit: LengthUnit::Cm,
@@ -178,7 +189,8 @@ impl Medium {
                 }
                 0
             }
-            Source::SlabPoint { depth_cm } => {
+            Source::Diffuse => 0,
+            Source::SlabPoint { depth_cm } | Source::SlabPlane { depth_cm } => {
                 if !(depth_cm.is_finite() && (0.0..=total).contains(&depth_cm)) {
                     return Err(MediumError::value(
                         "source.depth",
@@ -204,7 +216,8 @@ impl Medium {
             sharp: vec![true; layers.len()],
             layers,
             boundaries_cm,
-            ambient_index,
+            ambient_above: ambient_index,
+            ambient_below: ambient_index,
             source,
             source_layer,
             display_unit: LengthUnit::Cm,
@@ -279,9 +292,45 @@ impl Medium {
         *self.boundaries_cm.last().expect("a medium has layers")
     }
 
-    /// Refractive index of the surroundings.
-    pub fn ambient_index(&self) -> f64 {
-        self.ambient_index
+    /// Refractive index of the medium above a slab (the side the beam comes from); 1 for a
+    /// sphere.
+    pub fn ambient_above(&self) -> f64 {
+        self.ambient_above
+    }
+
+    /// Refractive index of the medium below a slab; 1 for a sphere.
+    pub fn ambient_below(&self) -> f64 {
+        self.ambient_below
+    }
+
+    /// The same slab with a different refractive index below it (≥ 1).
+    ///
+    /// # Errors
+    /// [`MediumError::InvalidValue`] for an index below 1 or not finite, or for a sphere.
+    pub fn with_ambient_below(mut self, index: f64) -> Result<Self, MediumError> {
+        if self.geometry != Geometry::Slab || !(index.is_finite() && index >= 1.0) {
+            return Err(MediumError::value(
+                "ambient_index.below",
+                index,
+                Quantity::Dimensionless,
+                "a finite number >= 1, for a slab",
+            ));
+        }
+        self.ambient_below = index;
+        Ok(self)
+    }
+
+    /// Whether any interface of the slab (faces included) joins different refractive
+    /// indices.
+    pub fn has_index_mismatch(&self) -> bool {
+        let mut previous = self.ambient_above;
+        for layer in &self.layers {
+            if layer.refractive_index() != previous {
+                return true;
+            }
+            previous = layer.refractive_index();
+        }
+        previous != self.ambient_below
     }
 
     /// The photon source.

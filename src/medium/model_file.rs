@@ -92,8 +92,24 @@ struct ModelSpec {
     #[serde(default)]
     length_unit: LengthUnit,
     layers: Vec<LayerSpec>,
-    ambient_index: Option<f64>,
+    ambient_index: Option<AmbientSpec>,
     source: Option<SourceSpec>,
+}
+
+/// The ambient refractive index: one number for both sides, or each side apart.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(untagged)]
+enum AmbientSpec {
+    Both(f64),
+    Sides(AmbientSides),
+}
+
+/// Refractive indices above and below a slab.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct AmbientSides {
+    above: f64,
+    below: f64,
 }
 
 /// One layer, as written.
@@ -127,7 +143,9 @@ enum PhaseSpec {
 #[serde(rename_all = "snake_case")]
 enum SourceKind {
     Point,
+    Plane,
     Beam,
+    Diffuse,
 }
 
 /// The source, as written.
@@ -280,17 +298,40 @@ fn build_medium(spec: &ModelSpec) -> Result<Medium, MediumError> {
     let source = build_source(spec.source.as_ref(), spec.geometry, to_cm)?;
     let medium = match spec.geometry {
         GeometrySpec::Sphere => {
-            if let Some(index) = spec.ambient_index {
-                return Err(MediumError::value(
-                    "ambient_index",
-                    index,
-                    Quantity::Dimensionless,
-                    "no ambient index for a sphere (slabs only)",
-                ));
+            if spec.ambient_index.is_some() {
+                return Err(MediumError::Invalid {
+                    field: "ambient_index".into(),
+                    problem: "no ambient index for a sphere (slabs only)".into(),
+                });
             }
             Medium::sphere(items, source)?
         }
-        GeometrySpec::Slab => Medium::slab(items, spec.ambient_index.unwrap_or(1.0), source)?,
+        GeometrySpec::Slab => {
+            let (above, below) = match &spec.ambient_index {
+                None => (1.0, 1.0),
+                Some(AmbientSpec::Both(index)) => (*index, *index),
+                Some(AmbientSpec::Sides(sides)) => (sides.above, sides.below),
+            };
+            Medium::slab(items, above, source)
+                .map_err(|error| match (&spec.ambient_index, error) {
+                    (
+                        Some(AmbientSpec::Sides(_)),
+                        MediumError::InvalidValue {
+                            field,
+                            value,
+                            quantity,
+                            expected,
+                        },
+                    ) if field == "ambient_index" => MediumError::InvalidValue {
+                        field: "ambient_index.above".into(),
+                        value,
+                        quantity,
+                        expected,
+                    },
+                    (_, error) => error,
+                })?
+                .with_ambient_below(below)?
+        }
     };
     Ok(medium
         .with_name(spec.name.clone().unwrap_or_default())
@@ -493,19 +534,40 @@ fn build_source(
                 polar_angle_deg: spec.polar_angle_deg.unwrap_or(0.0),
             })
         }
-        (GeometrySpec::Slab, SourceKind::Point) => {
+        (GeometrySpec::Slab, SourceKind::Point | SourceKind::Plane) => {
             if spec.radius.is_some() || spec.polar_angle_deg.is_some() {
                 return Err(unexpected(
                     "radius",
-                    "a slab's point source takes only \"depth\"",
+                    "a slab's point or plane source takes only \"depth\"",
                 ));
             }
             let depth = spec.depth.ok_or_else(|| {
-                unexpected("depth", "missing: a slab's point source needs \"depth\"")
+                unexpected(
+                    "depth",
+                    "missing: a slab's point or plane source needs \"depth\"",
+                )
             })?;
-            Ok(Source::SlabPoint {
-                depth_cm: depth * to_cm,
+            Ok(if spec.kind == SourceKind::Plane {
+                Source::SlabPlane {
+                    depth_cm: depth * to_cm,
+                }
+            } else {
+                Source::SlabPoint {
+                    depth_cm: depth * to_cm,
+                }
             })
+        }
+        (GeometrySpec::Slab, SourceKind::Diffuse) => {
+            if spec.radius.is_some() || spec.polar_angle_deg.is_some() || spec.depth.is_some() {
+                return Err(unexpected(
+                    "kind",
+                    "diffuse illumination takes no other field",
+                ));
+            }
+            Ok(Source::Diffuse)
+        }
+        (GeometrySpec::Sphere, SourceKind::Plane | SourceKind::Diffuse) => {
+            Err(unexpected("kind", "a sphere takes only \"point\" sources"))
         }
     }
 }

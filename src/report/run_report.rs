@@ -28,8 +28,11 @@ pub struct ModelSummary {
 pub struct OutcomeFractions {
     /// Left a sphere.
     pub escaped: Option<f64>,
-    /// Left a slab through the top face (diffuse reflectance).
+    /// Left a slab through the top face after entering it (diffuse reflectance).
     pub reflected: Option<f64>,
+    /// Reflected by the top face before entering (specular reflectance of the incident
+    /// light; 0 for matched indices and for internal sources).
+    pub specular: Option<f64>,
     /// Left a slab through the bottom face (total transmittance, unscattered included).
     pub transmitted: Option<f64>,
     /// Absorbed inside.
@@ -47,6 +50,8 @@ pub struct OutcomeStderr {
     pub escaped: Option<f64>,
     /// Of `reflected`.
     pub reflected: Option<f64>,
+    /// Of `specular`.
+    pub specular: Option<f64>,
     /// Of `transmitted`.
     pub transmitted: Option<f64>,
     /// Of `absorbed`.
@@ -360,18 +365,21 @@ impl RunReport {
 fn outcome_fractions(tally: &Tally, is_slab: bool) -> OutcomeFractions {
     let (escaped, escaped_err) = tally.fraction(tally.escaped());
     let (reflected, reflected_err) = tally.fraction(tally.reflected());
+    let (specular, specular_err) = tally.fraction(tally.specular());
     let (transmitted, transmitted_err) = tally.fraction(tally.transmitted());
     let (absorbed, absorbed_err) = tally.fraction(tally.absorbed());
     let (censored, censored_err) = tally.fraction(tally.censored());
     OutcomeFractions {
         escaped: (!is_slab).then_some(escaped),
         reflected: is_slab.then_some(reflected),
+        specular: is_slab.then_some(specular),
         transmitted: is_slab.then_some(transmitted),
         absorbed,
         censored,
         stderr: OutcomeStderr {
             escaped: (!is_slab).then_some(escaped_err),
             reflected: is_slab.then_some(reflected_err),
+            specular: is_slab.then_some(specular_err),
             transmitted: is_slab.then_some(transmitted_err),
             absorbed: absorbed_err,
             censored: censored_err,

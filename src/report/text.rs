@@ -63,6 +63,13 @@ pub fn render_run_report(report: &RunReport) -> String {
     if let (Some(v), Some(e)) = (o.reflected, o.stderr.reflected) {
         let _ = writeln!(out, "  reflected    {}   (diffuse)", fraction(v, e));
     }
+    if let (Some(v), Some(e)) = (o.specular, o.stderr.specular) {
+        let _ = writeln!(
+            out,
+            "  specular     {}   (reflected before entering)",
+            fraction(v, e)
+        );
+    }
     if let (Some(v), Some(e)) = (o.transmitted, o.stderr.transmitted) {
         let _ = writeln!(
             out,

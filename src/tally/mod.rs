@@ -22,8 +22,12 @@ use serde::{Deserialize, Serialize};
 pub enum Outcome {
     /// Left a sphere through its surface.
     Escaped,
-    /// Left a slab through its top face (the face the beam enters).
+    /// Left a slab through its top face (the face the beam enters) after entering it:
+    /// diffuse reflection.
     Reflected,
+    /// Reflected by the top face of a slab before entering it (Fresnel reflection of the
+    /// incident beam or diffuse illumination).
+    Specular,
     /// Left a slab through its bottom face.
     Transmitted,
     /// Absorbed inside the medium.
@@ -47,6 +51,12 @@ pub struct PhotonRecord {
     pub direct_steps: f64,
     /// Part of `time_s` covered by diffusion jumps, s.
     pub jump_time_s: f64,
+    /// Final position, cm (where it left or was absorbed).
+    pub position_cm: [f64; 3],
+    /// Final direction of flight (outside the medium for photons that left it).
+    pub direction: [f64; 3],
+    /// Layer holding the photon at the end (for absorbed photons: where it was absorbed).
+    pub layer: usize,
 }
 
 /// Time and scattering statistics of the photons that ended one way.
@@ -125,6 +135,8 @@ pub struct Tally {
     launched: u64,
     escaped: PathStats,
     reflected: PathStats,
+    #[serde(default)]
+    specular: PathStats,
     transmitted: PathStats,
     absorbed: PathStats,
     censored: PathStats,
@@ -143,6 +155,7 @@ impl Tally {
         let stats = match record.outcome {
             Outcome::Escaped => &mut self.escaped,
             Outcome::Reflected => &mut self.reflected,
+            Outcome::Specular => &mut self.specular,
             Outcome::Transmitted => &mut self.transmitted,
             Outcome::Absorbed => &mut self.absorbed,
             Outcome::Censored => &mut self.censored,
@@ -159,6 +172,7 @@ impl Tally {
         self.launched += other.launched;
         self.escaped.merge(&other.escaped);
         self.reflected.merge(&other.reflected);
+        self.specular.merge(&other.specular);
         self.transmitted.merge(&other.transmitted);
         self.absorbed.merge(&other.absorbed);
         self.censored.merge(&other.censored);
@@ -183,6 +197,7 @@ impl Tally {
         for stats in [
             &mut self.escaped,
             &mut self.reflected,
+            &mut self.specular,
             &mut self.transmitted,
             &mut self.absorbed,
             &mut self.censored,
@@ -193,10 +208,11 @@ impl Tally {
         ok && counted == self.launched
     }
 
-    fn path_stats(&self) -> [&PathStats; 5] {
+    fn path_stats(&self) -> [&PathStats; 6] {
         [
             &self.escaped,
             &self.reflected,
+            &self.specular,
             &self.transmitted,
             &self.absorbed,
             &self.censored,
@@ -216,6 +232,11 @@ impl Tally {
     /// Photons that left a slab through the top face.
     pub fn reflected(&self) -> &PathStats {
         &self.reflected
+    }
+
+    /// Photons reflected by the top face before entering (specular reflection).
+    pub fn specular(&self) -> &PathStats {
+        &self.specular
     }
 
     /// Photons that left a slab through the bottom face.

@@ -110,7 +110,10 @@ impl AcceleratedWalker {
     /// Where no jump applies it draws exactly the random numbers of the direct walker, so
     /// both give identical photons in media too thin for jumps.
     pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
-        let mut photon = self.direct.launch(rng);
+        let (mut photon, reflected_at_entry) = self.direct.launch(rng);
+        if reflected_at_entry {
+            return photon.record(Outcome::Specular, 0.0, 0.0, 0.0);
+        }
         let max_steps = self.direct.limits().max_steps;
         let mut isotropic = self.direct.source_is_isotropic();
         let (mut jumps, mut jump_time_s, mut flights) = (0.0, 0.0, 0.0);
@@ -140,14 +143,7 @@ impl AcceleratedWalker {
             }
             isotropic = true;
         };
-        PhotonRecord {
-            outcome,
-            time_s: photon.time_s,
-            scatterings: photon.scatterings,
-            jumps,
-            direct_steps: flights,
-            jump_time_s,
-        }
+        photon.record(outcome, jumps, flights, jump_time_s)
     }
 
     /// Radius of the jump sphere at the photon's position, if a jump applies there.

@@ -11,6 +11,7 @@ use rand::{Rng, RngExt};
 use rand_distr::Exp1;
 
 use super::direction;
+use super::fresnel::{fresnel_reflectance, refract_across_z};
 use super::geometry::{Exit, plane_exit, segment_inside_shell, shell_exit};
 use super::phase::PhaseFunction;
 use crate::medium::{Geometry, Medium, Source};
@@ -40,6 +41,8 @@ struct LayerOptics {
     phase: PhaseFunction,
     /// n / c, s/cm: time per unit path length.
     slowness_s_cm: f64,
+    /// Refractive index n.
+    refractive_index: f64,
     /// Inner radius squared (sphere) or top depth (slab), cm² or cm.
     inner: f64,
     /// Outer radius squared (sphere) or bottom depth (slab), cm² or cm.
@@ -63,6 +66,29 @@ pub(super) struct Photon {
     pub(super) steps: u64,
 }
 
+impl Photon {
+    /// The record of this photon ending with `outcome`.
+    pub(super) fn record(
+        &self,
+        outcome: Outcome,
+        jumps: f64,
+        direct_steps: f64,
+        jump_time_s: f64,
+    ) -> PhotonRecord {
+        PhotonRecord {
+            outcome,
+            time_s: self.time_s,
+            scatterings: self.scatterings,
+            jumps,
+            direct_steps,
+            jump_time_s,
+            position_cm: [self.position.x, self.position.y, self.position.z],
+            direction: [self.direction.x, self.direction.y, self.direction.z],
+            layer: self.layer,
+        }
+    }
+}
+
 /// The direct Monte Carlo walker for one medium. Immutable and `Sync`: share it between
 /// threads and give each photon its own random stream.
 #[derive(Debug, Clone)]
@@ -72,6 +98,11 @@ pub struct DirectWalker {
     source: Source,
     source_layer: usize,
     limits: WalkLimits,
+    /// Refractive index above and below a slab.
+    ambient_above: f64,
+    ambient_below: f64,
+    /// Whether any slab interface joins different indices (Fresnel checks needed).
+    index_mismatch: bool,
 }
 
 impl DirectWalker {
@@ -93,6 +124,7 @@ impl DirectWalker {
                     albedo: layer.albedo(),
                     phase: *layer.phase(),
                     slowness_s_cm: layer.refractive_index() / SPEED_OF_LIGHT_CM_S,
+                    refractive_index: layer.refractive_index(),
                     inner,
                     outer,
                 }
@@ -104,32 +136,32 @@ impl DirectWalker {
             source: medium.source(),
             source_layer: medium.source_layer(),
             limits,
+            ambient_above: medium.ambient_above(),
+            ambient_below: medium.ambient_below(),
+            index_mismatch: geometry == Geometry::Slab && medium.has_index_mismatch(),
         }
     }
 
     /// Follows one photon from the source until it leaves, is absorbed or hits the step cap.
     pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
-        let mut photon = self.launch(rng);
-        let outcome = loop {
-            if photon.steps >= self.limits.max_steps {
-                break Outcome::Censored;
-            }
-            photon.steps += 1;
-            if let Some(outcome) = self.fly(&mut photon, rng) {
-                break outcome;
-            }
-            if let Some(outcome) = self.interact(&mut photon, rng) {
-                break outcome;
+        let (mut photon, reflected_at_entry) = self.launch(rng);
+        let outcome = if reflected_at_entry {
+            Outcome::Specular
+        } else {
+            loop {
+                if photon.steps >= self.limits.max_steps {
+                    break Outcome::Censored;
+                }
+                photon.steps += 1;
+                if let Some(outcome) = self.fly(&mut photon, rng) {
+                    break outcome;
+                }
+                if let Some(outcome) = self.interact(&mut photon, rng) {
+                    break outcome;
+                }
             }
         };
-        PhotonRecord {
-            outcome,
-            time_s: photon.time_s,
-            scatterings: photon.scatterings,
-            jumps: 0.0,
-            direct_steps: photon.steps as f64,
-            jump_time_s: 0.0,
-        }
+        photon.record(outcome, 0.0, photon.steps as f64, 0.0)
     }
 
     /// The per-photon limits.
@@ -137,9 +169,9 @@ impl DirectWalker {
         self.limits
     }
 
-    /// Whether photons start with an isotropic direction (point sources).
+    /// Whether photons start with an isotropic direction (point and plane sources).
     pub(super) fn source_is_isotropic(&self) -> bool {
-        !matches!(self.source, Source::Beam { .. })
+        !matches!(self.source, Source::Beam { .. } | Source::Diffuse)
     }
 
     /// An interaction at the photon's position: absorption (returns the outcome) or a
@@ -164,28 +196,72 @@ impl DirectWalker {
         None
     }
 
-    /// A photon at the source, with its initial direction.
-    pub(super) fn launch<R: Rng + ?Sized>(&self, rng: &mut R) -> Photon {
-        let (position, direction) = match self.source {
+    /// A photon at the source, with its initial direction, and whether it was reflected
+    /// specularly at the top face before entering (beam and diffuse sources).
+    pub(super) fn launch<R: Rng + ?Sized>(&self, rng: &mut R) -> (Photon, bool) {
+        let (position, incoming) = match self.source {
             Source::SpherePoint { radius_cm } => {
                 (Vector3::new(0.0, 0.0, radius_cm), direction::isotropic(rng))
             }
-            Source::SlabPoint { depth_cm } => {
+            Source::SlabPoint { depth_cm } | Source::SlabPlane { depth_cm } => {
                 (Vector3::new(0.0, 0.0, depth_cm), direction::isotropic(rng))
             }
             Source::Beam { polar_angle_deg } => {
                 let (sin, cos) = polar_angle_deg.to_radians().sin_cos();
                 (Vector3::zeros(), Vector3::new(sin, 0.0, cos))
             }
+            Source::Diffuse => {
+                // Lambertian illumination: cosine-weighted directions, μ = sqrt(ξ).
+                let mu = rng.random::<f64>().sqrt();
+                let down = Vector3::new(0.0, 0.0, 1.0);
+                (Vector3::zeros(), direction::scatter(&down, mu, rng))
+            }
         };
-        Photon {
+        let mut photon = Photon {
             position,
-            direction,
+            direction: incoming,
             layer: self.source_layer,
             time_s: 0.0,
             scatterings: 0.0,
             steps: 0,
+        };
+        let entering = matches!(self.source, Source::Beam { .. } | Source::Diffuse);
+        let first = self.layers[0].refractive_index;
+        if entering && self.ambient_above != first {
+            let reflectance = fresnel_reflectance(incoming.z, self.ambient_above, first);
+            if rng.random::<f64>() < reflectance {
+                photon.direction.z = -incoming.z;
+                return (photon, true);
+            }
+            photon.direction = refract_across_z(&incoming, self.ambient_above, first);
         }
+        (photon, false)
+    }
+
+    /// At a slab interface reached through `exit`: Fresnel reflection (the photon turns
+    /// back and stays in its layer; returns `true`) or Snell refraction into the next
+    /// medium (returns `false`). Analog: reflection is chosen with probability R, which is
+    /// unbiased. Draws a random number only where the indices differ.
+    fn reflects<R: Rng + ?Sized>(&self, photon: &mut Photon, exit: Exit, rng: &mut R) -> bool {
+        let here = self.layers[photon.layer].refractive_index;
+        let there = match exit {
+            Exit::Next => self
+                .layers
+                .get(photon.layer + 1)
+                .map_or(self.ambient_below, |l| l.refractive_index),
+            Exit::Previous if photon.layer == 0 => self.ambient_above,
+            Exit::Previous => self.layers[photon.layer - 1].refractive_index,
+        };
+        if here == there {
+            return false;
+        }
+        let reflectance = fresnel_reflectance(photon.direction.z.abs(), here, there);
+        if reflectance >= 1.0 || rng.random::<f64>() < reflectance {
+            photon.direction.z = -photon.direction.z;
+            return true;
+        }
+        photon.direction = refract_across_z(&photon.direction, here, there);
+        false
     }
 
     /// One free flight: spends a fresh exponential optical depth across layers. Returns the
@@ -237,6 +313,9 @@ impl DirectWalker {
             tau -= tau_to_exit;
             photon.position += distance * photon.direction;
             photon.time_s += distance * layer.slowness_s_cm;
+            if self.index_mismatch && self.reflects(photon, exit, rng) {
+                continue;
+            }
             match exit {
                 Exit::Next if photon.layer + 1 == self.layers.len() => {
                     return Some(match self.geometry {

@@ -4,6 +4,7 @@ mod accelerated;
 pub mod crossing;
 mod direct;
 pub mod direction;
+pub mod fresnel;
 mod geometry;
 mod phase;
 pub mod rng;

@@ -72,17 +72,13 @@ fn two_zone_sphere_matches_direct() {
 
 #[test]
 fn smooth_profile_matches_direct() {
-    // σ ∝ e^(−3r/R), τ = 190, as 300 smooth shells; ε = 0.3 so that jumps do happen at
-    // this modest depth.
+    // σ ∝ e^(−3r/R), τ = 190, as 300 smooth shells, default γ and ε: jumps happen in the
+    // inner, most opaque part.
     let medium = exponential_sphere(600.0, 3.0, 1.0, 300);
     let config = |method, seed| RunConfig {
         photons: 4_000,
         seed,
         method,
-        acceleration: Acceleration {
-            epsilon: 0.3,
-            ..Acceleration::default()
-        },
         ..RunConfig::default()
     };
     let direct = run(&medium, &config(Method::Direct, 63))
