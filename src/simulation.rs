@@ -6,8 +6,8 @@ use std::time::Instant;
 use rayon::prelude::*;
 
 use crate::medium::Medium;
-use crate::tally::PhotonRecord;
 use crate::tally::Tally;
+use crate::tally::{PhotonRecord, ResolvedLayout};
 use crate::transport::rng::photon_rng;
 use crate::transport::{AcceleratedWalker, Acceleration, DirectWalker, WalkLimits};
 
@@ -79,6 +79,8 @@ pub struct RunConfig {
     pub method: Method,
     /// Parameters of the accelerated walk (used by `Accelerated` and `Auto`).
     pub acceleration: Acceleration,
+    /// Resolved slab tallies to keep (time of flight, depth, angle, radius), if any.
+    pub resolved: Option<ResolvedLayout>,
 }
 
 impl Default for RunConfig {
@@ -91,6 +93,7 @@ impl Default for RunConfig {
             limits: WalkLimits::default(),
             method: Method::default(),
             acceleration: Acceleration::default(),
+            resolved: None,
         }
     }
 }
@@ -120,7 +123,7 @@ pub fn run_with_progress(
 ) -> RunResult {
     let started = Instant::now();
     let walker = Walker::new(medium, config);
-    let mut tally = Tally::new();
+    let mut tally = Tally::with_resolved(config.resolved);
     let end = config.first_photon + config.photons;
     let batch = (config.photons / 100).clamp(1_000, 1_000_000);
     let mut start = config.first_photon;
@@ -128,15 +131,21 @@ pub fn run_with_progress(
         let stop = (start + batch).min(end);
         let part = (start..stop)
             .into_par_iter()
-            .fold(Tally::new, |mut tally, photon| {
-                let mut rng = photon_rng(config.seed, config.stream, photon);
-                tally.record(&walker.walk(&mut rng));
-                tally
-            })
-            .reduce(Tally::new, |mut a, b| {
-                a.merge(&b);
-                a
-            });
+            .fold(
+                || Tally::with_resolved(config.resolved),
+                |mut tally, photon| {
+                    let mut rng = photon_rng(config.seed, config.stream, photon);
+                    tally.record(&walker.walk(&mut rng));
+                    tally
+                },
+            )
+            .reduce(
+                || Tally::with_resolved(config.resolved),
+                |mut a, b| {
+                    a.merge(&b);
+                    a
+                },
+            );
         tally.merge(&part);
         start = stop;
         progress(start - config.first_photon);

@@ -5,8 +5,9 @@ use std::path::PathBuf;
 use anyhow::{Context, Result};
 use clap::Args;
 
-use sojourn::medium::Medium;
 use sojourn::medium::model_file::{DEMO_MODEL_JSON, DEMO_MODEL_LABEL, load_model, parse_model};
+use sojourn::medium::{Geometry, Medium};
+use sojourn::report::slab_optics::resolved_layout;
 use sojourn::report::{RunReport, render_run_report};
 use sojourn::simulation::{Method, RunConfig, run};
 use sojourn::transport::{Acceleration, WalkLimits};
@@ -49,6 +50,21 @@ pub struct RunArgs {
     /// coefficient (for measuring the drift bias only).
     #[arg(long)]
     no_drift_correction: bool,
+    /// Slabs: keep resolved tallies (time of flight of reflected and transmitted light,
+    /// absorption by layer and depth, exit angles, radial reflectance) and put them, with
+    /// the diffusion curves on the same bins, in the JSON report.
+    #[arg(long)]
+    resolve: bool,
+    /// With --resolve: width of a time-of-flight bin in picoseconds (default: 200 bins over
+    /// the longer of 4 diffusion mean times and 8 diffusion decay times).
+    #[arg(long, value_parser = positive_number, requires = "resolve")]
+    tof_bin_ps: Option<f64>,
+    /// With --resolve: number of time-of-flight bins.
+    #[arg(long, default_value_t = 200, value_parser = clap::value_parser!(u64).range(1..=100_000))]
+    tof_bins: u64,
+    /// With --resolve: number of exit-cosine bins.
+    #[arg(long, default_value_t = 20, value_parser = clap::value_parser!(u64).range(1..=10_000))]
+    cosine_bins: u64,
 }
 
 /// Walk methods on the command line.
@@ -94,6 +110,17 @@ fn load(args: &RunArgs) -> Result<(Medium, String)> {
 /// Runs the subcommand.
 pub fn execute(args: RunArgs) -> Result<()> {
     let (medium, file) = load(&args)?;
+    if args.resolve && medium.geometry() != Geometry::Slab {
+        anyhow::bail!("{file}: --resolve is for slabs; this model is a sphere");
+    }
+    let resolved = args.resolve.then(|| {
+        resolved_layout(
+            &medium,
+            args.tof_bin_ps.map(|ps| ps * 1e-12),
+            args.tof_bins as usize,
+            args.cosine_bins as usize,
+        )
+    });
     let config = RunConfig {
         photons: args.photons,
         seed: args.seed,
@@ -106,6 +133,7 @@ pub fn execute(args: RunArgs) -> Result<()> {
             epsilon: args.epsilon,
             drift_correction: !args.no_drift_correction,
         },
+        resolved,
         ..RunConfig::default()
     };
     let mut pool = rayon::ThreadPoolBuilder::new();

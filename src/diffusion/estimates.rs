@@ -7,7 +7,9 @@
 //!   (../shared/REFERENCES.md item 3); for a uniform sphere R² / (2 l c), i.e. N = τ²/2.
 //! * The same with the Milne extrapolated boundary: the surface moved out by
 //!   q∞ = 0.7104461 transport mean free paths of the outermost layer (a slab: both faces),
-//!   which for a uniform sphere gives N = (τ + q∞)² / 2.
+//!   which for a uniform sphere gives N = (τ + q∞)² / 2. A slab face between different
+//!   refractive indices is moved out by (2/3) A l_tr instead, A from the index ratio
+//!   (Haskell et al. 1994).
 //!
 //! Everything is computed in closed form per layer through the diffusion Green's function, so
 //! the residence time of each layer is available too. Absorption enters only through D: these
@@ -144,7 +146,25 @@ fn extrapolation_layer(medium: &Medium, index: usize, outward: bool) -> Option<D
     if transport <= 0.0 {
         return None;
     }
-    let length = MILNE_EXTRAPOLATION_LENGTH / transport;
+    let outside = match (medium.geometry(), outward) {
+        (Geometry::Sphere, _) => 1.0,
+        (Geometry::Slab, true) => medium.ambient_below(),
+        (Geometry::Slab, false) => medium.ambient_above(),
+    };
+    let relative_index = layer.refractive_index() / outside;
+    // Matched faces: the Milne length q∞ l_tr. A refractive face reflects part of the
+    // diffuse light back: z_e = (2/3) A l_tr with A from the index ratio (Haskell et al.
+    // 1994, JOSA A 11:2727); for n_rel < 1 the fit does not apply and A = 1 is used.
+    let length = if relative_index == 1.0 {
+        MILNE_EXTRAPOLATION_LENGTH / transport
+    } else {
+        let a = if relative_index > 1.0 {
+            super::time_resolved::boundary_factor_a(relative_index)
+        } else {
+            1.0
+        };
+        2.0 * a / (3.0 * transport)
+    };
     let (inner, outer) = medium.layer_bounds_cm(index);
     Some(if outward {
         DiffusionLayer::from_layer(layer, outer, outer + length)

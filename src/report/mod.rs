@@ -2,6 +2,7 @@
 //! readable text rendering.
 
 mod run_report;
+pub mod slab_optics;
 mod text;
 
 pub use run_report::{

@@ -8,6 +8,8 @@ use crate::medium::{Geometry, Medium};
 use crate::simulation::{Method, RunConfig, RunResult};
 use crate::tally::{PathStats, Tally};
 
+use super::slab_optics::{ResolvedSummary, SlabDiffusion, resolved_summary, slab_diffusion};
+
 /// Where the model came from and what it is.
 #[derive(Debug, Clone, Serialize)]
 pub struct ModelSummary {
@@ -283,6 +285,11 @@ pub struct RunReport {
     pub comparison: Comparison,
     /// Walk cost.
     pub walk: WalkSummary,
+    /// Slabs lit from outside: steady diffusion theory beside the Monte Carlo values.
+    pub slab_diffusion: Option<SlabDiffusion>,
+    /// Resolved slab tallies (with `--resolve`): time of flight, depth, angle, radius.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub resolved: Option<ResolvedSummary>,
     /// One-line caveats for the reader.
     pub notes: Vec<String>,
     /// Wall-clock time of the run, s (varies run to run).
@@ -356,6 +363,8 @@ impl RunReport {
                 },
                 max_steps: config.limits.max_steps,
             },
+            slab_diffusion: slab_diffusion(medium, tally),
+            resolved: resolved_summary(medium, tally),
             notes,
             elapsed_s: result.elapsed_s,
         }

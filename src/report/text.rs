@@ -168,6 +168,86 @@ pub fn render_run_report(report: &RunReport) -> String {
             format_significant(ks, 3)
         );
     }
+    if let Some(slab) = &report.slab_diffusion {
+        let _ = writeln!(
+            out,
+            "Slab against diffusion theory (μa = {} /cm, μs′ = {} /cm, z_e = {} cm)",
+            format_significant(slab.absorption_per_cm, 4),
+            format_significant(slab.reduced_scattering_per_cm, 4),
+            format_significant(slab.extrapolation_length_cm, 4)
+        );
+        let _ = writeln!(
+            out,
+            "                      Monte Carlo   diffusion (extrapolated)   diffusion (zero boundary)"
+        );
+        let _ = writeln!(
+            out,
+            "  diffuse R           {:<13.5} {:<26.5} {:.5}",
+            slab.monte_carlo_reflectance,
+            slab.reflectance,
+            slab.reflectance_zero_boundary
+        );
+        let _ = writeln!(
+            out,
+            "  diffuse T           {:<13.5} {:<26.5} {:.5}",
+            slab.monte_carlo_diffuse_transmittance,
+            slab.transmittance,
+            slab.transmittance_zero_boundary
+        );
+        for warning in &slab.warnings {
+            let _ = writeln!(out, "  caution: {warning}");
+        }
+        let _ = writeln!(out);
+    }
+    if let Some(resolved) = &report.resolved {
+        let _ = writeln!(
+            out,
+            "Time-resolved ({} bins of {}; curves in the JSON report)",
+            resolved.time_s.len(),
+            format_duration(resolved.time_bin_s)
+        );
+        let rate = |fit: &Option<super::slab_optics::DecayFit>| match fit {
+            Some(fit) => format!(
+                "{} ± {} /ns over {} – {} (diffusion, same window: {} /ns)",
+                format_significant(fit.rate_per_s * 1e-9, 4),
+                format_significant(fit.stderr_per_s * 1e-9, 2),
+                format_duration(fit.from_s),
+                format_duration(fit.to_s),
+                fit.diffusion_rate_per_s
+                    .map_or_else(|| "-".to_string(), |r| format_significant(r * 1e-9, 4))
+            ),
+            None => "- (too few late counts)".to_string(),
+        };
+        let _ = writeln!(
+            out,
+            "  late decay rate, reflectance   {}",
+            rate(&resolved.reflectance_decay)
+        );
+        let _ = writeln!(
+            out,
+            "  late decay rate, transmittance {}",
+            rate(&resolved.transmittance_decay)
+        );
+        if let Some([extrapolated, zero]) = resolved.diffusion_decay_rate_per_s {
+            let _ = writeln!(
+                out,
+                "  asymptotic diffusion decay     {} /ns (extrapolated), {} /ns (zero boundary)",
+                format_significant(extrapolated * 1e-9, 4),
+                format_significant(zero * 1e-9, 4)
+            );
+        }
+        let layers: Vec<String> = resolved
+            .absorbed_by_layer
+            .iter()
+            .map(|f| format!("{f:.4}"))
+            .collect();
+        let _ = writeln!(
+            out,
+            "  absorbed by layer              {}",
+            layers.join("  ")
+        );
+        let _ = writeln!(out);
+    }
     let w = &report.walk;
     if let (Some(gamma), Some(epsilon)) = (w.gamma, w.epsilon) {
         let _ = writeln!(

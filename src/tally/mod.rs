@@ -9,10 +9,12 @@
 mod exact_sum;
 mod histogram;
 mod moments;
+mod resolved;
 
 pub use exact_sum::ExactSum;
 pub use histogram::{LogHistogram, LogLayout};
 pub use moments::Moments;
+pub use resolved::{ResolvedLayout, ResolvedTally};
 
 use serde::{Deserialize, Serialize};
 
@@ -141,6 +143,8 @@ pub struct Tally {
     absorbed: PathStats,
     censored: PathStats,
     walk: WalkCounters,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    resolved: Option<ResolvedTally>,
 }
 
 impl Tally {
@@ -149,9 +153,25 @@ impl Tally {
         Self::default()
     }
 
+    /// An empty tally that also keeps resolved slab counts on `layout` (if given).
+    pub fn with_resolved(layout: Option<ResolvedLayout>) -> Self {
+        Self {
+            resolved: layout.map(ResolvedTally::new),
+            ..Self::default()
+        }
+    }
+
+    /// Resolved slab counts, if this tally keeps them.
+    pub fn resolved(&self) -> Option<&ResolvedTally> {
+        self.resolved.as_ref()
+    }
+
     /// Counts one photon.
     pub fn record(&mut self, record: &PhotonRecord) {
         self.launched += 1;
+        if let Some(resolved) = &mut self.resolved {
+            resolved.record(record);
+        }
         let stats = match record.outcome {
             Outcome::Escaped => &mut self.escaped,
             Outcome::Reflected => &mut self.reflected,
@@ -180,14 +200,26 @@ impl Tally {
         self.walk.direct_steps.merge(&other.walk.direct_steps);
         self.walk.jump_time_s.merge(&other.walk.jump_time_s);
         self.walk.total_time_s.merge(&other.walk.total_time_s);
+        match (&mut self.resolved, &other.resolved) {
+            (Some(mine), Some(theirs)) => mine.merge(theirs),
+            (None, Some(theirs)) => self.resolved = Some(theirs.clone()),
+            _ => {}
+        }
     }
 
     /// Whether `other` was made with the same histogram layouts (safe to merge).
     pub fn compatible(&self, other: &Tally) -> bool {
-        self.path_stats()
-            .iter()
-            .zip(other.path_stats())
-            .all(|(a, b)| a.compatible(b))
+        let resolved = match (&self.resolved, &other.resolved) {
+            (Some(a), Some(b)) => a.compatible(b),
+            (None, None) => true,
+            _ => false,
+        };
+        resolved
+            && self
+                .path_stats()
+                .iter()
+                .zip(other.path_stats())
+                .all(|(a, b)| a.compatible(b))
     }
 
     /// Restores internal invariants after deserialising an untrusted tally.

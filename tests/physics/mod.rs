@@ -6,5 +6,6 @@ mod exact_stepping;
 mod h_function;
 mod phase_functions;
 mod reproducibility;
+mod slab_optics;
 mod slab_reflectance;
 mod sphere_diffusion;

@@ -1,0 +1,412 @@
+//! The slab-optics part of a report: steady and time-resolved diffusion theory beside the
+//! Monte Carlo result, resolved tallies turned into physical quantities, and the flags that
+//! say where diffusion theory should not be trusted.
+
+use serde::Serialize;
+
+use crate::diffusion::time_resolved::{Boundary, DiffusionSlab, SlabOptics};
+use crate::diffusion::{self};
+use crate::medium::{Geometry, Medium, Source};
+use crate::tally::{ResolvedLayout, ResolvedTally, Tally};
+
+/// Thickness-weighted optical properties of a slab, the single-layer stand-in diffusion
+/// theory uses (exact for a single layer).
+fn equivalent_optics(medium: &Medium) -> SlabOptics {
+    let thickness = medium.size_cm();
+    let mut absorption = 0.0;
+    let mut reduced_scattering = 0.0;
+    let mut index = 0.0;
+    for (i, layer) in medium.layers().iter().enumerate() {
+        let (top, bottom) = medium.layer_bounds_cm(i);
+        let weight = (bottom - top) / thickness;
+        absorption += weight * layer.absorption_per_cm();
+        reduced_scattering +=
+            weight * layer.scattering_per_cm() * (1.0 - layer.phase().mean_cosine());
+        index += weight * layer.refractive_index();
+    }
+    SlabOptics {
+        mua_per_cm: absorption,
+        musp_per_cm: reduced_scattering,
+        thickness_cm: thickness,
+        n_medium: index,
+        n_outside: medium.ambient_above(),
+    }
+}
+
+/// Default resolved-tally bins for a slab: 200 time bins over the longer of four diffusion
+/// mean times and eight diffusion decay times (extrapolated boundary), 100 depth bins,
+/// `cosine_bins` exit-cosine bins, 100 radial bins over 20 transport mean free paths of the
+/// top layer. `time_bin_s` overrides the time-bin width.
+pub fn resolved_layout(
+    medium: &Medium,
+    time_bin_s: Option<f64>,
+    time_bins: usize,
+    cosine_bins: usize,
+) -> ResolvedLayout {
+    let estimate = diffusion::estimate(medium);
+    let decay_time = DiffusionSlab::new(equivalent_optics(medium), Boundary::Extrapolated)
+        .map(|slab| 1.0 / slab.decay_rate_per_s())
+        .unwrap_or(0.0);
+    let span = (4.0 * estimate.mean_time_extrapolated_s).max(8.0 * decay_time);
+    let span = if span > 0.0 && span.is_finite() {
+        span
+    } else {
+        4.0 * estimate.naive_time_s.max(1e-15)
+    };
+    let top_transport = medium.layers()[0].transport_extinction_per_cm();
+    let radial_range = if top_transport > 0.0 {
+        20.0 / top_transport
+    } else {
+        medium.size_cm()
+    };
+    ResolvedLayout {
+        time_bin_s: time_bin_s.unwrap_or(span / time_bins as f64),
+        time_bins,
+        depth_bin_cm: medium.size_cm() / 100.0,
+        depth_bins: 100,
+        cosine_bins,
+        radial_bin_cm: radial_range / 100.0,
+        radial_bins: 100,
+        layers: medium.layers().len(),
+    }
+}
+
+/// Steady-state diffusion theory for a slab beside the Monte Carlo values.
+#[derive(Debug, Clone, Serialize)]
+pub struct SlabDiffusion {
+    /// What the diffusion model assumes.
+    pub model: String,
+    /// Absorption coefficient used, 1/cm (thickness-weighted).
+    pub absorption_per_cm: f64,
+    /// Reduced scattering coefficient μs′ used, 1/cm (thickness-weighted).
+    pub reduced_scattering_per_cm: f64,
+    /// Extrapolation length z_e = 2 A D, cm.
+    pub extrapolation_length_cm: f64,
+    /// Diffuse reflectance, extrapolated boundary, per launched photon.
+    pub reflectance: f64,
+    /// Diffuse transmittance, extrapolated boundary, per launched photon.
+    pub transmittance: f64,
+    /// Diffuse reflectance with zero boundary (z_e = 0), per launched photon.
+    pub reflectance_zero_boundary: f64,
+    /// Diffuse transmittance with zero boundary, per launched photon.
+    pub transmittance_zero_boundary: f64,
+    /// Monte Carlo diffuse reflectance (the `outcome.reflected` fraction).
+    pub monte_carlo_reflectance: f64,
+    /// Monte Carlo transmittance of scattered light (unscattered photons left out, as in
+    /// diffusion theory).
+    pub monte_carlo_diffuse_transmittance: f64,
+    /// Late-time decay rate of reflectance and transmittance, extrapolated boundary, 1/s.
+    pub decay_rate_per_s: f64,
+    /// The same with zero boundary, 1/s.
+    pub decay_rate_zero_boundary_per_s: f64,
+    /// Where diffusion theory is not expected to hold for this sample.
+    pub warnings: Vec<String>,
+}
+
+/// Diffusion theory for a slab illuminated by a beam or diffusely, `None` for spheres,
+/// internal sources, or slabs diffusion theory cannot describe at all.
+pub fn slab_diffusion(medium: &Medium, tally: &Tally) -> Option<SlabDiffusion> {
+    if medium.geometry() != Geometry::Slab
+        || !matches!(medium.source(), Source::Beam { .. } | Source::Diffuse)
+    {
+        return None;
+    }
+    let optics = equivalent_optics(medium);
+    let extrapolated = DiffusionSlab::new(optics, Boundary::Extrapolated).ok()?;
+    let zero = DiffusionSlab::new(optics, Boundary::Zero).ok()?;
+    let launched = tally.launched().max(1) as f64;
+    let entering = 1.0 - tally.specular().count() as f64 / launched;
+    let unscattered = tally.transmitted().scattering_histogram.zero_count() as f64;
+    let mut warnings = Vec::new();
+    if medium.layers().len() > 1 {
+        warnings.push(
+            "layered slab: diffusion theory here uses thickness-weighted properties".to_string(),
+        );
+    }
+    if optics.mua_per_cm > 0.1 * optics.musp_per_cm {
+        warnings.push(format!(
+            "absorption is not small against reduced scattering (μa/μs′ = {:.3}; diffusion \
+             needs μa ≪ μs′)",
+            optics.mua_per_cm / optics.musp_per_cm
+        ));
+    }
+    let transport_thickness = optics.thickness_cm * (optics.mua_per_cm + optics.musp_per_cm);
+    if transport_thickness < 10.0 {
+        warnings.push(format!(
+            "the slab is only {transport_thickness:.2} transport mean free paths thick; \
+             diffusion theory needs many"
+        ));
+    }
+    if medium.ambient_below() != medium.ambient_above() {
+        warnings.push("the boundary factor A uses the index above the slab for both faces".into());
+    }
+    Some(SlabDiffusion {
+        model: "steady diffusion, source at 1/μs′, extrapolated boundary z_e = 2AD (A from \
+                the index mismatch; Haskell et al. 1994), per launched photon (× the \
+                fraction entering)"
+            .to_string(),
+        absorption_per_cm: optics.mua_per_cm,
+        reduced_scattering_per_cm: optics.musp_per_cm,
+        extrapolation_length_cm: extrapolated.extrapolation_length_cm(),
+        reflectance: entering * extrapolated.steady_reflectance(),
+        transmittance: entering * extrapolated.steady_transmittance(),
+        reflectance_zero_boundary: entering * zero.steady_reflectance(),
+        transmittance_zero_boundary: entering * zero.steady_transmittance(),
+        monte_carlo_reflectance: tally.reflected().count() as f64 / launched,
+        monte_carlo_diffuse_transmittance: (tally.transmitted().count() as f64 - unscattered)
+            / launched,
+        decay_rate_per_s: extrapolated.decay_rate_per_s(),
+        decay_rate_zero_boundary_per_s: zero.decay_rate_per_s(),
+        warnings,
+    })
+}
+
+/// A log-linear fit of the late-time tail of a time-of-flight histogram, with the
+/// diffusion curve fitted over the same bins with the same weights (so that both rates
+/// describe the same stretch of time).
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct DecayFit {
+    /// Fitted Monte Carlo decay rate, 1/s.
+    pub rate_per_s: f64,
+    /// Its standard error, 1/s.
+    pub stderr_per_s: f64,
+    /// Diffusion theory (extrapolated boundary) fitted over the same window, 1/s.
+    pub diffusion_rate_per_s: Option<f64>,
+    /// Start of the fitted window, s.
+    pub from_s: f64,
+    /// End of the fitted window, s.
+    pub to_s: f64,
+}
+
+/// Weighted least-squares slope of ln(value) against the bin centre over bins
+/// `start..=end`, weights `weights`; returns (slope, its standard error for Poisson counts).
+fn weighted_log_slope(
+    values: &[f64],
+    weights: &[f64],
+    start: usize,
+    end: usize,
+    bin_s: f64,
+) -> Option<(f64, f64)> {
+    let (mut sw, mut st, mut sy, mut stt, mut sty) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for i in start..=end {
+        let (value, w) = (values[i], weights[i]);
+        if value <= 0.0 || w <= 0.0 {
+            continue;
+        }
+        let t = (i as f64 + 0.5) * bin_s;
+        let y = value.ln();
+        sw += w;
+        st += w * t;
+        sy += w * y;
+        stt += w * t * t;
+        sty += w * t * y;
+    }
+    let denominator = sw * stt - st * st;
+    (denominator > 0.0).then(|| {
+        (
+            (sw * sty - st * sy) / denominator,
+            (sw / denominator).sqrt(),
+        )
+    })
+}
+
+/// Fits ln(count) = a − k t by weighted least squares (weights = counts, the inverse
+/// Poisson variance of ln count) over the late tail: from where the counts have fallen to
+/// 1/20 of the peak (past the early, non-exponential part), to the last bin with at least 25
+/// counts; fits `diffusion` (same bins) over the same window. `None` with fewer than 4
+/// usable bins.
+pub fn fit_late_decay(counts: &[u64], diffusion: &[f64], bin_s: f64) -> Option<DecayFit> {
+    let peak_index = (0..counts.len()).max_by_key(|&i| counts[i])?;
+    let peak = counts[peak_index];
+    let start = (peak_index..counts.len()).find(|&i| 20 * counts[i] <= peak)?;
+    let end = (start..counts.len()).rev().find(|&i| counts[i] >= 25)?;
+    if end < start + 3 {
+        return None;
+    }
+    let weights: Vec<f64> = counts.iter().map(|&c| c as f64).collect();
+    let (slope, stderr) = weighted_log_slope(&weights, &weights, start, end, bin_s)?;
+    let diffusion_rate_per_s = (diffusion.len() == counts.len())
+        .then(|| weighted_log_slope(diffusion, &weights, start, end, bin_s))
+        .flatten()
+        .map(|(slope, _)| -slope);
+    Some(DecayFit {
+        rate_per_s: -slope,
+        stderr_per_s: stderr,
+        diffusion_rate_per_s,
+        from_s: start as f64 * bin_s,
+        to_s: (end + 1) as f64 * bin_s,
+    })
+}
+
+/// Resolved slab results in physical units.
+#[derive(Debug, Clone, Serialize)]
+pub struct ResolvedSummary {
+    /// Width of a time bin, s.
+    pub time_bin_s: f64,
+    /// Centres of the time bins, s.
+    pub time_s: Vec<f64>,
+    /// Monte Carlo time-resolved diffuse reflectance, fraction of launched photons per s.
+    pub reflectance_per_s: Vec<f64>,
+    /// Monte Carlo time-resolved transmittance, fraction per s (unscattered included).
+    pub transmittance_per_s: Vec<f64>,
+    /// Diffusion theory, extrapolated boundary, on the same bins (fraction per s).
+    pub diffusion_reflectance_per_s: Vec<f64>,
+    /// Diffusion transmittance, extrapolated boundary, on the same bins (fraction per s).
+    pub diffusion_transmittance_per_s: Vec<f64>,
+    /// Diffusion reflectance with zero boundary (Patterson, Chance & Wilson 1989).
+    pub diffusion_reflectance_zero_boundary_per_s: Vec<f64>,
+    /// Photons reflected or transmitted after the last bin, fractions of launched.
+    pub later_fraction: [f64; 2],
+    /// Late-time decay of the Monte Carlo reflectance.
+    pub reflectance_decay: Option<DecayFit>,
+    /// Late-time decay of the Monte Carlo transmittance.
+    pub transmittance_decay: Option<DecayFit>,
+    /// Diffusion decay rates (extrapolated, zero boundary), 1/s.
+    pub diffusion_decay_rate_per_s: Option<[f64; 2]>,
+    /// Fraction of launched photons absorbed in each layer.
+    pub absorbed_by_layer: Vec<f64>,
+    /// Width of a depth bin, cm.
+    pub depth_bin_cm: f64,
+    /// Absorbed fraction per unit depth, 1/cm, per depth bin.
+    pub absorbed_per_cm: Vec<f64>,
+    /// Edges of the exit-cosine bins.
+    pub cosine_edges: Vec<f64>,
+    /// Reflected radiance per bin: fraction per steradian per unit projected area,
+    /// dF / (2π μ dμ) per launched photon.
+    pub reflected_radiance_per_sr: Vec<f64>,
+    /// Transmitted radiance per bin, likewise.
+    pub transmitted_radiance_per_sr: Vec<f64>,
+    /// Fraction of reflected photons per exit-cosine bin.
+    pub reflected_cosine_fraction: Vec<f64>,
+    /// Width of a radial bin, cm.
+    pub radial_bin_cm: f64,
+    /// Spatially resolved reflectance R(ρ) around the entry point, fraction per cm².
+    pub reflectance_per_cm2: Vec<f64>,
+}
+
+/// Resolved results of `tally` on `medium`, if the tally kept them.
+pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummary> {
+    let resolved: &ResolvedTally = tally.resolved()?;
+    let layout = resolved.layout;
+    let launched = tally.launched().max(1) as f64;
+    let bins = layout.time_bins;
+    let time_s: Vec<f64> = (0..bins)
+        .map(|i| (i as f64 + 0.5) * layout.time_bin_s)
+        .collect();
+    let per_second = |counts: &[u64]| -> Vec<f64> {
+        counts[..bins]
+            .iter()
+            .map(|&c| c as f64 / launched / layout.time_bin_s)
+            .collect()
+    };
+    let optics = equivalent_optics(medium);
+    let entering = 1.0 - tally.specular().count() as f64 / launched;
+    let with_beam = matches!(medium.source(), Source::Beam { .. } | Source::Diffuse);
+    let extrapolated = with_beam
+        .then(|| DiffusionSlab::new(optics, Boundary::Extrapolated).ok())
+        .flatten();
+    let zero = with_beam
+        .then(|| DiffusionSlab::new(optics, Boundary::Zero).ok())
+        .flatten();
+    // Bin averages of the diffusion curves (Simpson on each bin).
+    let bin_average = |f: &dyn Fn(f64) -> f64, i: usize| {
+        let (a, b) = (
+            i as f64 * layout.time_bin_s,
+            (i + 1) as f64 * layout.time_bin_s,
+        );
+        let m = 0.5 * (a + b);
+        let safe = |t: f64| if t > 0.0 { f(t) } else { 0.0 };
+        entering * (safe(a) + 4.0 * safe(m) + safe(b)) / 6.0
+    };
+    let curve = |slab: &Option<DiffusionSlab>, reflect: bool| -> Vec<f64> {
+        match slab {
+            Some(slab) => (0..bins)
+                .map(|i| {
+                    if reflect {
+                        bin_average(&|t| slab.reflectance_per_s(t), i)
+                    } else {
+                        bin_average(&|t| slab.transmittance_per_s(t), i)
+                    }
+                })
+                .collect(),
+            None => Vec::new(),
+        }
+    };
+    let cosine_bins = layout.cosine_bins;
+    let cosine_edges: Vec<f64> = (0..=cosine_bins)
+        .map(|i| i as f64 / cosine_bins as f64)
+        .collect();
+    let radiance = |counts: &[u64]| -> Vec<f64> {
+        counts
+            .iter()
+            .enumerate()
+            .map(|(i, &c)| {
+                let (a, b) = (cosine_edges[i], cosine_edges[i + 1]);
+                // ∫ 2π μ dμ over the bin = π (b² − a²).
+                c as f64 / launched / (std::f64::consts::PI * (b * b - a * a))
+            })
+            .collect()
+    };
+    let reflected_total: u64 = resolved.reflected_by_cosine.iter().sum();
+    let radial: Vec<f64> = resolved.reflected_by_radius[..layout.radial_bins]
+        .iter()
+        .enumerate()
+        .map(|(i, &c)| {
+            let (a, b) = (
+                i as f64 * layout.radial_bin_cm,
+                (i + 1) as f64 * layout.radial_bin_cm,
+            );
+            c as f64 / launched / (std::f64::consts::PI * (b * b - a * a))
+        })
+        .collect();
+    let diffusion_reflectance = curve(&extrapolated, true);
+    let diffusion_transmittance = curve(&extrapolated, false);
+    Some(ResolvedSummary {
+        time_bin_s: layout.time_bin_s,
+        reflectance_per_s: per_second(&resolved.reflected_by_time),
+        transmittance_per_s: per_second(&resolved.transmitted_by_time),
+        reflectance_decay: fit_late_decay(
+            &resolved.reflected_by_time[..bins],
+            &diffusion_reflectance,
+            layout.time_bin_s,
+        ),
+        transmittance_decay: fit_late_decay(
+            &resolved.transmitted_by_time[..bins],
+            &diffusion_transmittance,
+            layout.time_bin_s,
+        ),
+        diffusion_reflectance_per_s: diffusion_reflectance,
+        diffusion_transmittance_per_s: diffusion_transmittance,
+        diffusion_reflectance_zero_boundary_per_s: curve(&zero, true),
+        time_s,
+        later_fraction: [
+            resolved.reflected_by_time[bins] as f64 / launched,
+            resolved.transmitted_by_time[bins] as f64 / launched,
+        ],
+        diffusion_decay_rate_per_s: extrapolated
+            .as_ref()
+            .zip(zero.as_ref())
+            .map(|(e, z)| [e.decay_rate_per_s(), z.decay_rate_per_s()]),
+        absorbed_by_layer: resolved
+            .absorbed_by_layer
+            .iter()
+            .map(|&c| c as f64 / launched)
+            .collect(),
+        depth_bin_cm: layout.depth_bin_cm,
+        absorbed_per_cm: resolved
+            .absorbed_by_depth
+            .iter()
+            .map(|&c| c as f64 / launched / layout.depth_bin_cm)
+            .collect(),
+        reflected_radiance_per_sr: radiance(&resolved.reflected_by_cosine),
+        transmitted_radiance_per_sr: radiance(&resolved.transmitted_by_cosine),
+        reflected_cosine_fraction: resolved
+            .reflected_by_cosine
+            .iter()
+            .map(|&c| c as f64 / reflected_total.max(1) as f64)
+            .collect(),
+        cosine_edges,
+        radial_bin_cm: layout.radial_bin_cm,
+        reflectance_per_cm2: radial,
+    })
+}
