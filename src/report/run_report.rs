@@ -318,6 +318,12 @@ impl RunReport {
                     .to_string(),
             );
         }
+        if medium.layers().iter().any(|layer| layer.albedo() < 1.0) {
+            notes.push(
+                "the medium absorbs: the diffusion mean times are those of conservative                  diffusion, while absorption removes long paths from the Monte Carlo escape                  times, so the time ratios fall below 1"
+                    .to_string(),
+            );
+        }
         if tally.censored().count() > 0 {
             notes.push(format!(
                 "{} photons hit the step cap ({}) and are counted as censored; raise \

@@ -8,6 +8,7 @@ use crate::diffusion::time_resolved::{Boundary, DiffusionSlab, SlabOptics};
 use crate::diffusion::{self};
 use crate::medium::{Geometry, Medium, Source};
 use crate::tally::{ResolvedLayout, ResolvedTally, Tally};
+use crate::transport::crossing::conservative_h;
 
 /// Thickness-weighted optical properties of a slab, the single-layer stand-in diffusion
 /// theory uses (exact for a single layer).
@@ -278,10 +279,49 @@ pub struct ResolvedSummary {
     pub transmitted_radiance_per_sr: Vec<f64>,
     /// Fraction of reflected photons per exit-cosine bin.
     pub reflected_cosine_fraction: Vec<f64>,
+    /// Limb darkening of the reflected light: relative radiance at the bin centres against
+    /// the exact law of a deep conservative, isotropically scattering medium.
+    pub limb_darkening: LimbDarkening,
     /// Width of a radial bin, cm.
     pub radial_bin_cm: f64,
     /// Spatially resolved reflectance R(ρ) around the entry point, fraction per cm².
     pub reflectance_per_cm2: Vec<f64>,
+}
+
+/// Emergent angular distribution of reflected light as limb darkening.
+#[derive(Debug, Clone, Serialize)]
+pub struct LimbDarkening {
+    /// Bin-centre cosines μ.
+    pub mu: Vec<f64>,
+    /// Monte Carlo radiance, scaled to carry the same flux as H(μ)/H(1) (so that the two
+    /// can be read on one scale).
+    pub monte_carlo: Vec<f64>,
+    /// Exact law of a deep, conservative, isotropically scattering medium: H(μ)/H(1)
+    /// (Chandrasekhar 1950, ch. V), for comparison.
+    pub exact_h_ratio: Vec<f64>,
+    /// Eddington's approximation (0.4 + 0.6 μ), for comparison.
+    pub eddington: Vec<f64>,
+}
+
+fn limb_darkening(edges: &[f64], radiance: &[f64]) -> LimbDarkening {
+    let h1 = conservative_h(1.0);
+    let mu: Vec<f64> = edges.windows(2).map(|w| 0.5 * (w[0] + w[1])).collect();
+    let exact_h_ratio: Vec<f64> = mu.iter().map(|&m| conservative_h(m) / h1).collect();
+    // Flux carried by each law over the bins: Σ I(μ) π (b² − a²).
+    let flux = |values: &[f64]| -> f64 {
+        values
+            .iter()
+            .zip(edges.windows(2))
+            .map(|(v, w)| v * (w[1] * w[1] - w[0] * w[0]))
+            .sum()
+    };
+    let scale = flux(&exact_h_ratio) / flux(radiance).max(f64::MIN_POSITIVE);
+    LimbDarkening {
+        monte_carlo: radiance.iter().map(|r| r * scale).collect(),
+        eddington: mu.iter().map(|&m| 0.4 + 0.6 * m).collect(),
+        exact_h_ratio,
+        mu,
+    }
 }
 
 /// Resolved results of `tally` on `medium`, if the tally kept them.
@@ -361,7 +401,9 @@ pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummar
         .collect();
     let diffusion_reflectance = curve(&extrapolated, true);
     let diffusion_transmittance = curve(&extrapolated, false);
+    let reflected_radiance = radiance(&resolved.reflected_by_cosine);
     Some(ResolvedSummary {
+        limb_darkening: limb_darkening(&cosine_edges, &reflected_radiance),
         time_bin_s: layout.time_bin_s,
         reflectance_per_s: per_second(&resolved.reflected_by_time),
         transmittance_per_s: per_second(&resolved.transmitted_by_time),
@@ -398,7 +440,7 @@ pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummar
             .iter()
             .map(|&c| c as f64 / launched / layout.depth_bin_cm)
             .collect(),
-        reflected_radiance_per_sr: radiance(&resolved.reflected_by_cosine),
+        reflected_radiance_per_sr: reflected_radiance,
         transmitted_radiance_per_sr: radiance(&resolved.transmitted_by_cosine),
         reflected_cosine_fraction: resolved
             .reflected_by_cosine

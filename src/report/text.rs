@@ -183,9 +183,7 @@ pub fn render_run_report(report: &RunReport) -> String {
         let _ = writeln!(
             out,
             "  diffuse R           {:<13.5} {:<26.5} {:.5}",
-            slab.monte_carlo_reflectance,
-            slab.reflectance,
-            slab.reflectance_zero_boundary
+            slab.monte_carlo_reflectance, slab.reflectance, slab.reflectance_zero_boundary
         );
         let _ = writeln!(
             out,
@@ -241,6 +239,30 @@ pub fn render_run_report(report: &RunReport) -> String {
             .iter()
             .map(|f| format!("{f:.4}"))
             .collect();
+        let limb = &resolved.limb_darkening;
+        let row = |values: &[f64]| {
+            values
+                .iter()
+                .map(|v| format!("{v:6.3}"))
+                .collect::<Vec<_>>()
+                .join(" ")
+        };
+        let _ = writeln!(
+            out,
+            "  limb darkening of reflected light (radiance on the H(μ)/H(1) scale)"
+        );
+        let _ = writeln!(out, "    μ            {}", row(&limb.mu));
+        let _ = writeln!(out, "    Monte Carlo  {}", row(&limb.monte_carlo));
+        let _ = writeln!(
+            out,
+            "    H(μ)/H(1)    {}   (deep conservative medium)",
+            row(&limb.exact_h_ratio)
+        );
+        let _ = writeln!(
+            out,
+            "    0.4 + 0.6μ   {}   (Eddington)",
+            row(&limb.eddington)
+        );
         let _ = writeln!(
             out,
             "  absorbed by layer              {}",

@@ -182,3 +182,15 @@ fn missing_file_is_reported() {
         "{stderr}"
     );
 }
+
+#[test]
+fn ambient_sides_are_checked() {
+    let stderr = rejected(
+        r#"{"geometry": "slab", "layers": [{"thickness": 1, "extinction_coefficient": 1}], "ambient_index": {"above": 1.0, "below": 0.5}}"#,
+    );
+    assert_mentions(&stderr, &["ambient_index.below", "0.5"]);
+    let stderr = rejected(
+        r#"{"geometry": "sphere", "layers": [{"outer_radius": 1, "extinction_coefficient": 1}], "ambient_index": 1.3}"#,
+    );
+    assert_mentions(&stderr, &["ambient_index", "slabs only"]);
+}

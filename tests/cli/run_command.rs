@@ -111,3 +111,89 @@ fn json_file_is_written_and_text_still_printed() {
     let report: Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
     assert_eq!(report["photons"], 500);
 }
+
+#[test]
+fn slab_report_shows_optics_and_json_carries_the_curves() {
+    let output = sojourn()
+        .args([
+            "run",
+            "models/opal-diffuser.json",
+            "--photons",
+            "4000",
+            "--resolve",
+        ])
+        .output()
+        .unwrap();
+    assert!(output.status.success());
+    let text = String::from_utf8(output.stdout).unwrap();
+    for expected in [
+        "reflected",
+        "specular",
+        "transmitted",
+        "absorbed",
+        "diffuse R",
+        "late decay rate",
+        "limb darkening",
+    ] {
+        assert!(
+            text.contains(expected),
+            "report lacks {expected:?}:\n{text}"
+        );
+    }
+    let report = run_json(&[
+        "run",
+        "models/opal-diffuser.json",
+        "--photons",
+        "4000",
+        "--resolve",
+    ]);
+    let bins = report
+        .pointer("/resolved/time_s")
+        .unwrap()
+        .as_array()
+        .unwrap()
+        .len();
+    assert_eq!(bins, 200);
+    for key in [
+        "/resolved/reflectance_per_s",
+        "/resolved/transmittance_per_s",
+        "/resolved/diffusion_reflectance_per_s",
+        "/resolved/diffusion_transmittance_per_s",
+    ] {
+        assert_eq!(
+            report.pointer(key).unwrap().as_array().unwrap().len(),
+            bins,
+            "{key}"
+        );
+    }
+    assert!(
+        report
+            .pointer("/outcome/specular")
+            .unwrap()
+            .as_f64()
+            .unwrap()
+            > 0.0
+    );
+    assert!(
+        report
+            .pointer("/reflected_time/mean_s")
+            .unwrap()
+            .is_number()
+    );
+    assert!(
+        report
+            .pointer("/slab_diffusion/reflectance")
+            .unwrap()
+            .is_number()
+    );
+}
+
+#[test]
+fn resolve_is_refused_for_spheres() {
+    let output = sojourn()
+        .args(["run", "--resolve", "--photons", "10"])
+        .output()
+        .unwrap();
+    assert!(!output.status.success());
+    assert!(String::from_utf8_lossy(&output.stderr).contains("--resolve is for slabs"));
+}
