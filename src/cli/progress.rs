@@ -7,7 +7,7 @@ use std::sync::mpsc::{self, RecvTimeoutError};
 use std::thread::JoinHandle;
 use std::time::Duration;
 
-use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use indicatif::{ProgressBar, ProgressDrawTarget, ProgressState, ProgressStyle};
 
 /// Delay before the bar appears: short runs finish without one.
 const SHOW_AFTER: Duration = Duration::from_secs(1);
@@ -25,9 +25,12 @@ impl Progress {
         let bar = ProgressBar::with_draw_target(Some(total), ProgressDrawTarget::hidden());
         bar.set_style(
             ProgressStyle::with_template(
-                "{msg}[{elapsed_precise}] {wide_bar} {human_pos}/{human_len} photons · {per_sec} · ETA {eta}",
+                "{msg}[{elapsed_precise}] {wide_bar} {human_pos}/{human_len} photons · {rate} · ETA {eta}",
             )
-            .expect("valid template"),
+            .expect("valid template")
+            .with_key("rate", |state: &ProgressState, out: &mut dyn std::fmt::Write| {
+                let _ = write!(out, "{}", rate(state.per_sec()));
+            }),
         );
         if quiet || !std::io::stderr().is_terminal() {
             return Self {
@@ -78,5 +81,16 @@ impl Progress {
 impl Drop for Progress {
     fn drop(&mut self) {
         self.close();
+    }
+}
+
+/// Photons per second, short: `850/s`, `57.7k/s`, `1.23M/s`.
+fn rate(per_second: f64) -> String {
+    if per_second >= 1e6 {
+        format!("{:.2}M/s", per_second / 1e6)
+    } else if per_second >= 1e3 {
+        format!("{:.1}k/s", per_second / 1e3)
+    } else {
+        format!("{per_second:.0}/s")
     }
 }

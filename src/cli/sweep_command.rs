@@ -51,7 +51,6 @@ pub fn execute(args: SweepArgs) -> Result<()> {
     // Everything is checked, every point's medium built, before any file is written.
     let spec = ResolvedSpec::load(&args.spec)?;
     let sweep = spec.build(&label)?;
-    let shard = args.shard.unwrap_or_else(Shard::whole);
     if args.dry_run {
         println!(
             "{label}: {} points × {} photons (seed {}, spec hash {})",
@@ -76,7 +75,7 @@ pub fn execute(args: SweepArgs) -> Result<()> {
         pool = pool.num_threads(threads as usize);
     }
     let pool = pool.build().context("cannot start the worker threads")?;
-    let mut runner = SweepRunner::open(&sweep, &spec, &out, shard)?;
+    let mut runner = SweepRunner::open(&sweep, &spec, &out, args.shard)?;
     let pending = runner.pending();
     let total_points = sweep.points().len();
     if pending.len() < total_points && !args.quiet {
@@ -106,6 +105,7 @@ pub fn execute(args: SweepArgs) -> Result<()> {
             }
         }
         Finished::Shard { bundle } => {
+            let shard = args.shard.unwrap_or_else(Shard::whole);
             println!(
                 "shard {shard} of the sweep done: {}\nwhen every shard is done: sojourn merge {}/shard-*-of-{}.json --out {}",
                 bundle.display(),

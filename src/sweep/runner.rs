@@ -195,12 +195,14 @@ pub struct SweepRunner<'a> {
     hash: String,
     out: PathBuf,
     shard: Shard,
+    bundle: bool,
     done: Vec<Option<PointRecord>>,
 }
 
 impl<'a> SweepRunner<'a> {
     /// Creates the output folder (if needed) and reads the point files of this sweep and
-    /// shard already there. `sweep` must be `spec.build(..)`.
+    /// shard already there. `sweep` must be `spec.build(..)`. With `shard` given (even
+    /// 1/1) the sweep ends with a bundle for `sojourn merge`; without, with the table.
     ///
     /// # Errors
     /// [`SweepError::Io`] when the folder cannot be created or read,
@@ -210,14 +212,15 @@ impl<'a> SweepRunner<'a> {
         sweep: &'a Sweep,
         spec: &'a ResolvedSpec,
         out: &Path,
-        shard: Shard,
+        shard: Option<Shard>,
     ) -> Result<Self, SweepError> {
         let mut runner = Self {
             sweep,
             spec,
             hash: spec.hash(),
             out: out.to_path_buf(),
-            shard,
+            shard: shard.unwrap_or_else(Shard::whole),
+            bundle: shard.is_some(),
             done: vec![None; sweep.points().len()],
         };
         let points = runner.points_dir();
@@ -252,7 +255,7 @@ impl<'a> SweepRunner<'a> {
 
     /// The file of point `index` for this runner's shard.
     pub fn point_path(&self, index: u64) -> PathBuf {
-        let name = if self.shard.is_whole() {
+        let name = if !self.bundle {
             format!("point-{index:04}.json")
         } else {
             format!("point-{index:04}.{}.json", self.shard.tag())
@@ -310,7 +313,8 @@ impl<'a> SweepRunner<'a> {
     }
 
     /// Once every point is done: for a whole sweep, builds the results and writes
-    /// `sweep.csv` and `sweep.jsonl`; for a shard, writes its bundle `shard-K-of-N.json`.
+    /// `sweep.csv` and `sweep.jsonl`; for a shard (given to [`SweepRunner::open`]), writes
+    /// its bundle `shard-K-of-N.json`.
     ///
     /// # Errors
     /// [`SweepError::Incomplete`] if points are missing, [`SweepError::Io`] when a file
@@ -332,7 +336,7 @@ impl<'a> SweepRunner<'a> {
                     source,
                 })
         };
-        if self.shard.is_whole() {
+        if !self.bundle {
             let tallies: Vec<(Tally, f64)> = records
                 .into_iter()
                 .map(|r| (r.tally, r.elapsed_s))
@@ -384,7 +388,7 @@ impl<'a> SweepRunner<'a> {
         let Ok(entries) = std::fs::read_dir(self.points_dir()) else {
             return;
         };
-        let suffix = if self.shard.is_whole() {
+        let suffix = if !self.bundle {
             ".json".to_string()
         } else {
             format!(".{}.json", self.shard.tag())

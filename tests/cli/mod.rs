@@ -1,4 +1,8 @@
 //! The command-line tool, driven as a user would.
 
 mod bad_models;
+mod checkpoints;
 mod run_command;
+mod scale_support;
+mod shards;
+mod sweeps;
