@@ -2,6 +2,7 @@
 
 mod bad_models;
 mod checkpoints;
+mod cluster_scripts;
 mod run_command;
 mod scale_support;
 mod shards;
