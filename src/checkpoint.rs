@@ -89,20 +89,20 @@ pub struct Checkpoint {
 #[non_exhaustive]
 pub enum CheckpointError {
     /// The file could not be read.
-    #[error("{file}: cannot read the checkpoint: {source}")]
+    #[error("{file}: cannot read the checkpoint: {cause}")]
     Read {
         /// The file.
         file: String,
         /// The operating-system error.
-        source: std::io::Error,
+        cause: std::io::Error,
     },
     /// The file could not be written.
-    #[error("{file}: cannot write the checkpoint: {source}")]
+    #[error("{file}: cannot write the checkpoint: {cause}")]
     Write {
         /// The file.
         file: String,
         /// The operating-system error.
-        source: std::io::Error,
+        cause: std::io::Error,
     },
     /// The file is not a checkpoint, or contradicts itself.
     #[error("{file}: not a usable checkpoint: {problem}")]
@@ -168,7 +168,7 @@ impl<'a> CheckpointedRun<'a> {
             Err(source) => {
                 return Err(CheckpointError::Read {
                     file: path.display().to_string(),
-                    source,
+                    cause: source,
                 });
             }
         };
@@ -240,7 +240,7 @@ impl<'a> CheckpointedRun<'a> {
         let text = serde_json::to_string(&self.state).expect("a checkpoint serialises");
         write_atomically(&self.path, text.as_bytes()).map_err(|source| CheckpointError::Write {
             file: self.path.display().to_string(),
-            source,
+            cause: source,
         })
     }
 }

@@ -243,12 +243,12 @@ pub enum MergeError {
     #[error("no shard files given")]
     Empty,
     /// A file could not be read.
-    #[error("{file}: cannot read: {source}")]
+    #[error("{file}: cannot read: {cause}")]
     Read {
         /// The file.
         file: String,
         /// The operating-system error.
-        source: std::io::Error,
+        cause: std::io::Error,
     },
     /// A file is not a shard file of the expected kind.
     #[error("{file}: not a shard file: {problem}")]
@@ -559,7 +559,7 @@ pub fn read_shard_file(path: &std::path::Path) -> Result<ShardFile, MergeError> 
     let file = path.display().to_string();
     let text = std::fs::read_to_string(path).map_err(|source| MergeError::Read {
         file: file.clone(),
-        source,
+        cause: source,
     })?;
     let is_sweep = serde_json::from_str::<Value>(&text)
         .ok()

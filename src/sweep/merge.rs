@@ -138,7 +138,7 @@ pub fn merge_sweep_shards(mut shards: Vec<SweepShard>) -> Result<MergedSweep, Me
     check_coverage(&listed)?;
     let spec_hash = a.spec_hash.clone();
     let sweep = a.spec.build(&first.file).map_err(|error| match error {
-        SpecError::Point { source, .. } => MergeError::Model(source),
+        SpecError::Point { cause, .. } => MergeError::Model(cause),
         other => MergeError::Damaged {
             file: first.file.clone(),
             problem: other.to_string(),

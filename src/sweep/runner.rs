@@ -36,14 +36,14 @@ pub const POINT_FORMAT: u32 = 1;
 #[non_exhaustive]
 pub enum SweepError {
     /// A file or folder operation failed.
-    #[error("{path}: cannot {action}: {source}")]
+    #[error("{path}: cannot {action}: {cause}")]
     Io {
         /// The file or folder.
         path: String,
         /// What was being done ("create the folder", "write", "read").
         action: &'static str,
         /// The operating-system error.
-        source: std::io::Error,
+        cause: std::io::Error,
     },
     /// A point file of a different sweep is in the way.
     #[error(
@@ -227,7 +227,7 @@ impl<'a> SweepRunner<'a> {
         std::fs::create_dir_all(&points).map_err(|source| SweepError::Io {
             path: points.display().to_string(),
             action: "create the folder",
-            source,
+            cause: source,
         })?;
         for index in 0..sweep.points().len() as u64 {
             let path = runner.point_path(index);
@@ -238,7 +238,7 @@ impl<'a> SweepRunner<'a> {
                     return Err(SweepError::Io {
                         path: path.display().to_string(),
                         action: "read",
-                        source,
+                        cause: source,
                     });
                 }
             };
@@ -306,7 +306,7 @@ impl<'a> SweepRunner<'a> {
         write_atomically(&path, text.as_bytes()).map_err(|source| SweepError::Io {
             path: path.display().to_string(),
             action: "write",
-            source,
+            cause: source,
         })?;
         self.done[index as usize] = Some(record);
         Ok(elapsed_s)
@@ -333,7 +333,7 @@ impl<'a> SweepRunner<'a> {
                 .map_err(|source| SweepError::Io {
                     path: path.display().to_string(),
                     action: "write",
-                    source,
+                    cause: source,
                 })
         };
         if !self.bundle {

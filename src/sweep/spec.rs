@@ -42,12 +42,12 @@ pub const SPEC_FORMAT: u32 = 1;
 #[non_exhaustive]
 pub enum SpecError {
     /// A file could not be read.
-    #[error("{file}: cannot read: {source}")]
+    #[error("{file}: cannot read: {cause}")]
     Read {
         /// The file.
         file: String,
         /// The operating-system error.
-        source: std::io::Error,
+        cause: std::io::Error,
     },
     /// The spec is not JSON.
     #[error("{file}: line {line}, column {column}: not valid JSON: {message}")]
@@ -85,25 +85,25 @@ pub enum SpecError {
         expected: String,
     },
     /// A parameter path that does not parse or does not lead into the model.
-    #[error("{file}: {field}: {source}")]
+    #[error("{file}: {field}: {cause}")]
     Path {
         /// The spec file.
         file: String,
         /// The spec field holding the path (`parameters[i].path`).
         field: String,
         /// What is wrong with the path.
-        source: PathError,
+        cause: PathError,
     },
     /// The base model cannot be read or is invalid.
-    #[error("{file}: base model: {source}")]
+    #[error("{file}: base model: {cause}")]
     Model {
         /// The spec file.
         file: String,
         /// The model's own error.
-        source: Box<ModelError>,
+        cause: Box<ModelError>,
     },
     /// A point whose modified model is invalid (for example an albedo above 1).
-    #[error("{file}: point {point} ({settings}): {source}")]
+    #[error("{file}: point {point} ({settings}): {cause}")]
     Point {
         /// The spec file.
         file: String,
@@ -112,7 +112,7 @@ pub enum SpecError {
         /// The point's parameter values, `path = value, …`.
         settings: String,
         /// The model's error for this point.
-        source: Box<ModelError>,
+        cause: Box<ModelError>,
     },
 }
 
@@ -198,7 +198,7 @@ impl ResolvedSpec {
         let file = path.display().to_string();
         let text = std::fs::read_to_string(path).map_err(|source| SpecError::Read {
             file: file.clone(),
-            source,
+            cause: source,
         })?;
         let directory = path.parent().unwrap_or(Path::new(""));
         Self::parse(&text, &file, |model| {
@@ -267,7 +267,7 @@ impl ResolvedSpec {
             let path: JsonPath = parameter.path.parse().map_err(|source| SpecError::Path {
                 file: file.to_string(),
                 field: format!("{field}.path"),
-                source,
+                cause: source,
             })?;
             if parameters
                 .iter()
@@ -331,11 +331,11 @@ impl ResolvedSpec {
         }
         let (model, model_label) = read_model(&spec.model).map_err(|source| SpecError::Model {
             file: file.to_string(),
-            source: Box::new(source),
+            cause: Box::new(source),
         })?;
         model_from_value(&model, &model_label).map_err(|source| SpecError::Model {
             file: file.to_string(),
-            source: Box::new(source),
+            cause: Box::new(source),
         })?;
         for (index, parameter) in parameters.iter().enumerate() {
             check_against_model(&model, parameter, index, file)?;
@@ -425,7 +425,7 @@ impl ResolvedSpec {
                         .map(|(path, value)| format!("{path} = {value}"))
                         .collect::<Vec<_>>()
                         .join(", "),
-                    source: Box::new(source),
+                    cause: Box::new(source),
                 })?;
             sweep.push(SweepPoint::new(settings, medium));
         }
@@ -499,7 +499,7 @@ fn check_against_model(
     let existing = path.get(model).map_err(|source| SpecError::Path {
         file: file.to_string(),
         field: format!("parameters[{index}].path"),
-        source,
+        cause: source,
     })?;
     for (k, value) in parameter.values.iter().enumerate() {
         let field = format!("parameters[{index}].values[{k}]");
