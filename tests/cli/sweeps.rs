@@ -111,7 +111,16 @@ fn merged_sweep_shards_equal_the_unsplit_sweep_for_1_2_and_5_shards() {
     let directory = tempfile::tempdir().unwrap();
     let spec = write_spec(directory.path(), SIX_POINT_SPEC);
     let whole = directory.path().join("whole");
-    succeed(&["sweep", s(&spec), "--out", s(&whole), "--quiet"]);
+    let output = sojourn()
+        .args(["sweep", s(&spec), "--out", s(&whole), "--quiet"])
+        .output()
+        .unwrap();
+    assert!(output.status.success());
+    assert!(
+        output.stderr.is_empty(),
+        "--quiet: {}",
+        String::from_utf8_lossy(&output.stderr)
+    );
     let csv = read(&whole.join("sweep.csv"));
     let jsonl = read(&whole.join("sweep.jsonl"));
     for n in [1, 2, 5] {

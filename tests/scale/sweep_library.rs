@@ -117,3 +117,24 @@ fn each_point_has_its_own_random_stream() {
         "the same medium at two indices drew the same photons"
     );
 }
+
+#[test]
+fn reopening_removes_this_runs_temporaries_and_keeps_other_shards_files() {
+    let spec = spec();
+    let sweep = spec.build("spec.json").unwrap();
+    let directory = tempfile::tempdir().unwrap();
+    let points = directory.path().join("points");
+    std::fs::create_dir_all(&points).unwrap();
+    // Left by a killed whole sweep, and by a shard still running in the same folder.
+    let stale = points.join(".point-0001.json.4242.tmp");
+    let other_shard = points.join(".point-0001.shard-1-of-2.json.4243.tmp");
+    let unrelated = points.join("notes.txt");
+    for path in [&stale, &other_shard, &unrelated] {
+        std::fs::write(path, "partial").unwrap();
+    }
+    let runner = SweepRunner::open(&sweep, &spec, directory.path(), None).unwrap();
+    assert_eq!(runner.pending(), vec![0, 1, 2, 3]);
+    assert!(!stale.exists());
+    assert!(other_shard.exists());
+    assert!(unrelated.exists());
+}
