@@ -3,10 +3,10 @@
 //! Shard files, checkpoints and sweep point files carry the fingerprint of the model (or
 //! sweep specification) they were made from, so that results of different inputs are never
 //! merged or resumed into each other. The hash only has to tell *accidentally* different
-//! inputs apart (files are not adversarial), and every place that compares fingerprints
-//! also keeps the canonical text itself, so a 64-bit non-cryptographic hash is enough:
-//! FNV-1a (Fowler, Noll & Vo; parameters from the IETF draft
-//! `draft-eastlake-fnv`), which needs no dependency.
+//! inputs apart (files are not adversarial): two different inputs share a 64-bit hash with
+//! odds of about 2⁻⁶⁴ per comparison, and merge compares the embedded model (or spec)
+//! itself as well. So a non-cryptographic hash is enough: FNV-1a (Fowler, Noll & Vo;
+//! parameters from the IETF draft `draft-eastlake-fnv`), which needs no dependency.
 
 use serde_json::Value;
 

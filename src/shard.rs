@@ -18,7 +18,7 @@ use serde::{Deserialize, Serialize};
 use serde_json::Value;
 use thiserror::Error;
 
-use crate::fingerprint::fingerprint;
+use crate::fingerprint::{canonical_json, fingerprint};
 use crate::medium::Medium;
 use crate::medium::model_file::{ModelError, model_from_value};
 use crate::report::RunReport;
@@ -497,6 +497,8 @@ pub fn merge_run_shards(mut shards: Vec<RunShard>) -> Result<MergedRun, MergeErr
         let b = &other.info;
         let (f, o) = (first.file.as_str(), other.file.as_str());
         same("run", "model_hash", (f, &a.model_hash), (o, &b.model_hash))?;
+        let (model_a, model_b) = (canonical_json(&a.model), canonical_json(&b.model));
+        same("run", "model", (f, &model_a), (o, &model_b))?;
         same("run", "seed", (f, a.seed), (o, b.seed))?;
         same("run", "stream", (f, a.stream), (o, b.stream))?;
         same("run", "max_steps", (f, a.max_steps), (o, b.max_steps))?;

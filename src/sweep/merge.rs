@@ -124,6 +124,18 @@ pub fn merge_sweep_shards(mut shards: Vec<SweepShard>) -> Result<MergedSweep, Me
         let b = &other.content.sweep_shard;
         let (f, o) = (first.file.as_str(), other.file.as_str());
         same("sweep", "spec_hash", (f, &a.spec_hash), (o, &b.spec_hash))?;
+        let same_content = |spec: &ResolvedSpec| ResolvedSpec {
+            model_file: String::new(),
+            ..spec.clone()
+        };
+        if same_content(&a.spec) != same_content(&b.spec) {
+            same(
+                "sweep",
+                "spec",
+                (f, "its embedded spec"),
+                (o, "a different spec"),
+            )?;
+        }
         same(
             "sweep",
             "shard count",
