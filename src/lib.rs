@@ -24,12 +24,17 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod atomic_write;
+pub mod checkpoint;
 pub mod diffusion;
+pub mod fingerprint;
 pub mod medium;
 pub mod opacity;
 pub mod report;
+pub mod shard;
 pub mod simulation;
 pub mod star;
+pub mod sweep;
 pub mod tally;
 pub mod transport;
 pub mod units;

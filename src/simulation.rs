@@ -24,6 +24,21 @@ pub enum Method {
     Auto,
 }
 
+impl std::str::FromStr for Method {
+    type Err = String;
+
+    fn from_str(text: &str) -> Result<Self, Self::Err> {
+        match text {
+            "direct" => Ok(Method::Direct),
+            "accelerated" => Ok(Method::Accelerated),
+            "auto" => Ok(Method::Auto),
+            other => Err(format!(
+                "unknown walk method {other:?}: expected direct, accelerated or auto"
+            )),
+        }
+    }
+}
+
 impl Method {
     /// The method's name as written on the command line and in reports.
     pub fn name(self) -> &'static str {
@@ -95,6 +110,21 @@ impl Default for RunConfig {
             acceleration: Acceleration::default(),
             resolved: None,
         }
+    }
+}
+
+impl RunConfig {
+    /// A canonical description of everything that shapes each photon's walk and tally
+    /// besides the photon range and seed: method, acceleration parameters, step cap and
+    /// resolved-tally bins. Runs that differ here must not be merged.
+    pub fn walk_description(&self) -> String {
+        serde_json::json!({
+            "method": self.method.name(),
+            "acceleration": self.acceleration,
+            "max_steps": self.limits.max_steps,
+            "resolved": self.resolved,
+        })
+        .to_string()
     }
 }
 

@@ -6,4 +6,5 @@
 
 mod cli;
 mod physics;
+mod scale;
 mod support;

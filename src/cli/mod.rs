@@ -1,8 +1,12 @@
 //! Command-line parsing and the glue from arguments to library calls, one file per
 //! subcommand.
 
+mod merge_command;
 mod output;
+mod progress;
 mod run_command;
+mod run_scale;
+mod sweep_command;
 
 use anyhow::Result;
 use clap::{Parser, Subcommand};
@@ -20,6 +24,10 @@ struct Cli {
 enum Command {
     /// Run photons through a model and compare with diffusion theory.
     Run(run_command::RunArgs),
+    /// Run a parameter study: one model varied over lists, ranges or grids of values.
+    Sweep(sweep_command::SweepArgs),
+    /// Join the shard files of a run (or of a sweep) into the unsplit result.
+    Merge(merge_command::MergeArgs),
 }
 
 /// Parses the command line and runs the chosen subcommand.
@@ -27,6 +35,8 @@ pub fn run() -> Result<()> {
     let cli = Cli::parse();
     match cli.command {
         Command::Run(args) => run_command::execute(args),
+        Command::Sweep(args) => sweep_command::execute(args),
+        Command::Merge(args) => merge_command::execute(args),
     }
 }
 

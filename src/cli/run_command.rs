@@ -5,14 +5,18 @@ use std::path::PathBuf;
 use anyhow::{Context, Result};
 use clap::Args;
 
-use sojourn::medium::model_file::{DEMO_MODEL_JSON, DEMO_MODEL_LABEL, load_model, parse_model};
+use serde_json::Value;
+use sojourn::medium::model_file::{
+    DEMO_MODEL_JSON, DEMO_MODEL_LABEL, load_model_value, model_from_value, parse_model_value,
+};
 use sojourn::medium::{Geometry, Medium};
 use sojourn::report::slab_optics::resolved_layout;
 use sojourn::report::{RunReport, render_run_report};
-use sojourn::simulation::{Method, RunConfig, run};
+use sojourn::simulation::{Method, RunConfig};
 use sojourn::transport::{Acceleration, WalkLimits};
 
 use super::output::write_text;
+use super::run_scale::{ScaleArgs, ScaledRun};
 
 /// Arguments of `sojourn run`.
 #[derive(Debug, Args)]
@@ -65,6 +69,8 @@ pub struct RunArgs {
     /// With --resolve: number of exit-cosine bins.
     #[arg(long, default_value_t = 20, value_parser = clap::value_parser!(u64).range(1..=10_000))]
     cosine_bins: u64,
+    #[command(flatten)]
+    scale: ScaleArgs,
 }
 
 /// Walk methods on the command line.
@@ -97,19 +103,21 @@ fn positive_number(text: &str) -> Result<f64, String> {
     }
 }
 
-fn load(args: &RunArgs) -> Result<(Medium, String)> {
-    match &args.model {
-        Some(path) => Ok((load_model(path)?, path.display().to_string())),
-        None => Ok((
-            parse_model(DEMO_MODEL_JSON, DEMO_MODEL_LABEL)?,
+/// The medium, its label and its model-file JSON (kept for shard files).
+fn load(args: &RunArgs) -> Result<(Medium, String, Value)> {
+    let (value, file) = match &args.model {
+        Some(path) => (load_model_value(path)?, path.display().to_string()),
+        None => (
+            parse_model_value(DEMO_MODEL_JSON, DEMO_MODEL_LABEL)?,
             DEMO_MODEL_LABEL.to_string(),
-        )),
-    }
+        ),
+    };
+    Ok((model_from_value(&value, &file)?, file, value))
 }
 
 /// Runs the subcommand.
 pub fn execute(args: RunArgs) -> Result<()> {
-    let (medium, file) = load(&args)?;
+    let (medium, file, model) = load(&args)?;
     if args.resolve && medium.geometry() != Geometry::Slab {
         anyhow::bail!("{file}: --resolve is for slabs; this model is a sphere");
     }
@@ -141,11 +149,13 @@ pub fn execute(args: RunArgs) -> Result<()> {
         pool = pool.num_threads(threads as usize);
     }
     let pool = pool.build().context("cannot start the worker threads")?;
-    let result = pool.install(|| run(&medium, &config));
-    let report = RunReport::new(&medium, &file, &config, &result);
+    let scaled = ScaledRun::new(&args.scale, &config, &model, &file);
+    let result = pool.install(|| scaled.run(&medium))?;
+    let mut report = RunReport::new(&medium, &file, scaled.config(), &result);
+    scaled.annotate(&mut report);
     let json_to_stdout = args.json.as_deref() == Some(std::path::Path::new("-"));
     if let Some(path) = &args.json {
-        let json = serde_json::to_string_pretty(&report)? + "\n";
+        let json = scaled.json(&report, &result)?;
         write_text(path, &json)
             .with_context(|| format!("cannot write the JSON report to {}", path.display()))?;
     }

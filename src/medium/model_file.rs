@@ -176,14 +176,35 @@ pub fn load_model(path: &Path) -> Result<Medium, ModelError> {
 /// # Errors
 /// [`ModelError`] naming the file, the field, the value and what was expected.
 pub fn parse_model(text: &str, file: &str) -> Result<Medium, ModelError> {
-    let value: serde_json::Value =
-        serde_json::from_str(text).map_err(|error| ModelError::Syntax {
-            file: file.to_string(),
-            line: error.line(),
-            column: error.column(),
-            message: strip_position(&error.to_string()),
-        })?;
-    model_from_value(&value, file)
+    model_from_value(&parse_model_value(text, file)?, file)
+}
+
+/// Parses model-file text into its JSON value without building the medium (for callers
+/// that keep or edit the JSON, e.g. shard files and sweeps); `file` labels errors.
+///
+/// # Errors
+/// [`ModelError::Syntax`] with the line and column of the problem.
+pub fn parse_model_value(text: &str, file: &str) -> Result<serde_json::Value, ModelError> {
+    serde_json::from_str(text).map_err(|error| ModelError::Syntax {
+        file: file.to_string(),
+        line: error.line(),
+        column: error.column(),
+        message: strip_position(&error.to_string()),
+    })
+}
+
+/// Reads a model file into its JSON value without building the medium; see
+/// [`parse_model_value`].
+///
+/// # Errors
+/// [`ModelError::Read`] or [`ModelError::Syntax`].
+pub fn load_model_value(path: &Path) -> Result<serde_json::Value, ModelError> {
+    let file = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|source| ModelError::Read {
+        file: file.clone(),
+        source,
+    })?;
+    parse_model_value(&text, &file)
 }
 
 /// Builds a medium from an already parsed model-file JSON value; `file` labels errors.

@@ -40,7 +40,7 @@ use crate::tally::{Outcome, PhotonRecord};
 use crate::units::SPEED_OF_LIGHT_CM_S;
 
 /// Parameters of the accelerated walk.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Acceleration {
     /// Jump only where R₀ ≥ γ transport mean free paths.
     pub gamma: f64,

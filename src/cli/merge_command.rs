@@ -1,0 +1,98 @@
+//! `sojourn merge`: joins the shard files of a run (or of a sweep) into the result of the
+//! unsplit run, refusing files that do not belong together.
+
+use std::path::{Path, PathBuf};
+
+use anyhow::{Result, bail};
+use clap::Args;
+
+use sojourn::report::render_run_report;
+use sojourn::shard::{RunShard, ShardFile, merge_run_shards, read_shard_file};
+use sojourn::sweep::PointResult;
+use sojourn::sweep::merge::{SweepShard, merge_sweep_shards};
+use sojourn::sweep::table::{SweepRow, csv_text, jsonl_text, render_text};
+
+use super::output::write_text;
+
+/// Arguments of `sojourn merge`.
+#[derive(Debug, Args)]
+pub struct MergeArgs {
+    /// Shard files: every `sojourn run --shard K/N --json PATH` output of one run, or every
+    /// `OUT/shard-K-of-N.json` of one sweep.
+    #[arg(required = true, value_name = "SHARD")]
+    files: Vec<PathBuf>,
+    /// Write the merged JSON to PATH (`-` for stdout): the run report, or for a sweep its
+    /// table as JSON Lines.
+    #[arg(long, value_name = "PATH")]
+    json: Option<PathBuf>,
+    /// Sweeps: write the table as CSV to PATH (`-` for stdout).
+    #[arg(long, value_name = "PATH")]
+    csv: Option<PathBuf>,
+    /// Sweeps: write DIR/sweep.csv and DIR/sweep.jsonl, as an unsplit sweep does.
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+}
+
+/// Runs the subcommand.
+pub fn execute(args: MergeArgs) -> Result<()> {
+    let mut runs: Vec<RunShard> = Vec::new();
+    let mut sweeps: Vec<SweepShard> = Vec::new();
+    for path in &args.files {
+        match read_shard_file(path)? {
+            ShardFile::Run(shard) => runs.push(*shard),
+            ShardFile::Sweep(shard) => sweeps.push(shard),
+        }
+    }
+    if let (Some(run), Some(sweep)) = (runs.first(), sweeps.first()) {
+        bail!(
+            "{} is a shard of a run but {} is a shard of a sweep: merge the shards of one run or of one sweep",
+            run.file,
+            sweep.file
+        );
+    }
+    if !runs.is_empty() {
+        merge_runs(runs, &args)
+    } else {
+        merge_sweeps(sweeps, &args)
+    }
+}
+
+fn merge_runs(shards: Vec<RunShard>, args: &MergeArgs) -> Result<()> {
+    if args.csv.is_some() || args.out.is_some() {
+        bail!("--csv and --out are for sweep shards; a run's merged report goes to --json PATH");
+    }
+    let merged = merge_run_shards(shards)?;
+    let report = merged.report();
+    let json_to_stdout = args.json.as_deref() == Some(Path::new("-"));
+    if let Some(path) = &args.json {
+        let json = serde_json::to_string_pretty(&report)? + "\n";
+        write_text(path, &json)?;
+    }
+    if !json_to_stdout {
+        write_text(Path::new("-"), &render_run_report(&report))?;
+    }
+    Ok(())
+}
+
+fn merge_sweeps(shards: Vec<SweepShard>, args: &MergeArgs) -> Result<()> {
+    let merged = merge_sweep_shards(shards)?;
+    let rows: Vec<SweepRow> = merged.results.iter().map(PointResult::row).collect();
+    let mut to_stdout = false;
+    if let Some(path) = &args.json {
+        to_stdout |= path == Path::new("-");
+        write_text(path, &jsonl_text(&rows))?;
+    }
+    if let Some(path) = &args.csv {
+        to_stdout |= path == Path::new("-");
+        write_text(path, &csv_text(&rows))?;
+    }
+    if let Some(dir) = &args.out {
+        std::fs::create_dir_all(dir)?;
+        write_text(&dir.join("sweep.csv"), &csv_text(&rows))?;
+        write_text(&dir.join("sweep.jsonl"), &jsonl_text(&rows))?;
+    }
+    if !to_stdout {
+        write_text(Path::new("-"), &render_text(&merged.results))?;
+    }
+    Ok(())
+}
