@@ -22,12 +22,12 @@ pub const DEMO_MODEL_LABEL: &str = "<embedded demo: models/ember-two-zone.json>"
 #[non_exhaustive]
 pub enum ModelError {
     /// The file could not be read.
-    #[error("{file}: cannot read the model file: {source}")]
+    #[error("{file}: cannot read the model file: {cause}")]
     Read {
         /// The file.
         file: String,
         /// The operating-system error.
-        source: std::io::Error,
+        cause: std::io::Error,
     },
     /// The text is not JSON.
     #[error("{file}: line {line}, column {column}: not valid JSON: {message}")]
@@ -164,9 +164,9 @@ struct SourceSpec {
 /// [`ModelError`] naming the file, the field, the value and what was expected.
 pub fn load_model(path: &Path) -> Result<Medium, ModelError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| ModelError::Read {
+    let text = std::fs::read_to_string(path).map_err(|cause| ModelError::Read {
         file: file.clone(),
-        source,
+        cause,
     })?;
     parse_model(&text, &file)
 }
@@ -200,9 +200,9 @@ pub fn parse_model_value(text: &str, file: &str) -> Result<serde_json::Value, Mo
 /// [`ModelError::Read`] or [`ModelError::Syntax`].
 pub fn load_model_value(path: &Path) -> Result<serde_json::Value, ModelError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| ModelError::Read {
+    let text = std::fs::read_to_string(path).map_err(|cause| ModelError::Read {
         file: file.clone(),
-        source,
+        cause,
     })?;
     parse_model_value(&text, &file)
 }

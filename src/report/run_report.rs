@@ -320,7 +320,9 @@ impl RunReport {
         }
         if medium.layers().iter().any(|layer| layer.albedo() < 1.0) {
             notes.push(
-                "the medium absorbs: the diffusion mean times are those of conservative                  diffusion, while absorption removes long paths from the Monte Carlo escape                  times, so the time ratios fall below 1"
+                "the medium absorbs: the diffusion mean times are those of conservative \
+                 diffusion, while absorption removes long paths from the Monte Carlo escape \
+                 times, so the time ratios fall below 1"
                     .to_string(),
             );
         }

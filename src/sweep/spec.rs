@@ -204,9 +204,9 @@ impl ResolvedSpec {
         Self::parse(&text, &file, |model| {
             let model_path = directory.join(model);
             let label = model_path.display().to_string();
-            let text = std::fs::read_to_string(&model_path).map_err(|source| ModelError::Read {
+            let text = std::fs::read_to_string(&model_path).map_err(|cause| ModelError::Read {
                 file: label.clone(),
-                source,
+                cause,
             })?;
             Ok((parse_model_value(&text, &label)?, label))
         })
