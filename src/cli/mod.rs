@@ -1,6 +1,7 @@
 //! Command-line parsing and the glue from arguments to library calls, one file per
 //! subcommand.
 
+mod figures;
 mod output;
 mod run_command;
 
