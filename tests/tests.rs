@@ -6,4 +6,5 @@
 
 mod cli;
 mod physics;
+mod report;
 mod support;

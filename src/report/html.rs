@@ -30,7 +30,7 @@ figure{margin:2em 0}figure svg{max-width:100%;height:auto;border:1px solid #e3e7
 figcaption{color:#6b7480;margin-top:.4em}nav a{margin-right:1em}";
 
 /// The HTML document: `title`, a `subtitle` line, the text report in `<pre>`, then each
-/// figure's SVG inline with its title as caption.
+/// figure's SVG inline with its caption.
 pub fn render_html_report(title: &str, subtitle: &str, text: &str, figures: &[Figure]) -> String {
     let mut out = String::new();
     let _ = write!(
@@ -66,7 +66,7 @@ pub fn render_html_report(title: &str, subtitle: &str, text: &str, figures: &[Fi
             "<figure id=\"{}\">\n{}\n<figcaption>{}</figcaption>\n</figure>\n",
             escape_html(&figure.name),
             figure.svg.trim(),
-            escape_html(&figure.title)
+            escape_html(&figure.caption)
         );
     }
     out.push_str("</body>\n</html>\n");
@@ -82,12 +82,13 @@ mod tests {
         let figure = Figure {
             name: "a".into(),
             title: "A <b>".into(),
+            caption: "what it shows".into(),
             svg: "<svg xmlns=\"http://www.w3.org/2000/svg\"></svg>".into(),
         };
         let html = render_html_report("T & U", "sub", "x < y", &[figure]);
         assert!(html.contains("<title>T &amp; U</title>"));
         assert!(html.contains("<pre>x &lt; y</pre>"));
         assert!(html.contains("<svg xmlns"));
-        assert!(html.contains("A &lt;b&gt;"));
+        assert!(html.contains("<figcaption>what it shows</figcaption>"));
     }
 }

@@ -1,4 +1,5 @@
 //! The command-line tool, driven as a user would.
 
 mod bad_models;
+mod plots;
 mod run_command;

@@ -67,6 +67,8 @@ pub struct DistributionPanel {
     pub marks: Vec<Mark>,
     /// Extra legend lines.
     pub notes: Vec<String>,
+    /// What the figure shows, for captions.
+    pub caption: String,
 }
 
 /// Quantiles (p, 1 − p) at which the axis choice looks at the sample's spread.
@@ -200,6 +202,7 @@ impl Panel for DistributionPanel {
         Ok(Figure {
             name: self.name.clone(),
             title: self.title.clone(),
+            caption: self.caption.clone(),
             svg: super::histogram_chart(&spec)?,
         })
     }

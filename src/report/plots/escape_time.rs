@@ -137,5 +137,9 @@ pub fn escape_time_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
         theory,
         marks,
         notes,
+        caption: "Monte Carlo histogram of the time photons spent in the medium, as a \
+                  probability density, with diffusion theory on the same axes; vertical lines \
+                  mark the means, the medians and the rule of thumb."
+            .into(),
     })
 }

@@ -61,8 +61,10 @@ pub use style::{Colour, Dash, LineStyle, MarkerShape, SeriesStyle};
 pub struct Figure {
     /// File stem, e.g. `escape-time` (written as `escape-time.svg`).
     pub name: String,
-    /// Title, for captions.
+    /// Title (as drawn on the figure).
     pub title: String,
+    /// One or two sentences on what the figure shows, for captions.
+    pub caption: String,
     /// The SVG document.
     pub svg: String,
 }

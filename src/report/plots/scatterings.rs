@@ -109,5 +109,9 @@ pub fn scatterings_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
         theory,
         marks,
         notes: Vec::new(),
+        caption: "Monte Carlo histogram of the number of scatterings before escape, as a \
+                  probability density, with diffusion theory (time converted at the scattering \
+                  rate); vertical lines mark the means, the medians and N ≈ τ²."
+            .into(),
     })
 }

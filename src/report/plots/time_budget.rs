@@ -207,6 +207,10 @@ impl Panel for TimeBudgetPanel {
         Ok(Figure {
             name: self.name.clone(),
             title: self.title.clone(),
+            caption: "Cumulative share of the steady-diffusion mean exit time spent inside \
+                      radius r (surface at the boundary), against the share of optical depth; \
+                      squares are the model's own layer boundaries."
+                .into(),
             svg: super::line_chart(&self.spec())?,
         })
     }
