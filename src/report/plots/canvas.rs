@@ -280,7 +280,7 @@ pub fn render(spec: &ChartSpec, bars: Option<&Bars>) -> Result<String, PlotError
         draw_titles(&root, spec).map_err(|e| failed(&e))?;
         let (_, rest) = root.split_vertically(TITLE_BLOCK);
         let (chart_area, _) = rest.split_vertically(size::CHART_HEIGHT - TITLE_BLOCK);
-        let mut chart = build_chart(&chart_area, spec, &frame).map_err(|e| failed(&e))?;
+        let mut chart = build_chart(&chart_area, &frame).map_err(|e| failed(&e))?;
         draw_mesh(&mut chart, spec, &frame).map_err(|e| failed(&e))?;
         let plot = chart.plotting_area().get_pixel_range();
         let plot = (plot.0.start, plot.0.end - 1, plot.1.start, plot.1.end - 1);
@@ -349,10 +349,8 @@ fn draw_titles(root: &Root, spec: &ChartSpec) -> DrawResult {
 
 fn build_chart<'a, 'b>(
     area: &'a Root<'b>,
-    spec: &ChartSpec,
     frame: &Frame,
 ) -> Result<Chart<'a, 'b>, DrawingAreaErrorKind<std::io::Error>> {
-    let _ = spec;
     let x = TickedAxis::new(frame.x_range, &frame.x_ticks);
     let y = TickedAxis::new(frame.y_range, &frame.y_ticks);
     ChartBuilder::on(area)

@@ -207,3 +207,77 @@ impl Panel for DistributionPanel {
         })
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::plots::style::{Colour, Dash};
+    use crate::tally::LogLayout;
+
+    fn panel(values: impl Iterator<Item = f64>) -> DistributionPanel {
+        let mut histogram = LogHistogram::new(LogLayout::TIME_S);
+        values.for_each(|v| histogram.add(v));
+        DistributionPanel {
+            name: "t".into(),
+            title: "t".into(),
+            subtitle: String::new(),
+            quantity: "time".into(),
+            symbol: "t".into(),
+            unit: DisplayUnit::time_for(1e-9),
+            histogram,
+            whole_numbers: false,
+            sample_label: "sample".into(),
+            theory: None,
+            marks: vec![
+                Mark {
+                    label: "near".into(),
+                    value: 1.5e-9,
+                    style: LineStyle::new(Colour::Indigo, 2.0, Dash::Dashed),
+                },
+                Mark {
+                    label: "far".into(),
+                    value: 1.0,
+                    style: LineStyle::new(Colour::Ochre, 2.0, Dash::DashDot),
+                },
+            ],
+            notes: Vec::new(),
+            caption: String::new(),
+        }
+    }
+
+    #[test]
+    fn narrow_samples_get_a_linear_axis_and_density_per_unit() {
+        // Uniform on 1–2 ns: less than a decade, so linear, density per ns.
+        let panel = panel((0..4000).map(|k| 1e-9 * (1.0 + (k as f64 + 0.5) / 4000.0)));
+        assert!(!panel.log_axis());
+        let spec = panel.spec().unwrap();
+        assert_eq!(spec.chart.x_axis.label, "time (ns)");
+        assert_eq!(spec.chart.y_axis.label, "probability density dP/dt (1/ns)");
+        let area: f64 = spec
+            .bars
+            .heights
+            .iter()
+            .zip(spec.bars.edges.windows(2))
+            .map(|(h, e)| h * (e[1] - e[0]))
+            .sum();
+        assert!((area - 1.0).abs() < 1e-9, "{area}");
+        // The far mark is listed, not drawn.
+        assert_eq!(spec.chart.reference_lines.len(), 1);
+        assert!(spec.chart.notes[0].starts_with("far (off scale"));
+    }
+
+    #[test]
+    fn wide_samples_get_a_log_axis() {
+        let panel = panel((0..1000).map(|k| 1e-9 * 10f64.powf(k as f64 / 500.0)));
+        assert!(panel.log_axis());
+        assert!(
+            panel
+                .spec()
+                .unwrap()
+                .chart
+                .y_axis
+                .label
+                .contains("per unit ln t")
+        );
+    }
+}
