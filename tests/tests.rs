@@ -6,5 +6,6 @@
 
 mod cli;
 mod physics;
+mod report;
 mod scale;
 mod support;

@@ -1,6 +1,7 @@
 //! Command-line parsing and the glue from arguments to library calls, one file per
 //! subcommand.
 
+mod figures;
 mod merge_command;
 mod output;
 mod progress;

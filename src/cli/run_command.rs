@@ -15,6 +15,7 @@ use sojourn::report::{RunReport, render_run_report};
 use sojourn::simulation::{Method, RunConfig};
 use sojourn::transport::{Acceleration, WalkLimits};
 
+use super::figures::write_run_figures;
 use super::output::write_text;
 use super::run_scale::{ScaleArgs, ScaledRun};
 
@@ -71,6 +72,12 @@ pub struct RunArgs {
     cosine_bins: u64,
     #[command(flatten)]
     scale: ScaleArgs,
+    /// Write the run's figures as SVG files into DIR (created if missing).
+    #[arg(long, value_name = "DIR")]
+    plot: Option<PathBuf>,
+    /// Write a single-file HTML report (summary and figures, no external assets) to PATH.
+    #[arg(long, value_name = "PATH")]
+    report: Option<PathBuf>,
 }
 
 /// Walk methods on the command line.
@@ -159,8 +166,17 @@ pub fn execute(args: RunArgs) -> Result<()> {
         write_text(path, &json)
             .with_context(|| format!("cannot write the JSON report to {}", path.display()))?;
     }
+    let text = render_run_report(&report);
+    write_run_figures(
+        args.plot.as_deref(),
+        args.report.as_deref(),
+        &medium,
+        &result.tally,
+        &report,
+        &text,
+    )?;
     if !json_to_stdout {
-        write_text(std::path::Path::new("-"), &render_run_report(&report))?;
+        write_text(std::path::Path::new("-"), &text)?;
     }
     Ok(())
 }

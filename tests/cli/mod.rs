@@ -3,6 +3,7 @@
 mod bad_models;
 mod checkpoints;
 mod cluster_scripts;
+mod plots;
 mod run_command;
 mod scale_support;
 mod shards;

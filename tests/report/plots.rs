@@ -1,0 +1,418 @@
+//! Every chart kind and every panel of a run, drawn for small runs and read back.
+
+use sojourn::medium::{Layer, Medium, Source};
+use sojourn::report::RunReport;
+use sojourn::report::html::render_html_report;
+use sojourn::report::plots::distribution::DistributionPanel;
+use sojourn::report::plots::escape_time::escape_time_panel;
+use sojourn::report::plots::scatterings::scatterings_panel;
+use sojourn::report::plots::time_budget::TimeBudgetPanel;
+use sojourn::report::plots::{
+    Axis, Bars, ChartSpec, Colour, Dash, HistogramSpec, LineStyle, MarkerShape, Panel, PlotError,
+    ReferenceLine, RunInputs, Scale, Series, SeriesStyle, fit, histogram_chart, line_chart,
+    run_figures, run_panels, ticks::transform,
+};
+use sojourn::simulation::{RunConfig, RunResult, run};
+use sojourn::transport::PhaseFunction;
+
+use super::svg::{self, Svg, label_width};
+use crate::support::{layer, uniform_sphere};
+
+struct SmallRun {
+    medium: Medium,
+    result: RunResult,
+    report: RunReport,
+}
+
+impl SmallRun {
+    fn new(medium: Medium, photons: u64) -> Self {
+        let config = RunConfig {
+            photons,
+            seed: 3,
+            ..RunConfig::default()
+        };
+        let result = run(&medium, &config);
+        let report = RunReport::new(&medium, "test", &config, &result);
+        Self {
+            medium,
+            result,
+            report,
+        }
+    }
+
+    fn inputs(&self) -> RunInputs<'_> {
+        RunInputs {
+            medium: &self.medium,
+            tally: &self.result.tally,
+            report: &self.report,
+        }
+    }
+}
+
+fn two_zone_sphere() -> Medium {
+    let core = Layer::new("core", 40.0, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
+    let envelope = Layer::new("envelope", 4.0, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
+    Medium::sphere(vec![(0.3, core), (1.0, envelope)], Source::centre())
+        .unwrap()
+        .with_name("two-zone test sphere")
+}
+
+fn slab() -> Medium {
+    Medium::slab(
+        vec![(
+            1.0,
+            layer(8.0, 0.98, PhaseFunction::HenyeyGreenstein { g: 0.5 }),
+        )],
+        1.0,
+        Source::normal_beam(),
+    )
+    .unwrap()
+}
+
+/// The bars are drawn once each (plus the legend swatch), inside the plot frame, and both
+/// legend entries of a distribution (sample and theory, where there is one) are present.
+fn check_distribution(panel: &DistributionPanel, expect_theory: bool) -> Svg {
+    let spec = panel.spec().unwrap();
+    let figure = panel.render().unwrap();
+    assert_eq!(figure.name, panel.name);
+    let svg = svg::parse(&figure.svg);
+    let bars = svg.filled(&Colour::BarFill.hex());
+    assert_eq!(
+        bars.len(),
+        spec.bars.drawn() + 1,
+        "one rect per non-empty bar plus the legend swatch"
+    );
+    assert!(spec.bars.drawn() >= 5, "{} bars", spec.bars.drawn());
+    assert!(svg.has_text(&spec.bars.label), "legend lacks the histogram");
+    assert_eq!(spec.chart.series.len(), usize::from(expect_theory));
+    for series in &spec.chart.series {
+        assert!(
+            svg.has_text(&series.label),
+            "legend lacks {:?}",
+            series.label
+        );
+    }
+    for line in &spec.chart.reference_lines {
+        assert!(svg.has_text(&line.label), "legend lacks {:?}", line.label);
+    }
+    check_ranges(&spec.chart, Some(&spec.bars));
+    // In pixels: every bar sits inside the frame.
+    let frame = svg.frame(&Colour::Ink.hex());
+    let legend_swatch_top = frame.y + frame.height + 60.0;
+    for bar in bars.iter().filter(|b| b.y < legend_swatch_top) {
+        assert!(bar.x >= frame.x - 0.5 && bar.x + bar.width <= frame.x + frame.width + 0.5);
+        assert!(bar.y >= frame.y - 0.5 && bar.y + bar.height <= frame.y + frame.height + 0.5);
+    }
+    check_tick_labels(&svg);
+    svg
+}
+
+/// The fitted axes hold every bar, point (with its error bar) and reference line.
+fn check_ranges(chart: &ChartSpec, bars: Option<&Bars>) {
+    let frame = fit(chart, bars).unwrap();
+    let (xs, ys) = (chart.x_axis.scale, chart.y_axis.scale);
+    let inside = |range: (f64, f64), t: Option<f64>| {
+        t.is_none_or(|t| t >= range.0 - 1e-12 && t <= range.1 + 1e-12)
+    };
+    if let Some(bars) = bars {
+        for (i, &h) in bars.heights.iter().enumerate() {
+            if h > 0.0 {
+                assert!(inside(frame.x_range, transform(xs, bars.edges[i])));
+                assert!(inside(frame.x_range, transform(xs, bars.edges[i + 1])));
+                assert!(inside(frame.y_range, transform(ys, h)), "bar {i} = {h}");
+            }
+        }
+    }
+    for series in &chart.series {
+        for (i, &(x, y)) in series.points.iter().enumerate() {
+            assert!(inside(frame.x_range, transform(xs, x)), "{x} outside x");
+            assert!(inside(frame.y_range, transform(ys, y)), "{y} outside y");
+            if let Some(errors) = &series.y_errors {
+                assert!(inside(frame.y_range, transform(ys, y + errors[i])));
+            }
+        }
+    }
+    for line in &chart.reference_lines {
+        assert!(
+            inside(frame.x_range, transform(xs, line.value))
+                || inside(frame.y_range, transform(ys, line.value))
+        );
+    }
+    assert!(frame.x_ticks.major.len() >= 2, "{:?}", frame.x_ticks);
+    assert!(frame.y_ticks.major.len() >= 2, "{:?}", frame.y_ticks);
+}
+
+/// Neighbouring x tick labels do not overlap.
+fn check_tick_labels(svg: &Svg) {
+    let frame = svg.frame(&Colour::Ink.hex());
+    let labels = svg.x_tick_labels(&frame);
+    assert!(labels.len() >= 2, "x tick labels: {labels:?}");
+    for pair in labels.windows(2) {
+        let gap = pair[1].x - pair[0].x;
+        let needed = (label_width(&pair[0]) + label_width(&pair[1])) / 2.0;
+        assert!(
+            gap > needed,
+            "tick labels {:?} and {:?} overlap",
+            pair[0].text,
+            pair[1].text
+        );
+    }
+}
+
+#[test]
+fn uniform_sphere_escape_times_sit_on_the_first_passage_curve() {
+    let run = SmallRun::new(uniform_sphere(6.0), 3000);
+    let panel = escape_time_panel(&run.inputs()).unwrap();
+    let svg = check_distribution(&panel, true);
+    assert!(svg.has_text("diffusion first-passage density (extrapolated radius)"));
+    let labels: Vec<&str> = panel.marks.iter().map(|m| m.label.as_str()).collect();
+    for start in [
+        "Monte Carlo mean",
+        "Monte Carlo median",
+        "diffusion mean",
+        "diffusion median",
+        "rule of thumb",
+    ] {
+        assert!(
+            labels.iter().any(|l| l.starts_with(start)),
+            "no mark {start:?} in {labels:?}"
+        );
+    }
+    // The theory curve is a density: on the log axis (per unit ln t) its area is 1.
+    let spec = panel.spec().unwrap();
+    assert_eq!(spec.chart.x_axis.scale, Scale::Log);
+    assert!(spec.chart.y_axis.label.contains("per unit ln t"));
+    let curve = &spec.chart.series[0].points;
+    let area: f64 = curve
+        .windows(2)
+        .map(|w| (w[1].0 / w[0].0).ln() * (w[0].1 + w[1].1) / 2.0)
+        .sum();
+    assert!((area - 1.0).abs() < 1e-3, "area under the curve {area}");
+    // And so is the histogram's (every photon escapes a conservative sphere).
+    let bars = &spec.bars;
+    let area: f64 = bars
+        .heights
+        .iter()
+        .zip(bars.edges.windows(2))
+        .map(|(h, e)| h * (e[1] / e[0]).ln())
+        .sum();
+    assert!((area - 1.0).abs() < 1e-9, "area under the bars {area}");
+    assert!(spec.chart.title.contains("Escape time"));
+    assert!(spec.chart.subtitle.contains("3\u{2009}000 photons"));
+}
+
+#[test]
+fn scattering_counts_render_with_theory_and_integer_bars() {
+    let run = SmallRun::new(uniform_sphere(6.0), 3000);
+    let panel = scatterings_panel(&run.inputs()).unwrap();
+    check_distribution(&panel, true);
+    let spec = panel.spec().unwrap();
+    assert!(
+        spec.bars.edges.iter().all(|e| e.fract() == 0.5),
+        "{:?}",
+        spec.bars.edges
+    );
+}
+
+#[test]
+fn layered_sphere_marks_diffusion_means_and_has_a_time_budget() {
+    let run = SmallRun::new(two_zone_sphere(), 2000);
+    let panel = escape_time_panel(&run.inputs()).unwrap();
+    check_distribution(&panel, false);
+    let labels: Vec<&str> = panel.marks.iter().map(|m| m.label.as_str()).collect();
+    assert!(
+        labels
+            .iter()
+            .any(|l| l.starts_with("diffusion mean, extrapolated surface"))
+    );
+    assert!(
+        labels
+            .iter()
+            .any(|l| l.starts_with("diffusion mean, surface at boundary"))
+    );
+
+    let budget = TimeBudgetPanel::for_run(&run.inputs()).unwrap();
+    // The layer shares are the diffusion estimate's, and the fine curve ends at 100 %.
+    let total: f64 = budget.layers.iter().map(|l| l.share).sum();
+    assert!((total - 1.0).abs() < 1e-12);
+    let last = budget.time_share.last().unwrap();
+    assert!((last.0 - 1.0).abs() < 1e-12 && (last.1 - 1.0).abs() < 1e-9);
+    // The fine curve passes through the model's own layer points.
+    let at_core = budget
+        .time_share
+        .iter()
+        .find(|(r, _)| (r - 0.3).abs() < 1e-12)
+        .unwrap();
+    assert!((at_core.1 - budget.layers[0].cumulative_share).abs() < 1e-9);
+    let spec = budget.spec();
+    check_ranges(&spec, None);
+    let figure = budget.render().unwrap();
+    let svg = svg::parse(&figure.svg);
+    for series in spec.series.iter().filter(|s| !s.label.is_empty()) {
+        assert!(
+            svg.has_text(&series.label),
+            "legend lacks {:?}",
+            series.label
+        );
+    }
+    assert!(svg.has_text("half of the time"));
+    // Layer-boundary markers: one open square per layer and the centre, plus the legend's.
+    let squares = svg
+        .rects
+        .iter()
+        .filter(|r| r.stroke == Colour::Vermilion.hex().to_uppercase() && r.fill == "NONE")
+        .count();
+    assert_eq!(squares, budget.layers.len() + 2);
+    check_tick_labels(&svg);
+}
+
+#[test]
+fn run_figures_cover_each_geometry() {
+    let sphere = SmallRun::new(two_zone_sphere(), 800);
+    let names: Vec<String> = run_panels(&sphere.inputs())
+        .iter()
+        .map(|p| p.name().to_string())
+        .collect();
+    assert_eq!(names, ["escape-time", "scatterings", "time-budget"]);
+    let slab = SmallRun::new(slab(), 1500);
+    let figures = run_figures(&slab.inputs()).unwrap();
+    let names: Vec<&str> = figures.iter().map(|f| f.name.as_str()).collect();
+    assert_eq!(
+        names,
+        ["escape-time", "scatterings"],
+        "no time budget for a slab"
+    );
+    for figure in &figures {
+        svg::parse(&figure.svg);
+    }
+    let panel = escape_time_panel(&slab.inputs()).unwrap();
+    check_distribution(&panel, false);
+    let html = render_html_report("slab", "sub", "report <text>", &figures);
+    assert_eq!(html.matches("<svg").count(), 2);
+    assert!(html.contains("report &lt;text&gt;"));
+}
+
+#[test]
+fn line_chart_draws_log_axes_error_bars_and_reference_lines() {
+    let points = vec![(2.0, 0.8), (5.0, 4.1), (10.0, 17.0), (50.0, 390.0)];
+    let errors = vec![0.1, 0.3, 1.5, 30.0];
+    let spec = ChartSpec {
+        title: "Mean scatterings against optical radius".into(),
+        subtitle: "four runs".into(),
+        x_axis: Axis::log("optical radius τ"),
+        y_axis: Axis::log("mean scatterings"),
+        series: vec![
+            Series::new(
+                "Monte Carlo ± 1σ",
+                points.clone(),
+                SeriesStyle::points(Colour::Vermilion, MarkerShape::Circle),
+            )
+            .with_y_errors(errors),
+            Series::new(
+                "diffusion τ²/2",
+                (1..=60).map(|t| (t as f64, (t * t) as f64 / 2.0)).collect(),
+                SeriesStyle::cycle(0),
+            ),
+        ],
+        reference_lines: vec![ReferenceLine::horizontal(
+            "one scattering",
+            1.0,
+            LineStyle::new(Colour::Slate, 2.0, Dash::Dotted),
+        )],
+        notes: vec!["a note".into()],
+    };
+    check_ranges(&spec, None);
+    let svg = svg::parse(&line_chart(&spec).unwrap());
+    for label in [
+        "Monte Carlo ± 1σ",
+        "diffusion τ²/2",
+        "one scattering",
+        "a note",
+    ] {
+        assert!(svg.has_text(label), "legend lacks {label:?}");
+    }
+    // One filled circle per point of the first series and one in the legend; the second
+    // series' circles (style 0 has circle markers too) add 60 + 1.
+    assert_eq!(svg.circles, points.len() + 1 + 60 + 1);
+    // Error bars: a stem and two caps per point, and the legend's stem.
+    let vermilion = Colour::Vermilion.hex().to_uppercase();
+    assert_eq!(
+        svg.strokes.iter().filter(|s| **s == vermilion).count(),
+        3 * points.len() + 1
+    );
+    check_tick_labels(&svg);
+}
+
+#[test]
+fn histogram_chart_on_linear_axes_draws_each_bar_once() {
+    let spec = HistogramSpec {
+        chart: ChartSpec {
+            title: "t".into(),
+            subtitle: String::new(),
+            x_axis: Axis::linear("x (ns)"),
+            y_axis: Axis::linear_from_zero("density (1/ns)"),
+            series: vec![],
+            reference_lines: vec![ReferenceLine::vertical(
+                "mean",
+                2.2,
+                LineStyle::new(Colour::Indigo, 2.0, Dash::Dashed),
+            )],
+            notes: vec![],
+        },
+        bars: Bars {
+            label: "sample".into(),
+            edges: vec![0.0, 1.0, 2.0, 3.0, 4.0],
+            heights: vec![0.1, 0.0, 0.5, 0.4],
+        },
+    };
+    check_ranges(&spec.chart, Some(&spec.bars));
+    let svg = svg::parse(&histogram_chart(&spec).unwrap());
+    assert_eq!(svg.filled(&Colour::BarFill.hex()).len(), 3 + 1);
+    assert!(svg.has_text("sample") && svg.has_text("mean"));
+    check_tick_labels(&svg);
+}
+
+#[test]
+fn malformed_specs_are_errors() {
+    let chart = ChartSpec {
+        title: "bad".into(),
+        subtitle: String::new(),
+        x_axis: Axis::log("x"),
+        y_axis: Axis::linear("y"),
+        series: vec![Series::new(
+            "s",
+            vec![(-1.0, 1.0), (0.0, 2.0)],
+            SeriesStyle::cycle(1),
+        )],
+        reference_lines: vec![],
+        notes: vec![],
+    };
+    assert!(matches!(line_chart(&chart), Err(PlotError::NoData { .. })));
+    let spec = HistogramSpec {
+        chart: ChartSpec {
+            x_axis: Axis::linear("x"),
+            ..chart.clone()
+        },
+        bars: Bars {
+            label: "b".into(),
+            edges: vec![0.0, 1.0],
+            heights: vec![1.0, 2.0],
+        },
+    };
+    assert!(matches!(
+        histogram_chart(&spec),
+        Err(PlotError::LengthMismatch { .. })
+    ));
+    let spec = HistogramSpec {
+        bars: Bars {
+            label: "b".into(),
+            edges: vec![0.0, 2.0, 1.0],
+            heights: vec![1.0, 2.0],
+        },
+        ..spec
+    };
+    assert!(matches!(
+        histogram_chart(&spec),
+        Err(PlotError::EdgesNotIncreasing { index: 2, .. })
+    ));
+}
