@@ -1,9 +1,14 @@
 //! Reports of a run: the summary structure (serialised as the JSON report) and its
-//! readable text rendering.
+//! readable text rendering; and the profile report of a sphere's optical structure
+//! (`sojourn profile`), with its text and CSV renderings.
 
+pub mod profile_report;
+mod profile_text;
 mod run_report;
 mod text;
 
+pub use profile_report::ProfileReport;
+pub use profile_text::{render_profile_csv, render_profile_report};
 pub use run_report::{
     Comparison, DiffusionSummary, DistributionSummary, ModelSummary, OutcomeFractions, RunReport,
     WalkSummary,
