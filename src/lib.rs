@@ -25,6 +25,7 @@
 #![deny(missing_docs)]
 
 pub mod diffusion;
+pub mod import;
 pub mod medium;
 pub mod opacity;
 pub mod report;
