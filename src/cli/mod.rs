@@ -1,8 +1,12 @@
 //! Command-line parsing and the glue from arguments to library calls, one file per
 //! subcommand.
 
+mod args;
+mod import_command;
 mod output;
+mod profile_command;
 mod run_command;
+mod star_command;
 
 use anyhow::Result;
 use clap::{Parser, Subcommand};
@@ -20,6 +24,12 @@ struct Cli {
 enum Command {
     /// Run photons through a model and compare with diffusion theory.
     Run(run_command::RunArgs),
+    /// Build a polytropic star (Lane-Emden) and write it as a model file.
+    Star(star_command::StarArgs),
+    /// Read a stellar profile table (columns) and write it as a model file.
+    Import(import_command::ImportArgs),
+    /// Optical structure and diffusion-time budget of a sphere, no Monte Carlo.
+    Profile(profile_command::ProfileArgs),
 }
 
 /// Parses the command line and runs the chosen subcommand.
@@ -27,6 +37,9 @@ pub fn run() -> Result<()> {
     let cli = Cli::parse();
     match cli.command {
         Command::Run(args) => run_command::execute(args),
+        Command::Star(args) => star_command::execute(args),
+        Command::Import(args) => import_command::execute(args),
+        Command::Profile(args) => profile_command::execute(args),
     }
 }
 

@@ -6,7 +6,9 @@ use anyhow::{Context, Result};
 use clap::Args;
 
 use sojourn::medium::Medium;
-use sojourn::medium::model_file::{DEMO_MODEL_JSON, DEMO_MODEL_LABEL, load_model, parse_model};
+use sojourn::medium::model_file::{
+    DEMO_MODEL_JSON, DEMO_MODEL_LABEL, LoadOptions, load_model_with, parse_model_with,
+};
 use sojourn::report::{RunReport, render_run_report};
 use sojourn::simulation::{RunConfig, run};
 use sojourn::transport::WalkLimits;
@@ -33,13 +35,20 @@ pub struct RunArgs {
     /// Free flights allowed per photon before it is counted as censored.
     #[arg(long, default_value_t = WalkLimits::default().max_steps, value_parser = clap::value_parser!(u64).range(1..))]
     max_steps: u64,
+    /// Override the sub-shell tolerance of every tabulated profile layer (relative, e.g.
+    /// 0.01 for neighbouring extinctions within 1 %).
+    #[arg(long, value_parser = super::args::tolerance)]
+    profile_tolerance: Option<f64>,
 }
 
 fn load(args: &RunArgs) -> Result<(Medium, String)> {
+    let options = LoadOptions {
+        profile_tolerance: args.profile_tolerance,
+    };
     match &args.model {
-        Some(path) => Ok((load_model(path)?, path.display().to_string())),
+        Some(path) => Ok((load_model_with(path, &options)?, path.display().to_string())),
         None => Ok((
-            parse_model(DEMO_MODEL_JSON, DEMO_MODEL_LABEL)?,
+            parse_model_with(DEMO_MODEL_JSON, DEMO_MODEL_LABEL, &options)?,
             DEMO_MODEL_LABEL.to_string(),
         )),
     }
