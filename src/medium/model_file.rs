@@ -473,11 +473,8 @@ fn build_medium(spec: &ModelSpec, options: &LoadOptions) -> Result<Medium, Mediu
                 });
             }
             let first = items.len();
-            for (k, is_smooth) in shells.smooth.iter().enumerate() {
-                if *is_smooth {
-                    smooth.push(first + k);
-                }
-            }
+            // Every division inside a profile is a smooth one, not a material interface.
+            smooth.extend(first..first + shells.shells.len() - 1);
             let mut summary = shells.summary;
             summary.model_layer = index;
             summary.first_sub_shell = first;

@@ -310,6 +310,19 @@ impl ProfileReport {
                 .to_string(),
         ];
         notes.extend(profile_notes(medium));
+        let outer_share: f64 = shells
+            .iter()
+            .filter(|s| s.inner_radius_cm >= 0.95 * radius_cm)
+            .map(|s| s.time_share)
+            .sum();
+        if outer_share > 0.1 && profiles.iter().any(|p| p.surface_cut.is_some()) {
+            notes.push(format!(
+                "{:.0} % of the diffusion time accrues in the outer 5 % of the radius, next to \
+                 the surface cut: it depends on where the opacity law is cut off (and a \
+                 convective envelope would carry that energy faster than diffusion)",
+                100.0 * outer_share
+            ));
+        }
         notes.push(format!(
             "the extrapolated time moves the surface out by q∞ = {MILNE_EXTRAPOLATION_LENGTH} \
              transport optical depths (Milne); it is the better estimate of a Monte Carlo mean \
@@ -390,7 +403,7 @@ pub fn profile_notes(medium: &Medium) -> Vec<String> {
             p.rows,
             p.sub_shells,
             p.tolerance * 100.0,
-            p.max_smooth_change * 100.0,
+            p.max_refined_change * 100.0,
             p.optical_depth,
             p.tau_error_relative,
             p.time_error_relative

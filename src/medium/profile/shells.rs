@@ -9,9 +9,9 @@
 //! halved until neighbouring extinctions differ by less than a relative tolerance (default
 //! [`DEFAULT_TOLERANCE`], 1 %), and until the extinction of the profile varies by less than
 //! that across each sub-shell (edge to edge, and edge to mean). Every division inside the
-//! profile is marked smooth ([`crate::medium::Medium::with_smooth_boundaries`]) so that an
-//! accelerated walker may jump across it, except where the tolerance could not be met (see
-//! below), which stay sharp.
+//! profile is marked smooth ([`crate::medium::Medium::with_smooth_boundaries`]): it is not a
+//! material interface, so an accelerated walker may jump across it where its own check of the
+//! mean free path allows.
 //!
 //! **Accuracy report.** [`ProfileSummary::tau_error_relative`] compares the representation's
 //! optical depth with an independent adaptive quadrature of σ(r) over each table interval
@@ -30,9 +30,10 @@
 //!   noted.
 //! * *Vanishing extinction.* Where σ → 0 (tabulated opacity or a constant law at ρ → 0),
 //!   relative changes between neighbours never fall below the tolerance. A pair of
-//!   neighbouring sub-shells whose combined optical thickness is below
-//!   [`THIN_PAIR_OPTICAL_DEPTH`] (10⁻³) is not split further; the division between them stays
-//!   sharp and is counted in [`ProfileSummary::sharp_divisions`]. Nothing is dropped.
+//!   neighbouring sub-shells (or a single sub-shell) whose optical thickness is below
+//!   [`THIN_PAIR_OPTICAL_DEPTH`] (10⁻³) is not split further; divisions where the tolerance is
+//!   therefore not met are counted in [`ProfileSummary::unrefined_divisions`]. Nothing is
+//!   dropped, and τ stays exact.
 //!
 //! The walk treats every interaction in a profile sub-shell as a scattering (albedo 1,
 //! isotropic): in a stellar interior absorption is followed by re-emission, and both count as
@@ -144,11 +145,12 @@ pub struct ProfileSummary {
     pub rows: usize,
     /// Relative tolerance between neighbouring extinctions.
     pub tolerance: f64,
-    /// Largest relative change of extinction across a division marked smooth (≤ tolerance).
-    pub max_smooth_change: f64,
-    /// Divisions left sharp because the pair of sub-shells around them was thinner than
-    /// [`THIN_PAIR_OPTICAL_DEPTH`] before the tolerance was met.
-    pub sharp_divisions: usize,
+    /// Largest relative change of extinction across a division within the tolerance.
+    pub max_refined_change: f64,
+    /// Divisions where neighbouring extinctions still differ by more than the tolerance,
+    /// because the sub-shells around them were thinner than [`THIN_PAIR_OPTICAL_DEPTH`]
+    /// before it was met (near a surface where the extinction vanishes).
+    pub unrefined_divisions: usize,
     /// The opacity, described ("tabulated" for a κ column).
     pub opacity: String,
     /// The opacity law's temperature range, K (None for tabulated opacity).
@@ -182,9 +184,10 @@ pub struct ProfileSummary {
 pub struct ProfileShells {
     /// Sub-shells innermost first as (outer radius cm, layer): albedo 1, isotropic.
     pub shells: Vec<(f64, Layer)>,
-    /// For each division between sub-shells k and k + 1 (k = 0 .. len − 2), whether it is
-    /// smooth (neighbouring extinctions within the tolerance).
-    pub smooth: Vec<bool>,
+    /// For each division between sub-shells k and k + 1 (k = 0 .. len − 2), whether the
+    /// neighbouring extinctions are within the tolerance. Every division is an internal
+    /// division of a smooth profile either way.
+    pub within_tolerance: Vec<bool>,
     /// How the profile was represented.
     pub summary: ProfileSummary,
 }
@@ -452,23 +455,24 @@ impl ProfileTable {
             }
         };
 
-        let mut smooth = Vec::with_capacity(shells.len().saturating_sub(1));
-        let mut max_smooth_change: f64 = 0.0;
+        let mut within_tolerance = Vec::with_capacity(shells.len().saturating_sub(1));
+        let mut max_refined_change: f64 = 0.0;
         for pair in shells.windows(2) {
             let ok = !violates(&pair[0], &pair[1]);
             if ok {
                 let (x, y) = (pair[0].averages.extinction, pair[1].averages.extinction);
                 if x.max(y) > 0.0 {
-                    max_smooth_change = max_smooth_change.max((x - y).abs() / x.max(y));
+                    max_refined_change = max_refined_change.max((x - y).abs() / x.max(y));
                 }
             }
-            smooth.push(ok);
+            within_tolerance.push(ok);
         }
-        let sharp_divisions = smooth.iter().filter(|s| !**s).count();
-        if sharp_divisions > 0 {
+        let unrefined_divisions = within_tolerance.iter().filter(|ok| !**ok).count();
+        if unrefined_divisions > 0 {
             notes.push(format!(
-                "{sharp_divisions} division(s) between optically thin sub-shells (pair τ < \
-                 {THIN_PAIR_OPTICAL_DEPTH}) differ by more than the tolerance and are kept sharp"
+                "{unrefined_divisions} division(s) between optically thin sub-shells (τ < \
+                 {THIN_PAIR_OPTICAL_DEPTH}) differ by more than the tolerance, where the \
+                 extinction falls towards 0; τ is exact there all the same"
             ));
         }
 
@@ -518,8 +522,8 @@ impl ProfileTable {
             sub_shells: layers.len(),
             rows: self.rows(),
             tolerance,
-            max_smooth_change,
-            sharp_divisions,
+            max_refined_change,
+            unrefined_divisions,
             opacity: match &self.columns.opacity {
                 ProfileOpacity::Law(spec) => spec.describe(),
                 ProfileOpacity::Tabulated { .. } => "tabulated".to_string(),
@@ -539,7 +543,7 @@ impl ProfileTable {
         };
         Ok(ProfileShells {
             shells: layers,
-            smooth,
+            within_tolerance,
             summary,
         })
     }
@@ -676,8 +680,8 @@ mod tests {
         for tolerance in [0.05, 0.01, 0.002] {
             let shells = t.to_shells("", 0.0, tolerance).unwrap();
             assert!((shells.summary.optical_depth / 12.5 - 1.0).abs() < 1e-14);
-            assert!(shells.smooth.iter().all(|s| *s));
-            assert!(shells.summary.max_smooth_change <= tolerance);
+            assert!(shells.within_tolerance.iter().all(|ok| *ok));
+            assert!(shells.summary.max_refined_change <= tolerance);
             for pair in shells.shells.windows(2) {
                 let (x, y) = (pair[0].1.extinction_per_cm(), pair[1].1.extinction_per_cm());
                 assert!((x - y).abs() <= tolerance * x.max(y));
@@ -692,10 +696,10 @@ mod tests {
         // ρ → 0 at the surface: the last divisions cannot meet the tolerance.
         let t = table(vec![0.0, 1.0], vec![100.0, 0.0], constant_law(1.0));
         let shells = t.to_shells("", 0.0, 0.01).unwrap();
-        assert!(shells.summary.sharp_divisions > 0);
+        assert!(shells.summary.unrefined_divisions > 0);
         assert!((shells.summary.optical_depth / 50.0 - 1.0).abs() < 1e-13);
         let last = shells.shells.len() - 1;
-        assert!(!shells.smooth[last - 1]);
+        assert!(!shells.within_tolerance[last - 1]);
         assert!(shells.shells.len() < 2000);
     }
 
