@@ -4,6 +4,9 @@
 mod exact_stepping;
 mod h_function;
 mod phase_functions;
+mod profile_media;
+mod profile_monte_carlo;
 mod reproducibility;
 mod slab_reflectance;
 mod sphere_diffusion;
+mod stellar_structure;
