@@ -743,7 +743,12 @@ impl OpacitySpec {
                 value_cm2_g,
                 scattering_fraction,
             } => {
-                format!("constant {value_cm2_g} cm^2/g (scattering fraction {scattering_fraction})")
+                let value = if (1e-3..1e6).contains(&value_cm2_g.abs()) || *value_cm2_g == 0.0 {
+                    format!("{value_cm2_g}")
+                } else {
+                    format!("{value_cm2_g:e}")
+                };
+                format!("constant {value} cm^2/g (scattering fraction {scattering_fraction})")
             }
             OpacitySpec::ElectronScattering {} => "electron scattering".to_string(),
             OpacitySpec::KramersFreeFree { gaunt } => format!("Kramers free-free (g = {gaunt})"),
@@ -1077,6 +1082,14 @@ mod tests {
         assert_eq!(
             spec.describe(),
             "electron scattering + Kramers free-free (g = 1) + Kramers bound-free (g = 1, t = 1)"
+        );
+        let tiny = OpacitySpec::Constant {
+            value_cm2_g: 4.7e-11,
+            scattering_fraction: 1.0,
+        };
+        assert_eq!(
+            tiny.describe(),
+            "constant 4.7e-11 cm^2/g (scattering fraction 1)"
         );
     }
 
