@@ -334,7 +334,7 @@ fn split_fields(line: &str, comma: bool) -> Vec<&str> {
 }
 
 fn parse_number(text: &str) -> Option<f64> {
-    let text = text.trim();
+    let text = text.trim().trim_matches('"').trim();
     text.parse::<f64>()
         .ok()
         .or_else(|| text.replace(['D', 'd'], "e").parse::<f64>().ok())
@@ -890,9 +890,11 @@ mod tests {
     }
 
     #[test]
-    fn fortran_exponents_parse() {
+    fn fortran_exponents_and_quoted_numbers_parse() {
         assert_eq!(parse_number("1.5D+03"), Some(1500.0));
         assert_eq!(parse_number("2.0d-1"), Some(0.2));
+        assert_eq!(parse_number(" \"3.5\" "), Some(3.5));
+        assert_eq!(parse_number("abc"), None);
     }
 
     #[test]

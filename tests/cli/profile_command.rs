@@ -145,3 +145,90 @@ fn slabs_and_double_stdout_are_refused() {
     assert_eq!(output.status.code(), Some(1));
     assert!(output.stdout.is_empty());
 }
+
+#[test]
+fn tolerance_override_changes_the_representation() {
+    let shells = |extra: &[&str]| {
+        let output = sojourn()
+            .args(["profile", "models/tamsin-n1.5-low-mass.json", "--json", "-"])
+            .args(extra)
+            .output()
+            .unwrap();
+        assert!(output.status.success());
+        let report: Value = serde_json::from_slice(&output.stdout).unwrap();
+        let layer = &report["profile"]["layers"][0];
+        (
+            report["shells"].as_array().unwrap().len(),
+            layer["tolerance"].as_f64().unwrap(),
+            report["profile"]["time_error_relative"].as_f64().unwrap(),
+        )
+    };
+    let (default_count, default_tolerance, default_error) = shells(&[]);
+    let (fine_count, fine_tolerance, fine_error) = shells(&["--tolerance", "0.002"]);
+    assert_eq!(default_tolerance, 0.01);
+    assert_eq!(fine_tolerance, 0.002);
+    assert!(
+        fine_count > 3 * default_count,
+        "{fine_count} vs {default_count}"
+    );
+    assert!(fine_error < default_error);
+    let output = sojourn()
+        .args([
+            "profile",
+            "models/tamsin-n1.5-low-mass.json",
+            "--tolerance",
+            "2",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(
+        output.status.code(),
+        Some(2),
+        "clap rejects it as a usage error"
+    );
+}
+
+#[test]
+fn run_walks_a_profile_model_and_notes_its_representation() {
+    let run = |extra: &[&str]| {
+        let output = sojourn()
+            .args([
+                "run",
+                "models/test-polytrope-n3-tau50.json",
+                "--photons",
+                "300",
+                "--json",
+                "-",
+            ])
+            .args(extra)
+            .output()
+            .unwrap();
+        assert!(
+            output.status.success(),
+            "{}",
+            String::from_utf8_lossy(&output.stderr)
+        );
+        serde_json::from_slice::<Value>(&output.stdout).unwrap()
+    };
+    let report = run(&[]);
+    let coarse = run(&["--profile-tolerance", "0.05"]);
+    assert!(
+        coarse["model"]["layers"].as_u64().unwrap() < report["model"]["layers"].as_u64().unwrap()
+    );
+    // τ is exact whatever the tolerance.
+    assert!((report["optical_depth"].as_f64().unwrap() - 50.0).abs() < 1e-9);
+    assert!((coarse["optical_depth"].as_f64().unwrap() - 50.0).abs() < 1e-9);
+    let notes: Vec<&str> = report["notes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|n| n.as_str().unwrap())
+        .collect();
+    assert!(notes.iter().any(|n| n.contains("albedo 1")), "{notes:?}");
+    assert!(
+        notes
+            .iter()
+            .any(|n| n.contains("sub-shells") && n.contains("error against a fine quadrature")),
+        "{notes:?}"
+    );
+}
