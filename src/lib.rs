@@ -9,6 +9,13 @@
 //!
 //! All quantities inside the library are in cgs units (cm, g, s).
 //!
+//! Stellar models: [`star`] solves the Lane–Emden equation and builds polytropic stars,
+//! [`opacity`] holds the opacity laws, [`import`] reads profile tables, and
+//! [`medium::profile`] turns a tabulated radial profile into shells of constant extinction
+//! that the walker steps through with the profile's exact optical depth;
+//! [`report::ProfileReport`] gives a sphere's optical structure and where its diffusion time
+//! accrues, without Monte Carlo.
+//!
 //! ```
 //! use sojourn::medium::{Layer, Medium, Source};
 //! use sojourn::transport::PhaseFunction;
@@ -28,6 +35,7 @@ pub mod atomic_write;
 pub mod checkpoint;
 pub mod diffusion;
 pub mod fingerprint;
+pub mod import;
 pub mod medium;
 pub mod opacity;
 pub mod report;

@@ -93,7 +93,68 @@ pub trait OpacityLaw: Send + Sync + std::fmt::Debug {
     fn mean_free_path_cm(&self, state: &GasState) -> f64 {
         1.0 / (self.opacity_cm2_g(state) * state.density_g_cm3)
     }
+
+    /// The temperature range over which the law is meant to hold, as documented on each law
+    /// (lowest, highest), K. Stellar-profile media end where the gas falls below the lowest
+    /// temperature (see [`crate::medium::profile`]) and note any gas above the highest.
+    /// Default: no limit, (0, ∞).
+    fn temperature_range_k(&self) -> TemperatureRange {
+        TemperatureRange::UNLIMITED
+    }
 }
+
+/// A temperature range, K: the regime in which an opacity law is meant to hold.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct TemperatureRange {
+    /// Lowest temperature, K (0: no lower limit).
+    pub min_k: f64,
+    /// Highest temperature, K (+∞: no upper limit; serialised as null).
+    pub max_k: f64,
+}
+
+impl TemperatureRange {
+    /// No limit: (0, ∞) K.
+    pub const UNLIMITED: Self = Self {
+        min_k: 0.0,
+        max_k: f64::INFINITY,
+    };
+
+    /// The range common to `self` and `other` (the larger minimum, the smaller maximum).
+    pub fn intersect(self, other: Self) -> Self {
+        Self {
+            min_k: self.min_k.max(other.min_k),
+            max_k: self.max_k.min(other.max_k),
+        }
+    }
+
+    /// Whether `temperature_k` lies in [min, max].
+    pub fn contains(&self, temperature_k: f64) -> bool {
+        (self.min_k..=self.max_k).contains(&temperature_k)
+    }
+}
+
+/// Lower end of the electron-scattering range, K: hydrogen is ionised above ≈ 10⁴ K; in
+/// cooler gas free electrons recombine and 0.2 (1 + X) overestimates the opacity.
+pub const ELECTRON_SCATTERING_MIN_TEMPERATURE_K: f64 = 1e4;
+
+/// Upper end of the electron-scattering range, K: well below the electron rest energy
+/// (m_e c²/k_B ≈ 6e9 K), so that Klein–Nishina corrections stay small.
+pub const ELECTRON_SCATTERING_MAX_TEMPERATURE_K: f64 = 1e9;
+
+/// Kramers laws (free–free and bound–free): lowest temperature, K. Carroll & Ostlie,
+/// *An Introduction to Modern Astrophysics*, ch. 9 give them for ionised stellar interiors;
+/// below ≈ 10⁴ K the gas recombines and κ ∝ T^−3.5 diverges as T → 0.
+pub const KRAMERS_MIN_TEMPERATURE_K: f64 = 1e4;
+
+/// Kramers laws: highest temperature, K (above ≈ 10⁸ K electron scattering dominates by
+/// far and the fits are not meant to be used).
+pub const KRAMERS_MAX_TEMPERATURE_K: f64 = 1e8;
+
+/// H⁻ law: lowest temperature, K (below, molecules dominate; memory).
+pub const H_MINUS_MIN_TEMPERATURE_K: f64 = 3000.0;
+
+/// H⁻ law: highest temperature, K (above, H⁻ is destroyed and κ ∝ T⁹ is absurd; memory).
+pub const H_MINUS_MAX_TEMPERATURE_K: f64 = 6000.0;
 
 /// Errors from building an opacity law.
 #[derive(Debug, Clone, PartialEq, Error)]
@@ -177,9 +238,10 @@ impl OpacityLaw for ConstantOpacity {
 /// κ_es = 0.2 (1 + X) cm² g⁻¹ (Carroll & Ostlie, *An Introduction to Modern Astrophysics*,
 /// ch. 9). Pure scattering (fraction 1).
 ///
-/// Valid where hydrogen and helium are fully ionised (T ≳ 10⁵ K in stellar interiors) and
-/// the photon energy is far below the electron rest energy (T ≪ 10⁹ K, no Klein–Nishina
-/// correction). Independent of ρ and T.
+/// Valid where the gas is ionised (hydrogen from T ≈ 10⁴ K, helium fully from ≈ 10⁵ K in
+/// stellar interiors) and the photon energy is far below the electron rest energy (T ≪ 10⁹ K,
+/// no Klein–Nishina correction). Independent of ρ and T. Range used by sojourn:
+/// [`ELECTRON_SCATTERING_MIN_TEMPERATURE_K`] to [`ELECTRON_SCATTERING_MAX_TEMPERATURE_K`].
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub struct ElectronScattering;
 
@@ -190,6 +252,21 @@ impl OpacityLaw for ElectronScattering {
 
     fn scattering_fraction(&self, _state: &GasState) -> f64 {
         1.0
+    }
+
+    fn temperature_range_k(&self) -> TemperatureRange {
+        TemperatureRange {
+            min_k: ELECTRON_SCATTERING_MIN_TEMPERATURE_K,
+            max_k: ELECTRON_SCATTERING_MAX_TEMPERATURE_K,
+        }
+    }
+}
+
+/// The range of both Kramers laws, K.
+fn kramers_range() -> TemperatureRange {
+    TemperatureRange {
+        min_k: KRAMERS_MIN_TEMPERATURE_K,
+        max_k: KRAMERS_MAX_TEMPERATURE_K,
     }
 }
 
@@ -242,6 +319,10 @@ impl OpacityLaw for KramersFreeFree {
 
     fn scattering_fraction(&self, _state: &GasState) -> f64 {
         0.0
+    }
+
+    fn temperature_range_k(&self) -> TemperatureRange {
+        kramers_range()
     }
 }
 
@@ -311,6 +392,10 @@ impl OpacityLaw for KramersBoundFree {
     fn scattering_fraction(&self, _state: &GasState) -> f64 {
         0.0
     }
+
+    fn temperature_range_k(&self) -> TemperatureRange {
+        kramers_range()
+    }
 }
 
 /// Absorption by the negative hydrogen ion, the dominant opacity of cool stellar
@@ -335,6 +420,13 @@ impl OpacityLaw for HMinus {
 
     fn scattering_fraction(&self, _state: &GasState) -> f64 {
         0.0
+    }
+
+    fn temperature_range_k(&self) -> TemperatureRange {
+        TemperatureRange {
+            min_k: H_MINUS_MIN_TEMPERATURE_K,
+            max_k: H_MINUS_MAX_TEMPERATURE_K,
+        }
     }
 }
 
@@ -378,6 +470,15 @@ impl OpacityLaw for SumOfLaws {
             )
         });
         if total > 0.0 { scattering / total } else { 0.0 }
+    }
+
+    /// The range common to all terms.
+    fn temperature_range_k(&self) -> TemperatureRange {
+        self.0
+            .iter()
+            .fold(TemperatureRange::UNLIMITED, |range, law| {
+                range.intersect(law.temperature_range_k())
+            })
     }
 }
 
@@ -448,6 +549,14 @@ impl OpacityLaw for SmoothHMinusBlend {
             (kappa / interior) * (es / interior)
         } else {
             0.0
+        }
+    }
+
+    /// From the H⁻ lower limit (3000 K) to the Kramers upper limit (10⁸ K).
+    fn temperature_range_k(&self) -> TemperatureRange {
+        TemperatureRange {
+            min_k: H_MINUS_MIN_TEMPERATURE_K,
+            max_k: KRAMERS_MAX_TEMPERATURE_K,
         }
     }
 }
@@ -553,6 +662,114 @@ impl OpacitySpec {
                 KramersBoundFree::new(*gaunt_bf, *guillotine)?,
             )),
         })
+    }
+}
+
+impl OpacitySpec {
+    /// Reads a law from a short name or from JSON, as a command line gives it:
+    ///
+    /// * JSON: `{"kind": "kramers_bound_free", "guillotine": 10}` (the model-file form);
+    /// * a name: `electron_scattering` (or `es`), `kramers_free_free` (`ff`),
+    ///   `kramers_bound_free` (`bf`), `kramers` (free–free + bound–free), `h_minus`,
+    ///   `smooth`, or `constant:VALUE` (cm² g⁻¹, pure scattering);
+    /// * a sum of names joined by `+`: `es+kramers` (electron scattering + Kramers free–free
+    ///   + bound–free, Gaunt and guillotine factors 1).
+    ///
+    /// # Errors
+    /// A message naming the part that was not understood.
+    pub fn parse_short(text: &str) -> Result<Self, String> {
+        let text = text.trim();
+        if text.starts_with('{') {
+            let spec: OpacitySpec =
+                serde_json::from_str(text).map_err(|error| format!("{text}: {error}"))?;
+            spec.build().map_err(|error| format!("{text}: {error}"))?;
+            return Ok(spec);
+        }
+        let mut laws = Vec::new();
+        for term in text.split('+') {
+            let term = term.trim();
+            match term {
+                "electron_scattering" | "es" => laws.push(OpacitySpec::ElectronScattering {}),
+                "kramers_free_free" | "ff" => {
+                    laws.push(OpacitySpec::KramersFreeFree { gaunt: 1.0 })
+                }
+                "kramers_bound_free" | "bf" => laws.push(OpacitySpec::KramersBoundFree {
+                    gaunt: 1.0,
+                    guillotine: 1.0,
+                }),
+                "kramers" => {
+                    laws.push(OpacitySpec::KramersFreeFree { gaunt: 1.0 });
+                    laws.push(OpacitySpec::KramersBoundFree {
+                        gaunt: 1.0,
+                        guillotine: 1.0,
+                    });
+                }
+                "h_minus" => laws.push(OpacitySpec::HMinus {}),
+                "smooth" => laws.push(OpacitySpec::Smooth {
+                    gaunt_ff: 1.0,
+                    gaunt_bf: 1.0,
+                    guillotine: 1.0,
+                }),
+                _ => match term.strip_prefix("constant:").map(str::parse::<f64>) {
+                    Some(Ok(value)) => laws.push(OpacitySpec::Constant {
+                        value_cm2_g: value,
+                        scattering_fraction: 1.0,
+                    }),
+                    _ => {
+                        return Err(format!(
+                            "{term:?}: expected es, ff, bf, kramers, h_minus, smooth, \
+                             constant:VALUE (joined with +), or a JSON law {{\"kind\": ...}}"
+                        ));
+                    }
+                },
+            }
+        }
+        let spec = if laws.len() == 1 {
+            laws.pop().expect("one law")
+        } else {
+            OpacitySpec::Sum { laws }
+        };
+        spec.build().map_err(|error| format!("{text}: {error}"))?;
+        Ok(spec)
+    }
+}
+
+impl OpacitySpec {
+    /// A short readable description of the law, e.g.
+    /// "electron scattering + Kramers free-free (g = 1) + Kramers bound-free (g = 1, t = 10)".
+    pub fn describe(&self) -> String {
+        match self {
+            OpacitySpec::Constant {
+                value_cm2_g,
+                scattering_fraction,
+            } => {
+                let value = if (1e-3..1e6).contains(&value_cm2_g.abs()) || *value_cm2_g == 0.0 {
+                    format!("{value_cm2_g}")
+                } else {
+                    format!("{value_cm2_g:e}")
+                };
+                format!("constant {value} cm^2/g (scattering fraction {scattering_fraction})")
+            }
+            OpacitySpec::ElectronScattering {} => "electron scattering".to_string(),
+            OpacitySpec::KramersFreeFree { gaunt } => format!("Kramers free-free (g = {gaunt})"),
+            OpacitySpec::KramersBoundFree { gaunt, guillotine } => {
+                format!("Kramers bound-free (g = {gaunt}, t = {guillotine})")
+            }
+            OpacitySpec::HMinus {} => "H-minus".to_string(),
+            OpacitySpec::Sum { laws } => laws
+                .iter()
+                .map(OpacitySpec::describe)
+                .collect::<Vec<_>>()
+                .join(" + "),
+            OpacitySpec::Smooth {
+                gaunt_ff,
+                gaunt_bf,
+                guillotine,
+            } => format!(
+                "smooth H-minus / (electron scattering + Kramers) blend (g_ff = {gaunt_ff}, \
+                 g_bf = {gaunt_bf}, t = {guillotine})"
+            ),
+        }
     }
 }
 
@@ -839,5 +1056,73 @@ mod tests {
             KramersBoundFree::new(1.0, f64::INFINITY),
             Err(OpacityError::InvalidGuillotine(_))
         ));
+    }
+
+    #[test]
+    fn temperature_ranges_follow_the_documented_regimes() {
+        let spec: OpacitySpec = serde_json::from_str(
+            r#"{ "kind": "sum", "laws": [
+                { "kind": "electron_scattering" },
+                { "kind": "kramers_free_free" },
+                { "kind": "kramers_bound_free" } ] }"#,
+        )
+        .unwrap();
+        let range = spec.build().unwrap().temperature_range_k();
+        assert_eq!(range.min_k, 1e4);
+        assert_eq!(range.max_k, 1e8);
+        assert!(range.contains(1e6) && !range.contains(5e3));
+        let blend = SmoothHMinusBlend::default().temperature_range_k();
+        assert_eq!((blend.min_k, blend.max_k), (3000.0, 1e8));
+        let h = HMinus.temperature_range_k();
+        assert_eq!((h.min_k, h.max_k), (3000.0, 6000.0));
+        let constant = ConstantOpacity::new(1.0, 1.0)
+            .unwrap()
+            .temperature_range_k();
+        assert_eq!(constant, TemperatureRange::UNLIMITED);
+        assert_eq!(
+            spec.describe(),
+            "electron scattering + Kramers free-free (g = 1) + Kramers bound-free (g = 1, t = 1)"
+        );
+        let tiny = OpacitySpec::Constant {
+            value_cm2_g: 4.7e-11,
+            scattering_fraction: 1.0,
+        };
+        assert_eq!(
+            tiny.describe(),
+            "constant 4.7e-11 cm^2/g (scattering fraction 1)"
+        );
+    }
+
+    #[test]
+    fn short_names_parse() {
+        assert_eq!(
+            OpacitySpec::parse_short("es").unwrap(),
+            OpacitySpec::ElectronScattering {}
+        );
+        let OpacitySpec::Sum { laws } = OpacitySpec::parse_short("es+kramers").unwrap() else {
+            panic!("a sum");
+        };
+        assert_eq!(laws.len(), 3);
+        assert_eq!(
+            OpacitySpec::parse_short("constant:0.4").unwrap(),
+            OpacitySpec::Constant {
+                value_cm2_g: 0.4,
+                scattering_fraction: 1.0
+            }
+        );
+        assert_eq!(
+            OpacitySpec::parse_short(r#"{"kind": "kramers_bound_free", "guillotine": 10}"#)
+                .unwrap(),
+            OpacitySpec::KramersBoundFree {
+                gaunt: 1.0,
+                guillotine: 10.0
+            }
+        );
+        assert!(OpacitySpec::parse_short("thomson").is_err());
+        assert!(OpacitySpec::parse_short("constant:-1").is_err());
+        assert!(
+            OpacitySpec::parse_short(r#"{"kind": "kramers_bound_free", "guillotine": 0.5}"#)
+                .is_err()
+        );
     }
 }

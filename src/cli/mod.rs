@@ -1,12 +1,16 @@
 //! Command-line parsing and the glue from arguments to library calls, one file per
 //! subcommand.
 
+mod args;
 mod figures;
+mod import_command;
 mod merge_command;
 mod output;
+mod profile_command;
 mod progress;
 mod run_command;
 mod run_scale;
+mod star_command;
 mod sweep_command;
 
 use anyhow::Result;
@@ -29,6 +33,12 @@ enum Command {
     Sweep(sweep_command::SweepArgs),
     /// Join the shard files of a run (or of a sweep) into the unsplit result.
     Merge(merge_command::MergeArgs),
+    /// Build a polytropic star (Lane-Emden) and write it as a model file.
+    Star(star_command::StarArgs),
+    /// Read a stellar profile table (columns) and write it as a model file.
+    Import(import_command::ImportArgs),
+    /// Optical structure and diffusion-time budget of a sphere, no Monte Carlo.
+    Profile(profile_command::ProfileArgs),
 }
 
 /// Parses the command line and runs the chosen subcommand.
@@ -38,6 +48,9 @@ pub fn run() -> Result<()> {
         Command::Run(args) => run_command::execute(args),
         Command::Sweep(args) => sweep_command::execute(args),
         Command::Merge(args) => merge_command::execute(args),
+        Command::Star(args) => star_command::execute(args),
+        Command::Import(args) => import_command::execute(args),
+        Command::Profile(args) => profile_command::execute(args),
     }
 }
 

@@ -7,7 +7,8 @@ use clap::Args;
 
 use serde_json::Value;
 use sojourn::medium::model_file::{
-    DEMO_MODEL_JSON, DEMO_MODEL_LABEL, load_model_value, model_from_value, parse_model_value,
+    DEMO_MODEL_JSON, DEMO_MODEL_LABEL, LoadOptions, load_model_value, model_from_value_with,
+    parse_model_value,
 };
 use sojourn::medium::{Geometry, Medium};
 use sojourn::report::slab_optics::resolved_layout;
@@ -78,6 +79,11 @@ pub struct RunArgs {
     /// Write a single-file HTML report (summary and figures, no external assets) to PATH.
     #[arg(long, value_name = "PATH")]
     report: Option<PathBuf>,
+    /// Override the sub-shell tolerance of every tabulated profile layer (relative, e.g.
+    /// 0.01 for neighbouring extinctions within 1 %). Not with --shard or --checkpoint,
+    /// whose files rebuild the model with its own tolerance.
+    #[arg(long, value_parser = super::args::tolerance, conflicts_with_all = ["shard", "checkpoint"])]
+    profile_tolerance: Option<f64>,
 }
 
 /// Walk methods on the command line.
@@ -119,7 +125,10 @@ fn load(args: &RunArgs) -> Result<(Medium, String, Value)> {
             DEMO_MODEL_LABEL.to_string(),
         ),
     };
-    Ok((model_from_value(&value, &file)?, file, value))
+    let options = LoadOptions {
+        profile_tolerance: args.profile_tolerance,
+    };
+    Ok((model_from_value_with(&value, &file, &options)?, file, value))
 }
 
 /// Runs the subcommand.

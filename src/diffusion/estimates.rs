@@ -140,9 +140,66 @@ pub fn estimate(medium: &Medium) -> DiffusionEstimate {
 /// The pseudo-layer that extends layer `index` by q∞ transport mean free paths outward
 /// (`outward = true`: beyond its outer boundary; else above its inner boundary, for a slab
 /// top). `None` for a layer that does not scatter.
+///
+/// Where the surface layer is one sub-shell of a smooth profile (its inner division marked
+/// smooth, [`Medium::is_sharp_boundary`]) and is thinner than q∞ transport optical depths,
+/// the pseudo-layer takes the mean transport extinction and scattering of the outermost q∞
+/// transport optical depths of the profile instead: the Milne boundary condition is a
+/// statement in optical depth, and a tenuous outermost sub-shell (ρ → 0 at a stellar surface)
+/// would otherwise set an extrapolation length of its own mean free path. For layers
+/// bounded by sharp interfaces (every plain model) nothing changes.
 fn extrapolation_layer(medium: &Medium, index: usize, outward: bool) -> Option<DiffusionLayer> {
     let layer = &medium.layers()[index];
     let transport = layer.transport_extinction_per_cm();
+    let (inner, outer) = medium.layer_bounds_cm(index);
+    let own_depth = transport * (outer - inner);
+    let joined_to_next = |k: usize| {
+        if outward {
+            k > 0 && !medium.is_sharp_boundary(k - 1)
+        } else {
+            k + 1 < medium.layers().len() && !medium.is_sharp_boundary(k)
+        }
+    };
+    if own_depth < MILNE_EXTRAPOLATION_LENGTH && joined_to_next(index) {
+        // Average over the outermost q∞ transport optical depths of the smooth run.
+        let (mut depth, mut length, mut scattering_length) = (0.0, 0.0, 0.0);
+        let mut k = index;
+        loop {
+            let here = &medium.layers()[k];
+            let (a, b) = medium.layer_bounds_cm(k);
+            let sigma = here.transport_extinction_per_cm();
+            let wanted = MILNE_EXTRAPOLATION_LENGTH - depth;
+            let piece = if sigma * (b - a) > wanted {
+                wanted / sigma
+            } else {
+                b - a
+            };
+            depth += sigma * piece;
+            length += piece;
+            scattering_length += here.scattering_per_cm() * piece;
+            if depth >= MILNE_EXTRAPOLATION_LENGTH || !joined_to_next(k) {
+                break;
+            }
+            k = if outward { k - 1 } else { k + 1 };
+        }
+        if depth <= 0.0 || length <= 0.0 {
+            return None;
+        }
+        let mean_transport = depth / length;
+        let speed = SPEED_OF_LIGHT_CM_S / layer.refractive_index();
+        let extension = MILNE_EXTRAPOLATION_LENGTH / mean_transport;
+        let (from, to) = if outward {
+            (outer, outer + extension)
+        } else {
+            (inner - extension, inner)
+        };
+        return Some(DiffusionLayer {
+            inner_cm: from,
+            outer_cm: to,
+            inverse_diffusion: 3.0 * mean_transport / speed,
+            scattering_rate: speed * scattering_length / length,
+        });
+    }
     if transport <= 0.0 {
         return None;
     }
@@ -165,7 +222,6 @@ fn extrapolation_layer(medium: &Medium, index: usize, outward: bool) -> Option<D
         };
         2.0 * a / (3.0 * transport)
     };
-    let (inner, outer) = medium.layer_bounds_cm(index);
     Some(if outward {
         DiffusionLayer::from_layer(layer, outer, outer + length)
     } else {

@@ -3,6 +3,31 @@
 use super::error::{MediumError, Quantity};
 use crate::transport::PhaseFunction;
 
+/// The gas a layer stands for, where the model says (stellar layers): the values behind its
+/// extinction, kept as data for reports. The walk itself uses only the [`Layer`]'s extinction,
+/// albedo and phase function.
+///
+/// For a sub-shell of a tabulated profile ([`crate::medium::profile`]) every value is the
+/// radial average over the sub-shell: density and temperature are ∫ x dr / Δr, the opacity is
+/// the effective κ = σ̄ / ρ̄ (so that κρ̄ is the sub-shell's extinction) and the scattering
+/// fraction is σ̄_s / σ̄.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct GasSample {
+    /// Density ρ, g cm⁻³.
+    pub density_g_cm3: f64,
+    /// Temperature T, K (None where the model gives none).
+    pub temperature_k: Option<f64>,
+    /// Mass opacity κ, cm² g⁻¹.
+    pub opacity_cm2_g: f64,
+    /// Fraction of the extinction that is true scattering rather than absorption
+    /// (0 ..= 1; None where the model does not say).
+    pub scattering_fraction: Option<f64>,
+    /// Hydrogen mass fraction X (None where the model gives none).
+    pub hydrogen_x: Option<f64>,
+    /// Metal mass fraction Z (None where the model gives none).
+    pub metals_z: Option<f64>,
+}
+
 /// A homogeneous layer: extinction, single-scattering albedo, phase function and
 /// refractive index. Immutable once built; built only through [`Layer::new`], which validates.
 #[derive(Debug, Clone, PartialEq)]
@@ -12,6 +37,7 @@ pub struct Layer {
     albedo: f64,
     phase: PhaseFunction,
     refractive_index: f64,
+    gas: Option<GasSample>,
 }
 
 impl Layer {
@@ -58,7 +84,21 @@ impl Layer {
             albedo,
             phase,
             refractive_index,
+            gas: None,
         })
+    }
+
+    /// The same layer, recording the gas it stands for (data for reports; the walk does not
+    /// read it).
+    pub fn with_gas(mut self, gas: GasSample) -> Self {
+        self.gas = Some(gas);
+        self
+    }
+
+    /// The gas this layer stands for, if the model said (density, temperature, opacity,
+    /// scattering fraction, composition).
+    pub fn gas(&self) -> Option<&GasSample> {
+        self.gas.as_ref()
     }
 
     /// The layer's name (may be empty).

@@ -9,11 +9,13 @@
 mod error;
 mod layer;
 pub mod model_file;
+pub mod profile;
 
 pub use error::{MediumError, Quantity};
-pub use layer::Layer;
+pub use layer::{GasSample, Layer};
 
 use crate::units::LengthUnit;
+use profile::ProfileSummary;
 
 /// The shape of the medium.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
@@ -84,6 +86,9 @@ pub struct Medium {
     source: Source,
     source_layer: usize,
     display_unit: LengthUnit,
+    /// How each tabulated profile in the medium was divided into sub-shells (empty for media
+    /// of plain layers).
+    profiles: Vec<ProfileSummary>,
 }
 
 impl Medium {
@@ -138,6 +143,7 @@ impl Medium {
             source,
             source_layer,
             display_unit: LengthUnit::Cm,
+            profiles: Vec::new(),
         })
     }
 
@@ -221,6 +227,7 @@ impl Medium {
             source,
             source_layer,
             display_unit: LengthUnit::Cm,
+            profiles: Vec::new(),
         })
     }
 
@@ -249,6 +256,45 @@ impl Medium {
             }
         }
         self
+    }
+
+    /// The same medium, recording how its tabulated profiles were divided into sub-shells
+    /// (reports read it; the walk does not).
+    pub fn with_profiles(mut self, profiles: Vec<ProfileSummary>) -> Self {
+        self.profiles = profiles;
+        self
+    }
+
+    /// How each tabulated profile in the medium was divided into sub-shells (empty if the
+    /// medium has none), in the order of the model's layers.
+    pub fn profiles(&self) -> &[ProfileSummary] {
+        &self.profiles
+    }
+
+    /// The same sphere with a point source at `radius_cm` from the centre instead (name,
+    /// unit, smooth divisions and profiles kept).
+    ///
+    /// # Errors
+    /// As [`Medium::sphere`]: not a sphere, or the radius outside [0, outer radius).
+    pub fn with_sphere_source(&self, radius_cm: f64) -> Result<Self, MediumError> {
+        if self.geometry != Geometry::Sphere {
+            return Err(MediumError::Invalid {
+                field: "source.kind".into(),
+                problem: "a point source at a radius needs a sphere".into(),
+            });
+        }
+        let shells = self
+            .boundaries_cm
+            .iter()
+            .copied()
+            .zip(self.layers.iter().cloned())
+            .collect();
+        let mut medium = Medium::sphere(shells, Source::SpherePoint { radius_cm })?;
+        medium.name = self.name.clone();
+        medium.display_unit = self.display_unit;
+        medium.sharp = self.sharp.clone();
+        medium.profiles = self.profiles.clone();
+        Ok(medium)
     }
 
     /// Whether the boundary at the outer edge (sphere) or bottom (slab) of layer `index` is a

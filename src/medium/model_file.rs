@@ -7,7 +7,13 @@ use std::path::Path;
 use serde::Deserialize;
 use thiserror::Error;
 
-use super::{Layer, Medium, MediumError, Quantity, Source};
+use serde::Serialize;
+
+use super::profile::{
+    ColumnValues, DEFAULT_TOLERANCE, ProfileColumns, ProfileOpacity, ProfileSummary, ProfileTable,
+};
+use super::{GasSample, Layer, Medium, MediumError, Quantity, Source};
+use crate::opacity::OpacitySpec;
 use crate::transport::PhaseFunction;
 use crate::units::LengthUnit;
 
@@ -127,6 +133,165 @@ struct LayerSpec {
     albedo: Option<f64>,
     phase: Option<PhaseSpec>,
     refractive_index: Option<f64>,
+    profile: Option<ProfileSpec>,
+}
+
+/// A tabulated radial profile inside a sphere layer (`"profile"`), as written in a model
+/// file. Radii are in the file's `length_unit`; density in g cm⁻³, temperature in K, opacity
+/// in cm² g⁻¹ whatever the length unit. See [`crate::medium::profile`] for how it becomes
+/// sub-shells.
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct ProfileSpec {
+    /// Radius of each row, in the file's `length_unit`, strictly increasing from the centre.
+    pub radius: Vec<f64>,
+    /// Density per row, g cm⁻³.
+    pub density: Vec<f64>,
+    /// Temperature per row, K (required with `opacity_law`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub temperature: Option<Vec<f64>>,
+    /// Hydrogen mass fraction X: a number or one per row (required with `opacity_law`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub hydrogen: Option<ColumnValues>,
+    /// Metal mass fraction Z: a number or one per row (required with `opacity_law`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub metals: Option<ColumnValues>,
+    /// Opacity law evaluated at each radius (exclusive with `opacity`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub opacity_law: Option<OpacitySpec>,
+    /// Mass opacity per row, cm² g⁻¹ (exclusive with `opacity_law`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub opacity: Option<Vec<f64>>,
+    /// With `opacity`: fraction of it that is scattering, a number or one per row.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub scattering_fraction: Option<ColumnValues>,
+    /// Relative tolerance between neighbouring sub-shell extinctions (default 0.01).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tolerance: Option<f64>,
+}
+
+impl ProfileSpec {
+    /// The spec of `table`, with radii written in `unit` and the given `tolerance`.
+    pub fn from_table(table: &ProfileTable, unit: LengthUnit, tolerance: Option<f64>) -> Self {
+        let columns = table.columns();
+        let to_cm = unit.to_cm();
+        let (opacity_law, opacity, scattering_fraction) = match &columns.opacity {
+            ProfileOpacity::Law(spec) => (Some(spec.clone()), None, None),
+            ProfileOpacity::Tabulated {
+                opacity_cm2_g,
+                scattering_fraction,
+            } => (
+                None,
+                Some(opacity_cm2_g.clone()),
+                scattering_fraction.clone(),
+            ),
+        };
+        Self {
+            radius: columns
+                .radius_cm
+                .iter()
+                .map(|r| if to_cm == 1.0 { *r } else { r / to_cm })
+                .collect(),
+            density: columns.density_g_cm3.clone(),
+            temperature: columns.temperature_k.clone(),
+            hydrogen: columns.hydrogen_x.clone(),
+            metals: columns.metals_z.clone(),
+            opacity_law,
+            opacity,
+            scattering_fraction,
+            tolerance,
+        }
+    }
+
+    /// The validated table, radii converted to cm with `to_cm` (cm per length unit).
+    ///
+    /// # Errors
+    /// As [`ProfileTable::new`], or both or neither of `opacity_law` and `opacity`, or a
+    /// `scattering_fraction` with an opacity law.
+    pub fn to_table(&self, to_cm: f64) -> Result<ProfileTable, MediumError> {
+        let opacity = match (&self.opacity_law, &self.opacity) {
+            (Some(law), None) => {
+                if self.scattering_fraction.is_some() {
+                    return Err(MediumError::Invalid {
+                        field: "scattering_fraction".into(),
+                        problem: "not used with \"opacity_law\": the law gives its own \
+                                  scattering fraction"
+                            .into(),
+                    });
+                }
+                ProfileOpacity::Law(law.clone())
+            }
+            (None, Some(values)) => ProfileOpacity::Tabulated {
+                opacity_cm2_g: values.clone(),
+                scattering_fraction: self.scattering_fraction.clone(),
+            },
+            (Some(_), Some(_)) => {
+                return Err(MediumError::Invalid {
+                    field: "opacity".into(),
+                    problem: "give either \"opacity_law\" (a law) or \"opacity\" (cm^2/g per \
+                              row), not both"
+                        .into(),
+                });
+            }
+            (None, None) => {
+                return Err(MediumError::Invalid {
+                    field: "opacity_law".into(),
+                    problem: "missing: give \"opacity_law\" (e.g. {\"kind\": \
+                              \"electron_scattering\"}) or \"opacity\" (cm^2/g per row)"
+                        .into(),
+                });
+            }
+        };
+        ProfileTable::new(ProfileColumns {
+            radius_cm: self.radius.iter().map(|r| r * to_cm).collect(),
+            density_g_cm3: self.density.clone(),
+            temperature_k: self.temperature.clone(),
+            hydrogen_x: self.hydrogen.clone(),
+            metals_z: self.metals.clone(),
+            opacity,
+        })
+    }
+}
+
+/// Options applied when a model file is loaded.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct LoadOptions {
+    /// Overrides the `tolerance` of every profile layer (relative, 0 < t < 1).
+    pub profile_tolerance: Option<f64>,
+}
+
+/// A model file holding one sphere made of a single tabulated profile layer, as a JSON
+/// value ready to be written: `name`, `geometry: "sphere"`, `length_unit` and one layer
+/// named `layer_name` with the `profile` of `table` (radii in `unit`).
+pub fn profile_model_json(
+    name: &str,
+    unit: LengthUnit,
+    layer_name: &str,
+    table: &ProfileTable,
+    tolerance: Option<f64>,
+) -> serde_json::Value {
+    #[derive(Serialize)]
+    struct Layer<'a> {
+        name: &'a str,
+        profile: ProfileSpec,
+    }
+    #[derive(Serialize)]
+    struct Model<'a> {
+        name: &'a str,
+        geometry: &'static str,
+        length_unit: LengthUnit,
+        layers: [Layer<'a>; 1],
+    }
+    serde_json::to_value(Model {
+        name,
+        geometry: "sphere",
+        length_unit: unit,
+        layers: [Layer {
+            name: layer_name,
+            profile: ProfileSpec::from_table(table, unit, tolerance),
+        }],
+    })
+    .expect("a model serialises to JSON")
 }
 
 /// A phase function, as written.
@@ -163,12 +328,20 @@ struct SourceSpec {
 /// # Errors
 /// [`ModelError`] naming the file, the field, the value and what was expected.
 pub fn load_model(path: &Path) -> Result<Medium, ModelError> {
+    load_model_with(path, &LoadOptions::default())
+}
+
+/// Loads and validates a model file with `options`.
+///
+/// # Errors
+/// [`ModelError`] naming the file, the field, the value and what was expected.
+pub fn load_model_with(path: &Path, options: &LoadOptions) -> Result<Medium, ModelError> {
     let file = path.display().to_string();
     let text = std::fs::read_to_string(path).map_err(|cause| ModelError::Read {
         file: file.clone(),
         cause,
     })?;
-    parse_model(&text, &file)
+    parse_model_with(&text, &file, options)
 }
 
 /// Parses and validates model-file text; `file` labels errors.
@@ -176,7 +349,19 @@ pub fn load_model(path: &Path) -> Result<Medium, ModelError> {
 /// # Errors
 /// [`ModelError`] naming the file, the field, the value and what was expected.
 pub fn parse_model(text: &str, file: &str) -> Result<Medium, ModelError> {
-    model_from_value(&parse_model_value(text, file)?, file)
+    parse_model_with(text, file, &LoadOptions::default())
+}
+
+/// Parses and validates model-file text with `options`; `file` labels errors.
+///
+/// # Errors
+/// [`ModelError`] naming the file, the field, the value and what was expected.
+pub fn parse_model_with(
+    text: &str,
+    file: &str,
+    options: &LoadOptions,
+) -> Result<Medium, ModelError> {
+    model_from_value_with(&parse_model_value(text, file)?, file, options)
 }
 
 /// Parses model-file text into its JSON value without building the medium (for callers
@@ -212,6 +397,19 @@ pub fn load_model_value(path: &Path) -> Result<serde_json::Value, ModelError> {
 /// # Errors
 /// [`ModelError`] naming the file, the field, the value and what was expected.
 pub fn model_from_value(value: &serde_json::Value, file: &str) -> Result<Medium, ModelError> {
+    model_from_value_with(value, file, &LoadOptions::default())
+}
+
+/// Builds a medium from an already parsed model-file JSON value with `options`; `file`
+/// labels errors.
+///
+/// # Errors
+/// [`ModelError`] naming the file, the field, the value and what was expected.
+pub fn model_from_value_with(
+    value: &serde_json::Value,
+    file: &str,
+    options: &LoadOptions,
+) -> Result<Medium, ModelError> {
     let spec: ModelSpec = serde_path_to_error::deserialize(value).map_err(|error| {
         let field = error.path().to_string();
         ModelError::Schema {
@@ -220,7 +418,7 @@ pub fn model_from_value(value: &serde_json::Value, file: &str) -> Result<Medium,
             message: strip_position(&error.into_inner().to_string()),
         }
     })?;
-    build_medium(&spec).map_err(|error| describe(error, file, spec.length_unit))
+    build_medium(&spec, options).map_err(|error| describe(error, file, spec.length_unit))
 }
 
 /// serde_json appends " at line L column C" to messages; for a parsed `Value` that position
@@ -291,11 +489,39 @@ fn convert_cm_mentions(text: &str, unit: LengthUnit) -> String {
     out.join(" ")
 }
 
-fn build_medium(spec: &ModelSpec) -> Result<Medium, MediumError> {
+fn build_medium(spec: &ModelSpec, options: &LoadOptions) -> Result<Medium, MediumError> {
     let to_cm = spec.length_unit.to_cm();
     let mut items = Vec::with_capacity(spec.layers.len());
+    let mut smooth = Vec::new();
+    let mut profiles: Vec<ProfileSummary> = Vec::new();
+    let mut previous_profile_outer: Option<f64> = None;
     for (index, layer_spec) in spec.layers.iter().enumerate() {
         let prefix = format!("layers[{index}]");
+        if let Some(profile) = &layer_spec.profile {
+            let inner = items.last().map_or(0.0, |(outer, _): &(f64, Layer)| *outer);
+            let shells =
+                build_profile_layer(layer_spec, profile, spec.geometry, to_cm, inner, options)
+                    .map_err(|e| e.within(&prefix))?;
+            if shells.summary.surface_cut.is_some() && index + 1 < spec.layers.len() {
+                return Err(MediumError::Invalid {
+                    field: format!("{prefix}.profile.temperature"),
+                    problem: "the temperature falls below the opacity law's range before the \
+                              last row, but layers follow: only the outermost layer may be cut \
+                              at the surface"
+                        .into(),
+                });
+            }
+            let first = items.len();
+            // Every division inside a profile is a smooth one, not a material interface.
+            smooth.extend(first..first + shells.shells.len() - 1);
+            let mut summary = shells.summary;
+            summary.model_layer = index;
+            summary.first_sub_shell = first;
+            previous_profile_outer = Some(summary.outer_radius_cm);
+            profiles.push(summary);
+            items.extend(shells.shells);
+            continue;
+        }
         let layer = build_layer(layer_spec, spec.geometry, to_cm).map_err(|e| e.within(&prefix))?;
         let boundary = match spec.geometry {
             GeometrySpec::Sphere => required_only(
@@ -314,6 +540,21 @@ fn build_medium(spec: &ModelSpec) -> Result<Medium, MediumError> {
             ),
         }
         .map_err(|e| e.within(&prefix))?;
+        if let Some(previous) = previous_profile_outer.take() {
+            let outer = boundary * to_cm;
+            if outer.is_nan() || outer <= previous {
+                return Err(MediumError::value(
+                    format!("{prefix}.outer_radius"),
+                    outer,
+                    Quantity::Length,
+                    format!(
+                        "a value greater than the outer radius of the profile in layers[{}] \
+                         ({previous} cm): shells go innermost first with increasing radii",
+                        index - 1
+                    ),
+                ));
+            }
+        }
         items.push((boundary * to_cm, layer));
     }
     let source = build_source(spec.source.as_ref(), spec.geometry, to_cm)?;
@@ -355,8 +596,67 @@ fn build_medium(spec: &ModelSpec) -> Result<Medium, MediumError> {
         }
     };
     Ok(medium
+        .with_smooth_boundaries(smooth)
+        .with_profiles(profiles)
         .with_name(spec.name.clone().unwrap_or_default())
         .with_display_unit(spec.length_unit))
+}
+
+/// A sphere layer given as a tabulated `profile`: checks that no plain-layer keys are mixed
+/// in, then divides the profile into sub-shells starting at `inner_cm`.
+fn build_profile_layer(
+    spec: &LayerSpec,
+    profile: &ProfileSpec,
+    geometry: GeometrySpec,
+    to_cm: f64,
+    inner_cm: f64,
+    options: &LoadOptions,
+) -> Result<super::profile::ProfileShells, MediumError> {
+    if geometry != GeometrySpec::Sphere {
+        return Err(MediumError::Invalid {
+            field: "profile".into(),
+            problem: "tabulated profiles describe spheres (\"geometry\": \"sphere\")".into(),
+        });
+    }
+    let extra = [
+        ("outer_radius", spec.outer_radius.is_some()),
+        ("thickness", spec.thickness.is_some()),
+        ("opacity", spec.opacity.is_some()),
+        ("density", spec.density.is_some()),
+        (
+            "extinction_coefficient",
+            spec.extinction_coefficient.is_some(),
+        ),
+        (
+            "scattering_coefficient",
+            spec.scattering_coefficient.is_some(),
+        ),
+        (
+            "absorption_coefficient",
+            spec.absorption_coefficient.is_some(),
+        ),
+        ("albedo", spec.albedo.is_some()),
+        ("phase", spec.phase.is_some()),
+        ("refractive_index", spec.refractive_index.is_some()),
+    ];
+    if let Some((key, _)) = extra.iter().find(|(_, present)| *present) {
+        return Err(MediumError::Invalid {
+            field: (*key).into(),
+            problem: format!(
+                "not used with \"profile\": a profile layer ends at its last radius, takes its \
+                 extinction from the profile and walks with albedo 1 and isotropic steps; \
+                 put \"{key}\" in a layer of its own"
+            ),
+        });
+    }
+    let table = profile.to_table(to_cm).map_err(|e| e.within("profile"))?;
+    let tolerance = options
+        .profile_tolerance
+        .or(profile.tolerance)
+        .unwrap_or(DEFAULT_TOLERANCE);
+    table
+        .to_shells(spec.name.as_deref().unwrap_or(""), inner_cm, tolerance)
+        .map_err(|e| e.within("profile"))
 }
 
 /// The value of `wanted` when present, with `other` absent.
@@ -488,13 +788,24 @@ fn build_layer(spec: &LayerSpec, geometry: GeometrySpec, to_cm: f64) -> Result<L
             "no refractive index in a sphere (slabs only)",
         ));
     }
-    Layer::new(
+    let layer = Layer::new(
         spec.name.clone().unwrap_or_default(),
         extinction_per_cm,
         albedo,
         phase,
         spec.refractive_index.unwrap_or(1.0),
-    )
+    )?;
+    Ok(match (spec.opacity, spec.density) {
+        (Some(opacity_cm2_g), Some(density_g_cm3)) => layer.with_gas(GasSample {
+            density_g_cm3,
+            temperature_k: None,
+            opacity_cm2_g,
+            scattering_fraction: None,
+            hydrogen_x: None,
+            metals_z: None,
+        }),
+        _ => layer,
+    })
 }
 
 fn positive_finite(

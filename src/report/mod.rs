@@ -1,12 +1,18 @@
 //! Reports of a run: the summary structure (serialised as the JSON report), its readable
-//! text rendering, SVG figures ([`plots`]) and the single-file HTML report ([`html`]).
+//! text rendering, SVG figures ([`plots`]) and the single-file HTML report ([`html`]); and
+//! the profile report of a sphere's optical structure (`sojourn profile`), with its text
+//! and CSV renderings.
 
 pub mod html;
 pub mod plots;
+pub mod profile_report;
+mod profile_text;
 mod run_report;
 pub mod slab_optics;
 mod text;
 
+pub use profile_report::ProfileReport;
+pub use profile_text::{render_profile_csv, render_profile_report};
 pub use run_report::{
     Comparison, DiffusionSummary, DistributionSummary, ModelSummary, OutcomeFractions, RunReport,
     WalkSummary,

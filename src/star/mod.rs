@@ -3,8 +3,10 @@
 //! [`LaneEmdenSolution`] solves θ″ + (2/ξ)θ′ + θⁿ = 0 out to the surface ξ₁ for
 //! 0 ≤ n < 5; [`Polytrope`] scales it to a mass and radius in cgs units and gives
 //! density, temperature, pressure and enclosed mass on a surface-refined grid, for an
-//! ideal gas or Eddington's standard model.
+//! ideal gas or Eddington's standard model. [`builder`] turns a polytrope and an opacity law
+//! into a model file with a tabulated profile layer.
 
+pub mod builder;
 pub mod lane_emden;
 pub mod polytrope;
 

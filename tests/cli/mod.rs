@@ -1,10 +1,14 @@
 //! The command-line tool, driven as a user would.
 
 mod bad_models;
+mod bad_profiles;
 mod checkpoints;
 mod cluster_scripts;
+mod import_command;
 mod plots;
+mod profile_command;
 mod run_command;
 mod scale_support;
 mod shards;
+mod star_command;
 mod sweeps;

@@ -1,0 +1,43 @@
+//! Argument parsers shared by several subcommands.
+
+use sojourn::opacity::OpacitySpec;
+use sojourn::units::LengthUnit;
+
+/// `--opacity`: a short name, a `+`-joined sum of names, or a JSON law.
+pub fn opacity(text: &str) -> Result<OpacitySpec, String> {
+    OpacitySpec::parse_short(text)
+}
+
+/// A length unit as spelled in model files (`cm`, `m`, `km`, `solar_radius`, ...).
+pub fn length_unit(text: &str) -> Result<LengthUnit, String> {
+    serde_json::from_value(serde_json::Value::String(text.to_string()))
+        .map_err(|_| format!("{text:?}: expected one of um, mm, cm, m, km, solar_radius"))
+}
+
+/// A relative tolerance strictly between 0 and 1.
+pub fn tolerance(text: &str) -> Result<f64, String> {
+    match text.parse::<f64>() {
+        Ok(value) if value > 0.0 && value < 1.0 => Ok(value),
+        _ => Err(format!(
+            "{text:?}: expected a relative tolerance between 0 and 1 (0.01 is 1 %)"
+        )),
+    }
+}
+
+/// A mass fraction in [0, 1].
+pub fn fraction(text: &str) -> Result<f64, String> {
+    match text.parse::<f64>() {
+        Ok(value) if (0.0..=1.0).contains(&value) => Ok(value),
+        _ => Err(format!(
+            "{text:?}: expected a mass fraction between 0 and 1"
+        )),
+    }
+}
+
+/// A finite positive number.
+pub fn positive(text: &str) -> Result<f64, String> {
+    match text.parse::<f64>() {
+        Ok(value) if value.is_finite() && value > 0.0 => Ok(value),
+        _ => Err(format!("{text:?}: expected a positive number")),
+    }
+}

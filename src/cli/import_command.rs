@@ -1,0 +1,165 @@
+//! `sojourn import`: read a stellar profile table and write a model file.
+
+use std::path::PathBuf;
+
+use anyhow::{Context, Result};
+use clap::{Args, ValueEnum};
+
+use sojourn::import::{ColumnMapping, Delimiter, ImportOptions, TableQuantity, import_table_file};
+use sojourn::medium::model_file::{model_from_value, profile_model_json};
+use sojourn::opacity::OpacitySpec;
+use sojourn::star::builder::interior_opacity;
+use sojourn::units::{LengthUnit, format_significant};
+
+use super::args;
+use super::output::write_atomically;
+
+/// Field separators.
+#[derive(Debug, Clone, Copy, ValueEnum)]
+enum DelimiterArg {
+    /// Comma if the header line has one, else whitespace.
+    Auto,
+    /// Commas.
+    Comma,
+    /// Spaces or tabs.
+    Whitespace,
+}
+
+/// Default composition assumed when a law needs X, Z and the table gives neither.
+const DEFAULT_HYDROGEN: f64 = 0.70;
+const DEFAULT_METALS: f64 = 0.02;
+
+/// Arguments of `sojourn import`.
+#[derive(Debug, Args)]
+pub struct ImportArgs {
+    /// The table: a header line naming the columns, then one row per line, separated by
+    /// commas or whitespace; '#' starts a comment line.
+    table: PathBuf,
+    /// Column mapping, QUANTITY=COLUMN[:SCALE],... with quantities radius, density,
+    /// temperature, opacity, hydrogen, metals, scattering_fraction (log_ prefix for log10
+    /// columns); COLUMN is a header name or a 1-based number; SCALE a factor to cgs or, for
+    /// radius, a unit (um, mm, cm, m, km, R_sun). Radius is in cm by default.
+    #[arg(long, value_name = "MAPPING")]
+    columns: String,
+    /// Model file to write (JSON; written atomically).
+    #[arg(long, value_name = "FILE")]
+    out: PathBuf,
+    /// Hydrogen mass fraction X for every row (when no column is mapped).
+    #[arg(long, value_parser = args::fraction)]
+    hydrogen: Option<f64>,
+    /// Metal mass fraction Z for every row (when no column is mapped).
+    #[arg(long, value_parser = args::fraction)]
+    metals: Option<f64>,
+    /// Opacity law when no opacity column is mapped (as for `sojourn star`; default
+    /// es+kramers).
+    #[arg(long, value_name = "LAW", value_parser = args::opacity)]
+    opacity: Option<OpacitySpec>,
+    /// The radius column is a fraction r/R of this total radius: a length such as
+    /// 6.957e10 (cm), 0.8R_sun or 5e5km.
+    #[arg(long, value_name = "LENGTH", value_parser = sojourn::import::parse_length_cm)]
+    total_radius: Option<f64>,
+    /// Lines to skip before the header (e.g. a block of global values).
+    #[arg(long, default_value_t = 0)]
+    skip_rows: usize,
+    /// Field separator.
+    #[arg(long, value_enum, default_value_t = DelimiterArg::Auto)]
+    delimiter: DelimiterArg,
+    /// Length unit of the radii written into the model file (um, mm, cm, m, km,
+    /// solar_radius).
+    #[arg(long, default_value = "cm", value_parser = args::length_unit)]
+    length_unit: LengthUnit,
+    /// Relative tolerance between neighbouring sub-shell extinctions written into the model
+    /// (default: the loader's 0.01).
+    #[arg(long, value_parser = args::tolerance)]
+    tolerance: Option<f64>,
+    /// Model name (default: "imported from TABLE").
+    #[arg(long)]
+    name: Option<String>,
+}
+
+/// Runs the subcommand.
+pub fn execute(args: ImportArgs) -> Result<()> {
+    let mapping = ColumnMapping::parse(&args.columns)?;
+    let mapped = |q: TableQuantity| mapping.entries().iter().any(|e| e.quantity == q);
+    let uses_law = !mapped(TableQuantity::Opacity);
+    let mut assumed = Vec::new();
+    let opacity_law = if uses_law {
+        Some(args.opacity.clone().unwrap_or_else(|| {
+            assumed.push("opacity law es+kramers (give --opacity)".to_string());
+            interior_opacity()
+        }))
+    } else {
+        args.opacity.clone()
+    };
+    let mut single = |value: Option<f64>, quantity: TableQuantity, default: f64, flag: &str| {
+        if value.is_some() || mapped(quantity) || !uses_law {
+            return value;
+        }
+        assumed.push(format!(
+            "{} = {default} (give {flag} or map a column)",
+            quantity.name()
+        ));
+        Some(default)
+    };
+    let hydrogen_x = single(
+        args.hydrogen,
+        TableQuantity::Hydrogen,
+        DEFAULT_HYDROGEN,
+        "--hydrogen",
+    );
+    let metals_z = single(
+        args.metals,
+        TableQuantity::Metals,
+        DEFAULT_METALS,
+        "--metals",
+    );
+    let options = ImportOptions {
+        hydrogen_x,
+        metals_z,
+        opacity_law,
+        total_radius_cm: args.total_radius,
+        skip_rows: args.skip_rows,
+        delimiter: match args.delimiter {
+            DelimiterArg::Auto => Delimiter::Auto,
+            DelimiterArg::Comma => Delimiter::Comma,
+            DelimiterArg::Whitespace => Delimiter::Whitespace,
+        },
+        ..ImportOptions::new(mapping)
+    };
+    let table = import_table_file(&args.table, &options)?;
+    let name = args
+        .name
+        .unwrap_or_else(|| format!("imported from {}", args.table.display()));
+    let json = profile_model_json(
+        &name,
+        args.length_unit,
+        "imported profile",
+        &table,
+        args.tolerance,
+    );
+    let label = args.out.display().to_string();
+    let medium =
+        model_from_value(&json, &label).context("the imported profile is not a valid model")?;
+    let text = serde_json::to_string_pretty(&json)? + "\n";
+    write_atomically(&args.out, text.as_bytes())?;
+    for assumption in &assumed {
+        eprintln!("sojourn: note: assumed {assumption}");
+    }
+    let summary = &medium.profiles()[0];
+    let mut out = format!(
+        "wrote {label}: {} rows, radius {} cm, {} sub-shells, optical depth {}",
+        table.rows(),
+        format_significant(medium.size_cm(), 6),
+        medium.layers().len(),
+        format_significant(summary.optical_depth, 6),
+    );
+    if let Some(cut) = &summary.surface_cut {
+        out += &format!(
+            "\n  surface cut at r = {} cm where T = {} K (the opacity law's lower limit)",
+            format_significant(cut.radius_cm, 6),
+            cut.temperature_k
+        );
+    }
+    out += &format!("\n  next: sojourn profile {label}\n");
+    super::output::write_text(std::path::Path::new("-"), &out)
+}

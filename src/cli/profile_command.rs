@@ -1,0 +1,59 @@
+//! `sojourn profile`: the optical structure of a sphere and its diffusion-time budget, no
+//! Monte Carlo.
+
+use std::path::{Path, PathBuf};
+
+use anyhow::{Context, Result, bail};
+use clap::Args;
+
+use sojourn::medium::model_file::{LoadOptions, load_model_with};
+use sojourn::report::{ProfileReport, render_profile_csv, render_profile_report};
+
+use super::args;
+use super::output::write_text;
+
+/// Arguments of `sojourn profile`.
+#[derive(Debug, Args)]
+pub struct ProfileArgs {
+    /// Model file (JSON) of a sphere.
+    model: PathBuf,
+    /// Write the JSON report to PATH (`-` for stdout, which then carries only JSON).
+    #[arg(long, value_name = "PATH")]
+    json: Option<PathBuf>,
+    /// Write one CSV line per shell to PATH (`-` for stdout, which then carries only CSV).
+    #[arg(long, value_name = "PATH")]
+    csv: Option<PathBuf>,
+    /// Override the sub-shell tolerance of every profile layer (relative, e.g. 0.01).
+    #[arg(long, value_parser = args::tolerance)]
+    tolerance: Option<f64>,
+    /// Radius bins in the printed time budget.
+    #[arg(long, default_value_t = 20, value_parser = clap::builder::RangedU64ValueParser::<usize>::new().range(1..=1000))]
+    rows: usize,
+}
+
+/// Runs the subcommand.
+pub fn execute(args: ProfileArgs) -> Result<()> {
+    let stdout = Path::new("-");
+    if args.json.as_deref() == Some(stdout) && args.csv.as_deref() == Some(stdout) {
+        bail!("--json - and --csv - would both write to stdout; send one to a file");
+    }
+    let options = LoadOptions {
+        profile_tolerance: args.tolerance,
+    };
+    let medium = load_model_with(&args.model, &options)?;
+    let file = args.model.display().to_string();
+    let report = ProfileReport::new(&medium, &file).with_context(|| file.clone())?;
+    if let Some(path) = &args.json {
+        let json = serde_json::to_string_pretty(&report)? + "\n";
+        write_text(path, &json)
+            .with_context(|| format!("cannot write the JSON report to {}", path.display()))?;
+    }
+    if let Some(path) = &args.csv {
+        write_text(path, &render_profile_csv(&report))
+            .with_context(|| format!("cannot write the CSV table to {}", path.display()))?;
+    }
+    if args.json.as_deref() != Some(stdout) && args.csv.as_deref() != Some(stdout) {
+        write_text(stdout, &render_profile_report(&report, args.rows))?;
+    }
+    Ok(())
+}

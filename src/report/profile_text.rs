@@ -1,0 +1,279 @@
+//! Text and CSV renderings of a [`ProfileReport`].
+
+use std::fmt::Write;
+
+use super::profile_report::{ProfileReport, ShellRow};
+use crate::units::{format_duration, format_significant};
+
+fn number(value: Option<f64>, digits: usize) -> String {
+    value.map_or_else(|| "-".to_string(), |v| format_significant(v, digits))
+}
+
+fn percent(fraction: f64) -> String {
+    format!("{:.1} %", 100.0 * fraction)
+}
+
+/// The shell containing radius `r` (the last one for r at the surface).
+fn shell_at(shells: &[ShellRow], r: f64) -> &ShellRow {
+    let index = shells.partition_point(|s| s.radius_cm < r);
+    &shells[index.min(shells.len() - 1)]
+}
+
+/// One row of the binned time budget.
+struct Bin {
+    inner_cm: f64,
+    outer_cm: f64,
+    share: f64,
+    cumulative: f64,
+}
+
+/// Splits (0, R] into `rows` equal radius bins and sums the time accrued in each (within a
+/// shell of constant σ the accrual grows as r², so partial shells are exact).
+fn bins(report: &ProfileReport, rows: usize) -> Vec<Bin> {
+    let total = report.diffusion.mean_time_s;
+    let radius = report.radius_cm;
+    let mut out = Vec::with_capacity(rows);
+    let mut cumulative = 0.0;
+    for k in 0..rows {
+        let r0 = radius * k as f64 / rows as f64;
+        let r1 = if k + 1 == rows {
+            radius
+        } else {
+            radius * (k + 1) as f64 / rows as f64
+        };
+        let mut time = 0.0;
+        let first = report.shells.partition_point(|s| s.radius_cm <= r0);
+        for shell in &report.shells[first..] {
+            if shell.inner_radius_cm >= r1 {
+                break;
+            }
+            let a = shell.inner_radius_cm.max(r0);
+            let b = shell.radius_cm.min(r1);
+            if b > a && shell.mean_free_path_cm.is_some() {
+                // σ_tr = σ for the isotropic shells of a profile; use the shell's own share.
+                let full = shell.radius_cm.powi(2) - shell.inner_radius_cm.powi(2);
+                time += shell.time_s * (b * b - a * a) / full;
+            }
+        }
+        let share = if total > 0.0 { time / total } else { 0.0 };
+        cumulative += share;
+        out.push(Bin {
+            inner_cm: r0,
+            outer_cm: r1,
+            share,
+            cumulative,
+        });
+    }
+    out
+}
+
+/// Renders the report as text for a terminal, with the time budget in `rows` radius bins.
+pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
+    let rows = rows.max(1);
+    let mut out = String::new();
+    let unit_cm = report.model.length_unit_cm;
+    let unit = &report.model.length_unit;
+    let length = |cm: f64| {
+        if unit_cm == 1.0 {
+            format!("{} cm", format_significant(cm, 5))
+        } else {
+            format!(
+                "{} {unit} ({} cm)",
+                format_significant(cm / unit_cm, 5),
+                format_significant(cm, 4)
+            )
+        }
+    };
+    let title = if report.model.name.is_empty() {
+        "(unnamed model)"
+    } else {
+        &report.model.name
+    };
+    let _ = writeln!(
+        out,
+        "sojourn {} · profile of {title}",
+        report.sojourn_version
+    );
+    let _ = writeln!(
+        out,
+        "  model {} · sphere of {} shell(s) · no Monte Carlo",
+        report.model.file, report.model.shells
+    );
+    let _ = writeln!(out);
+    let _ = writeln!(out, "Structure");
+    let _ = writeln!(
+        out,
+        "  radius                            {}",
+        length(report.radius_cm)
+    );
+    if let (Some(mass), Some(mean)) = (report.mass_g, report.mean_density_g_cm3) {
+        let _ = writeln!(
+            out,
+            "  mass · mean density               {} g · {} g/cm³",
+            format_significant(mass, 4),
+            format_significant(mean, 4)
+        );
+    }
+    if report.central_density_g_cm3.is_some() || report.central_temperature_k.is_some() {
+        let _ = writeln!(
+            out,
+            "  central density · temperature     {} g/cm³ · {} K",
+            number(report.central_density_g_cm3, 4),
+            number(report.central_temperature_k, 4)
+        );
+    }
+    let _ = writeln!(
+        out,
+        "  optical depth, centre → surface   {}",
+        format_significant(report.optical_depth, 5)
+    );
+    let _ = writeln!(
+        out,
+        "  photosphere (τ = 2/3)             {}",
+        report
+            .photosphere_radius_cm
+            .map_or_else(|| "none (optically thin)".to_string(), length)
+    );
+    let _ = writeln!(
+        out,
+        "  mean free path                    {} – {} cm",
+        format_significant(report.mean_free_path_min_cm, 4),
+        format_significant(report.mean_free_path_max_cm, 4)
+    );
+    let _ = writeln!(out);
+    let d = &report.diffusion;
+    let _ = writeln!(out, "Diffusion time from the centre");
+    let _ = writeln!(
+        out,
+        "  rule of thumb N ≈ τ², t ≈ τ R/c     N = {}   t = {}",
+        format_significant(d.naive_scatterings, 4),
+        format_duration(d.naive_time_s)
+    );
+    let _ = writeln!(
+        out,
+        "  steady diffusion (1/c)∫ r/l dr     N = {}   t = {}",
+        format_significant(d.mean_scatterings, 4),
+        format_duration(d.mean_time_s)
+    );
+    let _ = writeln!(
+        out,
+        "  same, Milne extrapolated boundary  N = {}   t = {}",
+        format_significant(d.mean_scatterings_extrapolated, 4),
+        format_duration(d.mean_time_extrapolated_s)
+    );
+    let _ = writeln!(
+        out,
+        "  rule of thumb / diffusion          {}",
+        format_significant(d.naive_over_diffusion, 4)
+    );
+    let _ = writeln!(out);
+    let b = &report.time_budget;
+    let radius = report.radius_cm;
+    let _ = writeln!(out, "Time budget: where (1/c)∫ r/l dr accrues");
+    let _ = writeln!(
+        out,
+        "  10 % inside r = {:.3} R, half inside {:.3} R, 90 % inside {:.3} R",
+        b.radius_10_percent_cm / radius,
+        b.radius_50_percent_cm / radius,
+        b.radius_90_percent_cm / radius
+    );
+    let _ = writeln!(
+        out,
+        "  {:<13} {:>7} {:>8} {:>10} {:>10} {:>10} {:>10} {:>11}",
+        "r/R", "share", "cumul.", "T (K)", "ρ (g/cm³)", "κ (cm²/g)", "l (cm)", "τ(surface)"
+    );
+    for bin in bins(report, rows) {
+        let mid = shell_at(&report.shells, 0.5 * (bin.inner_cm + bin.outer_cm));
+        let edge = shell_at(&report.shells, bin.outer_cm);
+        let tau_top = edge.tau_from_surface
+            + edge.extinction_per_cm * (edge.radius_cm - bin.outer_cm).max(0.0);
+        let _ = writeln!(
+            out,
+            "  {:<13} {:>7} {:>8} {:>10} {:>10} {:>10} {:>10} {:>11}",
+            format!("{:.3}–{:.3}", bin.inner_cm / radius, bin.outer_cm / radius),
+            percent(bin.share),
+            percent(bin.cumulative.min(1.0)),
+            number(mid.temperature_k, 3),
+            number(mid.density_g_cm3, 3),
+            number(mid.opacity_cm2_g, 3),
+            number(mid.mean_free_path_cm, 3),
+            format_significant(tau_top, 3)
+        );
+    }
+    if let Some(p) = &report.profile {
+        let _ = writeln!(out);
+        let _ = writeln!(
+            out,
+            "Representation: {} profile layer(s) → {} sub-shells of constant extinction; τ error {:.1e}, diffusion-time integral error {:.1e} (relative, against a fine quadrature)",
+            p.layers.len(),
+            p.sub_shells,
+            p.tau_error_relative,
+            p.time_error_relative
+        );
+    }
+    let _ = writeln!(out);
+    for note in &report.notes {
+        let _ = writeln!(out, "note: {note}");
+    }
+    out
+}
+
+/// A CSV field: quoted if it holds a comma, a quote or a line break.
+fn csv_field(text: &str) -> String {
+    if text.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", text.replace('"', "\"\""))
+    } else {
+        text.to_string()
+    }
+}
+
+fn csv_number(value: Option<f64>) -> String {
+    value.map_or_else(String::new, |v| format!("{v:e}"))
+}
+
+/// The shells as CSV: a header line, then one line per shell, innermost first. Numbers are
+/// written in full precision (they read back to the same f64); missing values are empty.
+pub fn render_profile_csv(report: &ProfileReport) -> String {
+    let mut out = String::from(
+        "index,layer,inner_radius_cm,radius_cm,density_g_cm3,temperature_k,opacity_cm2_g,\
+         scattering_fraction,extinction_per_cm,mean_free_path_cm,tau_shell,tau_from_surface,\
+         time_s,cumulative_time_s,time_share,residence_share\n",
+    );
+    for s in &report.shells {
+        let fields = [
+            s.index.to_string(),
+            csv_field(&s.layer),
+            csv_number(Some(s.inner_radius_cm)),
+            csv_number(Some(s.radius_cm)),
+            csv_number(s.density_g_cm3),
+            csv_number(s.temperature_k),
+            csv_number(s.opacity_cm2_g),
+            csv_number(s.scattering_fraction),
+            csv_number(Some(s.extinction_per_cm)),
+            csv_number(s.mean_free_path_cm),
+            csv_number(Some(s.tau_shell)),
+            csv_number(Some(s.tau_from_surface)),
+            csv_number(Some(s.time_s)),
+            csv_number(Some(s.cumulative_time_s)),
+            csv_number(Some(s.time_share)),
+            csv_number(Some(s.residence_share)),
+        ];
+        out.push_str(&fields.join(","));
+        out.push('\n');
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn csv_quotes_names_with_commas() {
+        assert_eq!(csv_field("core, inner"), "\"core, inner\"");
+        assert_eq!(csv_field("say \"hi\""), "\"say \"\"hi\"\"\"");
+        assert_eq!(csv_field("plain"), "plain");
+        assert_eq!(csv_number(Some(0.1)), "1e-1");
+        assert_eq!(csv_number(None), "");
+    }
+}
