@@ -27,7 +27,7 @@ fn main() {
         "| ε | drift correction | MC / diffusion | 1σ | jumps per photon | direct steps per photon |"
     );
     println!("|---|---|---|---|---|---|");
-    for epsilon in [0.4, 0.2, 0.1] {
+    for epsilon in [0.4, 0.2, 0.15, 0.1] {
         for drift_correction in [false, true] {
             let config = RunConfig {
                 photons,
