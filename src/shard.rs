@@ -403,7 +403,9 @@ pub(crate) fn check_tally(tally: &mut Tally, photons: u64, file: &str) -> Result
         file: file.to_string(),
         problem,
     };
-    if !tally.repair_after_load() || !tally.compatible(&Tally::new()) {
+    if !tally.repair_after_load()
+        || !tally.compatible(&Tally::with_resolved(tally.resolved().map(|r| r.layout)))
+    {
         return Err(damaged("the tally is inconsistent".into()));
     }
     if tally.launched() != photons {

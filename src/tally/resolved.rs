@@ -28,6 +28,23 @@ pub struct ResolvedLayout {
     pub layers: usize,
 }
 
+impl ResolvedLayout {
+    /// Whether the layout is usable: positive finite widths, at least one bin of each kind,
+    /// and no more than 10⁷ bins of any kind (a guard against damaged files).
+    pub fn is_sane(&self) -> bool {
+        let width = |w: f64| w.is_finite() && w > 0.0;
+        let count = |n: usize| (1..=10_000_000).contains(&n);
+        width(self.time_bin_s)
+            && width(self.depth_bin_cm)
+            && width(self.radial_bin_cm)
+            && count(self.time_bins)
+            && count(self.depth_bins)
+            && count(self.cosine_bins)
+            && count(self.radial_bins)
+            && count(self.layers)
+    }
+}
+
 /// Resolved counts of a slab run (see the module docs).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ResolvedTally {
@@ -130,6 +147,9 @@ impl ResolvedTally {
 
     /// Whether `other` has the same layout and consistent vector lengths.
     pub fn compatible(&self, other: &ResolvedTally) -> bool {
+        if !self.layout.is_sane() || self.layout != other.layout {
+            return false;
+        }
         let fresh = ResolvedTally::new(self.layout);
         self.layout == other.layout
             && [&self, &other].iter().all(|t| {

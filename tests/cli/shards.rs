@@ -175,3 +175,53 @@ fn a_shard_needs_a_json_output_and_a_valid_k_of_n() {
         );
     }
 }
+
+#[test]
+fn merge_refuses_shards_run_with_different_walk_settings() {
+    // Same model, seed and photons, but one shard walked with a different jump threshold:
+    // the photons differ, so the shards must not be joined.
+    let directory = tempfile::tempdir().unwrap();
+    let a = shard_file(&directory, 1, 2, &[]);
+    let path = directory.path().join("other-gamma.json");
+    let mut args = vec!["run", MODEL];
+    args.extend(RUN);
+    args.extend(["--gamma", "5", "--shard", "2/2", "--json", s(&path)]);
+    succeed(&args);
+    let stderr = fail(&["merge", &a, s(&path)]);
+    assert_mentions(&stderr, &["walk settings"]);
+}
+
+#[test]
+fn resolved_slab_shards_merge_to_the_unsplit_run() {
+    let directory = tempfile::tempdir().unwrap();
+    let mut base = vec![
+        "run",
+        "models/opal-diffuser.json",
+        "--photons",
+        "2000",
+        "--resolve",
+    ];
+    let mut whole = base.clone();
+    whole.extend(["--json", "-"]);
+    let unsplit = without_timing(json(&succeed(&whole)));
+    let paths: Vec<String> = (1..=2)
+        .map(|k| {
+            directory
+                .path()
+                .join(format!("r{k}.json"))
+                .to_string_lossy()
+                .to_string()
+        })
+        .collect();
+    for (k, path) in paths.iter().enumerate() {
+        let shard = format!("{}/2", k + 1);
+        let mut args = base.clone();
+        args.extend(["--shard", &shard, "--json", path]);
+        succeed(&args);
+    }
+    base.clear();
+    let merged = without_timing(json(&succeed(&[
+        "merge", &paths[0], &paths[1], "--json", "-",
+    ])));
+    assert_eq!(merged, unsplit);
+}
