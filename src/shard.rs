@@ -403,8 +403,10 @@ pub(crate) fn check_tally(tally: &mut Tally, photons: u64, file: &str) -> Result
         file: file.to_string(),
         problem,
     };
+    let layout = tally.resolved().map(|r| r.layout);
     if !tally.repair_after_load()
-        || !tally.compatible(&Tally::with_resolved(tally.resolved().map(|r| r.layout)))
+        || !layout.is_none_or(|l| l.is_sane())
+        || !tally.compatible(&Tally::with_resolved(layout))
     {
         return Err(damaged("the tally is inconsistent".into()));
     }
