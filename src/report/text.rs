@@ -168,6 +168,7 @@ pub fn render_run_report(report: &RunReport) -> String {
             format_significant(ks, 3)
         );
     }
+    let _ = writeln!(out);
     if let Some(slab) = &report.slab_diffusion {
         let _ = writeln!(
             out,
