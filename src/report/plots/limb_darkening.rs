@@ -58,7 +58,7 @@ impl LimbDarkeningPanel {
             .collect();
         Some(Self {
             name: "limb-darkening".into(),
-            title: inputs.title("Angular distribution of reflected light"),
+            title: inputs.title("Limb darkening of reflected light"),
             subtitle: inputs.subtitle(),
             mu: limb.mu.clone(),
             monte_carlo: limb.monte_carlo.clone(),

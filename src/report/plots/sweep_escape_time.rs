@@ -124,7 +124,7 @@ impl SweepPanel {
         };
         Some(Self {
             name: "sweep-escape-time".into(),
-            title: format!("Mean escape time against {parameter} · {model}"),
+            title: format!("Mean escape time over the sweep · {model}"),
             subtitle: format!(
                 "{} points × {} photons · seed {} · {label}",
                 results.len(),

@@ -58,7 +58,7 @@ impl TimeResolvedPanel {
         let span = resolved.time_bin_s * resolved.time_s.len() as f64;
         Some(Self {
             name: "time-resolved".into(),
-            title: inputs.title("Time-resolved reflectance and transmittance"),
+            title: inputs.title("Time of flight"),
             subtitle: inputs.subtitle(),
             unit: DisplayUnit::time_for(span / 4.0),
             time_s: resolved.time_s.clone(),
@@ -137,20 +137,23 @@ impl TimeResolvedPanel {
             format_significant(self.later_fraction[0], 3),
             format_significant(self.later_fraction[1], 3)
         )];
-        let rate = DisplayUnit::new(
-            format!("/{}", unit.symbol),
-            1.0 / unit.size, // a rate per s shown per display unit
-        );
-        for (what, fit) in ["reflectance", "transmittance"].iter().zip(&self.decay) {
+        if self.diffusion_reflectance.is_empty() {
+            notes.push(
+                "no diffusion curves: they are for a slab lit from above (beam or diffuse)".into(),
+            );
+        }
+        let labels = ["R", "T"];
+        for (what, fit) in labels.iter().zip(&self.decay) {
             if let Some(fit) = fit {
+                let rate = rate_unit(fit.rate_per_s);
                 let diffusion = fit
                     .diffusion_rate_per_s
                     .map(|k| format!(", diffusion over the same window {}", rate.format(k)))
                     .unwrap_or_default();
                 notes.push(format!(
-                    "late decay of the {what}: Monte Carlo {} ± {}{diffusion}",
+                    "late decay of {what}: Monte Carlo {} ± {}{diffusion}",
                     rate.format(fit.rate_per_s),
-                    rate.format(fit.stderr_per_s)
+                    format_significant(rate.show(fit.stderr_per_s), 2)
                 ));
             }
         }
@@ -189,4 +192,16 @@ impl Panel for TimeResolvedPanel {
             svg: super::line_chart(&self.spec())?,
         })
     }
+}
+
+/// The unit (per ps, ns, µs, ms or s) that shows a rate of `per_s` (1/s) as a number ≥ 1.
+fn rate_unit(per_s: f64) -> DisplayUnit {
+    let units = [("ps", 1e-12), ("ns", 1e-9), ("µs", 1e-6), ("ms", 1e-3), ("s", 1.0)];
+    let (symbol, size) = units
+        .iter()
+        .find(|(_, size)| per_s * size >= 1.0)
+        .copied()
+        .unwrap_or(("s", 1.0));
+    // A rate per `size` seconds: shown as per_s · size.
+    DisplayUnit::new(format!("/{symbol}"), 1.0 / size)
 }
