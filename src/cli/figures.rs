@@ -6,9 +6,9 @@ use std::path::Path;
 use anyhow::{Context, Result};
 
 use sojourn::medium::Medium;
+use sojourn::report::ProfileReport;
 use sojourn::report::RunReport;
 use sojourn::report::html::render_html_report;
-use sojourn::report::ProfileReport;
 use sojourn::report::plots::{
     Figure, RunInputs, group_digits, profile_panels, render_all, run_figures, sweep_panels,
 };
@@ -69,8 +69,7 @@ pub fn write_profile_figures(
     if plot_dir.is_none() && report_path.is_none() {
         return Ok(());
     }
-    let figures =
-        render_all(&profile_panels(medium, report)).context("cannot draw the figures")?;
+    let figures = render_all(&profile_panels(medium, report)).context("cannot draw the figures")?;
     if let Some(directory) = plot_dir {
         write_svgs(directory, &figures)?;
     }

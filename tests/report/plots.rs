@@ -3,25 +3,25 @@
 use sojourn::medium::{Layer, Medium, Source};
 use sojourn::report::html::render_html_report;
 use sojourn::report::plots::absorption_depth::AbsorptionDepthPanel;
+use sojourn::report::plots::distribution::DistributionPanel;
+use sojourn::report::plots::escape_time::escape_time_panel;
 use sojourn::report::plots::limb_darkening::LimbDarkeningPanel;
 use sojourn::report::plots::optical_structure::OpticalStructurePanel;
 use sojourn::report::plots::profile_budget::ProfileTimeBudgetPanel;
-use sojourn::report::plots::sweep_escape_time::SweepPanel;
-use sojourn::report::plots::time_resolved::TimeResolvedPanel;
-use sojourn::report::plots::{Orientation, profile_panels, sweep_panels};
-use sojourn::report::slab_optics::resolved_layout;
-use sojourn::report::{ProfileReport, RunReport};
-use sojourn::sweep::Sweep;
-use sojourn::report::plots::distribution::DistributionPanel;
-use sojourn::report::plots::escape_time::escape_time_panel;
 use sojourn::report::plots::scatterings::scatterings_panel;
+use sojourn::report::plots::sweep_escape_time::SweepPanel;
 use sojourn::report::plots::time_budget::TimeBudgetPanel;
+use sojourn::report::plots::time_resolved::TimeResolvedPanel;
 use sojourn::report::plots::{
     Axis, Bars, ChartSpec, Colour, Dash, HistogramSpec, LineStyle, MarkerShape, Panel, PlotError,
     ReferenceLine, RunInputs, Scale, Series, SeriesStyle, fit, histogram_chart, line_chart,
     run_figures, run_panels, ticks::transform,
 };
+use sojourn::report::plots::{Orientation, profile_panels, sweep_panels};
+use sojourn::report::slab_optics::resolved_layout;
+use sojourn::report::{ProfileReport, RunReport};
 use sojourn::simulation::{RunConfig, RunResult, run};
+use sojourn::sweep::Sweep;
 use sojourn::transport::PhaseFunction;
 
 use super::svg::{self, Svg, label_width};
@@ -487,7 +487,7 @@ fn profile_panels_show_structure_photosphere_and_budget() {
     let accrual = &budget.accrual;
     assert!((accrual.last().unwrap().1 - 1.0).abs() < 1e-12);
     let half = report.time_budget.radius_50_percent_cm;
-    let below = accrual.iter().filter(|(r, _)| *r <= half).last().unwrap();
+    let below = accrual.iter().rfind(|(r, _)| *r <= half).unwrap();
     let above = accrual.iter().find(|(r, _)| *r > half).unwrap();
     assert!(below.1 <= 0.5 + 1e-12 && above.1 >= 0.5 - 1e-12);
     assert!(!spec.notes.iter().any(|n| n.contains("Monte Carlo")));
@@ -564,7 +564,11 @@ fn resolved_slab_has_time_absorption_and_angle_panels() {
     let reflected = &spec.series[3];
     assert_eq!(
         reflected.points.len(),
-        resolved.reflectance_per_s.iter().filter(|&&v| v > 0.0).count()
+        resolved
+            .reflectance_per_s
+            .iter()
+            .filter(|&&v| v > 0.0)
+            .count()
     );
     let unit = &time.unit;
     let (i, r) = resolved

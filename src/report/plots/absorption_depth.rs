@@ -79,11 +79,7 @@ impl AbsorptionDepthPanel {
             .map(|i| unit.show(i as f64 * self.depth_bin_cm))
             .collect();
         // Per cm shown per display unit of depth.
-        let heights = self
-            .absorbed_per_cm
-            .iter()
-            .map(|a| a * unit.size)
-            .collect();
+        let heights = self.absorbed_per_cm.iter().map(|a| a * unit.size).collect();
         let total: f64 = self.absorbed_by_layer.iter().map(|(_, f)| f).sum();
         let mut reference_lines = Vec::new();
         let mut notes = Vec::new();

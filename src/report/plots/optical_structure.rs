@@ -11,9 +11,9 @@ use super::error::PlotError;
 use super::spec::{Axis, ChartSpec, ReferenceLine, Series};
 use super::style::{Colour, Dash, LineStyle, SeriesStyle};
 use super::{Figure, Panel};
+use crate::medium::Medium;
 use crate::report::ProfileReport;
 use crate::report::profile_report::PHOTOSPHERE_OPTICAL_DEPTH;
-use crate::medium::Medium;
 use crate::units::format_significant;
 
 /// Everything the optical-structure figure shows, as plain data.

@@ -237,7 +237,9 @@ impl SweepPanel {
         }
         let missing = all.iter().filter(|p| p.mean_s.is_none()).count();
         if missing > 0 {
-            notes.push(format!("{missing} point(s) with no escaped photon not shown"));
+            notes.push(format!(
+                "{missing} point(s) with no escaped photon not shown"
+            ));
         }
         ChartSpec {
             title: self.title.clone(),

@@ -196,7 +196,13 @@ impl Panel for TimeResolvedPanel {
 
 /// The unit (per ps, ns, µs, ms or s) that shows a rate of `per_s` (1/s) as a number ≥ 1.
 fn rate_unit(per_s: f64) -> DisplayUnit {
-    let units = [("ps", 1e-12), ("ns", 1e-9), ("µs", 1e-6), ("ms", 1e-3), ("s", 1.0)];
+    let units = [
+        ("ps", 1e-12),
+        ("ns", 1e-9),
+        ("µs", 1e-6),
+        ("ms", 1e-3),
+        ("s", 1.0),
+    ];
     let (symbol, size) = units
         .iter()
         .find(|(_, size)| per_s * size >= 1.0)
