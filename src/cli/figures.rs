@@ -1,14 +1,18 @@
-//! `--plot DIR` and `--report PATH`: a run's figures as SVG files, and the single-file HTML
-//! report, both written atomically.
+//! `--plot DIR` and `--report PATH`: a run's (a profile's, a sweep's) figures as SVG files,
+//! and the single-file HTML report, both written atomically.
 
 use std::path::Path;
 
 use anyhow::{Context, Result};
 
 use sojourn::medium::Medium;
+use sojourn::report::ProfileReport;
 use sojourn::report::RunReport;
 use sojourn::report::html::render_html_report;
-use sojourn::report::plots::{Figure, RunInputs, group_digits, run_figures};
+use sojourn::report::plots::{
+    Figure, RunInputs, group_digits, profile_panels, render_all, run_figures, sweep_panels,
+};
+use sojourn::sweep::PointResult;
 use sojourn::tally::Tally;
 
 use super::output::write_atomically;
@@ -50,6 +54,42 @@ pub fn write_run_figures(
             .with_context(|| format!("cannot write the HTML report to {}", path.display()))?;
     }
     Ok(())
+}
+
+/// Draws the figures of `sojourn profile` and writes them to `plot_dir` and/or into the HTML
+/// report at `report_path` (with `text`, the printed report). Does nothing if neither is
+/// asked for.
+pub fn write_profile_figures(
+    plot_dir: Option<&Path>,
+    report_path: Option<&Path>,
+    medium: &Medium,
+    report: &ProfileReport,
+    text: &str,
+) -> Result<()> {
+    if plot_dir.is_none() && report_path.is_none() {
+        return Ok(());
+    }
+    let figures = render_all(&profile_panels(medium, report)).context("cannot draw the figures")?;
+    if let Some(directory) = plot_dir {
+        write_svgs(directory, &figures)?;
+    }
+    if let Some(path) = report_path {
+        let title = format!("sojourn profile · {}", report.model.name);
+        let subtitle = format!(
+            "model {} · {} shells · sojourn {}",
+            report.model.file, report.model.shells, report.sojourn_version
+        );
+        let html = render_html_report(&title, &subtitle, text, &figures);
+        write_atomically(path, html.as_bytes())
+            .with_context(|| format!("cannot write the HTML report to {}", path.display()))?;
+    }
+    Ok(())
+}
+
+/// Draws the figures of a finished sweep (`label` names the spec) into `plot_dir`.
+pub fn write_sweep_figures(plot_dir: &Path, results: &[PointResult], label: &str) -> Result<()> {
+    let figures = render_all(&sweep_panels(results, label)).context("cannot draw the figures")?;
+    write_svgs(plot_dir, &figures)
 }
 
 fn write_svgs(directory: &Path, figures: &[Figure]) -> Result<()> {

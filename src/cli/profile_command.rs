@@ -10,6 +10,7 @@ use sojourn::medium::model_file::{LoadOptions, load_model_with};
 use sojourn::report::{ProfileReport, render_profile_csv, render_profile_report};
 
 use super::args;
+use super::figures::write_profile_figures;
 use super::output::write_text;
 
 /// Arguments of `sojourn profile`.
@@ -29,6 +30,13 @@ pub struct ProfileArgs {
     /// Radius bins in the printed time budget.
     #[arg(long, default_value_t = 20, value_parser = clap::builder::RangedU64ValueParser::<usize>::new().range(1..=1000))]
     rows: usize,
+    /// Write the figures (optical structure, time budget) as SVG files into DIR.
+    #[arg(long, value_name = "DIR")]
+    plot: Option<PathBuf>,
+    /// Write a single-file HTML report (text report and figures, no external assets) to
+    /// PATH.
+    #[arg(long, value_name = "PATH")]
+    report: Option<PathBuf>,
 }
 
 /// Runs the subcommand.
@@ -52,8 +60,16 @@ pub fn execute(args: ProfileArgs) -> Result<()> {
         write_text(path, &render_profile_csv(&report))
             .with_context(|| format!("cannot write the CSV table to {}", path.display()))?;
     }
+    let text = render_profile_report(&report, args.rows);
+    write_profile_figures(
+        args.plot.as_deref(),
+        args.report.as_deref(),
+        &medium,
+        &report,
+        &text,
+    )?;
     if args.json.as_deref() != Some(stdout) && args.csv.as_deref() != Some(stdout) {
-        write_text(stdout, &render_profile_report(&report, args.rows))?;
+        write_text(stdout, &text)?;
     }
     Ok(())
 }

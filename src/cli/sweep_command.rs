@@ -11,6 +11,7 @@ use sojourn::sweep::runner::Finished;
 use sojourn::sweep::table::render_text;
 use sojourn::sweep::{ResolvedSpec, SweepRunner};
 
+use super::figures::write_sweep_figures;
 use super::progress::Progress;
 
 /// Arguments of `sojourn sweep`.
@@ -31,6 +32,10 @@ pub struct SweepArgs {
     /// Check the spec and list the points without running anything.
     #[arg(long)]
     dry_run: bool,
+    /// Write the sweep's figure (mean escape time against the first parameter) as an SVG
+    /// file into DIR (not with --shard: plot after `sojourn merge`).
+    #[arg(long, value_name = "DIR", conflicts_with = "shard")]
+    plot: Option<PathBuf>,
     /// No progress bar and no status lines on stderr.
     #[arg(long, short)]
     quiet: bool,
@@ -100,6 +105,9 @@ pub fn execute(args: SweepArgs) -> Result<()> {
             jsonl,
         } => {
             print!("{}", render_text(&results));
+            if let Some(directory) = &args.plot {
+                write_sweep_figures(directory, &results, &label)?;
+            }
             if !args.quiet {
                 eprintln!("sojourn: wrote {} and {}", csv.display(), jsonl.display());
             }

@@ -107,3 +107,89 @@ fn unwritable_plot_directory_is_an_error() {
     let stderr = String::from_utf8_lossy(&output.stderr);
     assert!(stderr.contains("figure directory"), "{stderr}");
 }
+
+/// The `.svg` files in `directory`, sorted, each parsed as XML.
+fn svg_files(directory: &std::path::Path) -> Vec<String> {
+    let mut names: Vec<String> = std::fs::read_dir(directory)
+        .unwrap()
+        .map(|entry| entry.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    for name in &names {
+        let svg = std::fs::read_to_string(directory.join(name)).unwrap();
+        roxmltree::Document::parse(&svg).unwrap_or_else(|e| panic!("{name}: {e}"));
+    }
+    names
+}
+
+#[test]
+fn profile_plot_and_report_write_structure_and_budget() {
+    let directory = tempfile::tempdir().unwrap();
+    let plots = directory.path().join("figures");
+    let report = directory.path().join("profile.html");
+    let output = sojourn()
+        .args(["profile", "models/ember-two-zone.json", "--plot"])
+        .arg(&plots)
+        .arg("--report")
+        .arg(&report)
+        .output()
+        .unwrap();
+    assert!(output.status.success(), "{output:?}");
+    assert!(String::from_utf8_lossy(&output.stdout).contains("Time budget"));
+    assert_eq!(
+        svg_files(&plots),
+        ["optical-structure.svg", "time-budget.svg"]
+    );
+    let html = std::fs::read_to_string(&report).unwrap();
+    assert_eq!(html.matches("<svg").count(), 2);
+    assert!(html.contains("Time budget"), "the text report is embedded");
+}
+
+#[test]
+fn resolved_slab_run_adds_its_panels_and_a_sweep_plots_its_table() {
+    let directory = tempfile::tempdir().unwrap();
+    let plots = directory.path().join("slab");
+    let output = sojourn()
+        .args([
+            "run",
+            "models/opal-diffuser.json",
+            "--photons",
+            "800",
+            "--resolve",
+            "--quiet",
+            "--plot",
+        ])
+        .arg(&plots)
+        .output()
+        .unwrap();
+    assert!(output.status.success(), "{output:?}");
+    assert_eq!(
+        svg_files(&plots),
+        [
+            "absorption-depth.svg",
+            "escape-time.svg",
+            "limb-darkening.svg",
+            "scatterings.svg",
+            "time-resolved.svg"
+        ]
+    );
+
+    let figures = directory.path().join("sweep-figures");
+    let output = sojourn()
+        .args([
+            "sweep",
+            "examples/sweeps/sphere-optical-depth.json",
+            "--quiet",
+            "--out",
+        ])
+        .arg(directory.path().join("sweep"))
+        .arg("--plot")
+        .arg(&figures)
+        .output()
+        .unwrap();
+    assert!(output.status.success(), "{output:?}");
+    assert_eq!(svg_files(&figures), ["sweep-escape-time.svg"]);
+    let svg = std::fs::read_to_string(figures.join("sweep-escape-time.svg")).unwrap();
+    assert!(svg.contains("Monte Carlo mean ± 1σ"));
+    assert!(svg.contains("layers[0].extinction_coefficient"));
+}

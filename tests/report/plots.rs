@@ -1,18 +1,27 @@
 //! Every chart kind and every panel of a run, drawn for small runs and read back.
 
 use sojourn::medium::{Layer, Medium, Source};
-use sojourn::report::RunReport;
 use sojourn::report::html::render_html_report;
+use sojourn::report::plots::absorption_depth::AbsorptionDepthPanel;
 use sojourn::report::plots::distribution::DistributionPanel;
 use sojourn::report::plots::escape_time::escape_time_panel;
+use sojourn::report::plots::limb_darkening::LimbDarkeningPanel;
+use sojourn::report::plots::optical_structure::OpticalStructurePanel;
+use sojourn::report::plots::profile_budget::ProfileTimeBudgetPanel;
 use sojourn::report::plots::scatterings::scatterings_panel;
+use sojourn::report::plots::sweep_escape_time::SweepPanel;
 use sojourn::report::plots::time_budget::TimeBudgetPanel;
+use sojourn::report::plots::time_resolved::TimeResolvedPanel;
 use sojourn::report::plots::{
     Axis, Bars, ChartSpec, Colour, Dash, HistogramSpec, LineStyle, MarkerShape, Panel, PlotError,
     ReferenceLine, RunInputs, Scale, Series, SeriesStyle, fit, histogram_chart, line_chart,
     run_figures, run_panels, ticks::transform,
 };
+use sojourn::report::plots::{Orientation, profile_panels, sweep_panels};
+use sojourn::report::slab_optics::resolved_layout;
+use sojourn::report::{ProfileReport, RunReport};
 use sojourn::simulation::{RunConfig, RunResult, run};
+use sojourn::sweep::Sweep;
 use sojourn::transport::PhaseFunction;
 
 use super::svg::{self, Svg, label_width};
@@ -415,4 +424,246 @@ fn malformed_specs_are_errors() {
         histogram_chart(&spec),
         Err(PlotError::EdgesNotIncreasing { index: 2, .. })
     ));
+}
+
+/// Series with a label are in the legend, and the fitted axes hold the data.
+fn check_line_panel(spec: &ChartSpec, svg_text: &str) -> Svg {
+    check_ranges(spec, None);
+    let svg = svg::parse(svg_text);
+    for series in spec.series.iter().filter(|s| !s.label.is_empty()) {
+        assert!(
+            svg.has_text(&series.label),
+            "legend lacks {:?}",
+            series.label
+        );
+    }
+    for line in spec.reference_lines.iter().filter(|l| !l.label.is_empty()) {
+        assert!(svg.has_text(&line.label), "legend lacks {:?}", line.label);
+    }
+    for note in &spec.notes {
+        assert!(svg.has_text(note), "notes lack {note:?}");
+    }
+    check_tick_labels(&svg);
+    svg
+}
+
+fn labels(spec: &ChartSpec) -> Vec<&str> {
+    spec.series.iter().map(|s| s.label.as_str()).collect()
+}
+
+#[test]
+fn profile_panels_show_structure_photosphere_and_budget() {
+    let medium = two_zone_sphere();
+    let report = ProfileReport::new(&medium, "test").unwrap();
+    let panels = profile_panels(&medium, &report);
+    let names: Vec<&str> = panels.iter().map(|p| p.name()).collect();
+    assert_eq!(names, ["optical-structure", "time-budget"]);
+
+    let structure = OpticalStructurePanel::from_profile(&medium, &report).unwrap();
+    let spec = structure.spec();
+    assert_eq!(spec.y_axis.scale, Scale::Log);
+    assert_eq!(
+        labels(&spec),
+        ["mean free path l (cm)", "optical depth τ from the surface"]
+    );
+    // Two step points per shell; τ from 40·0.3 + 4·0.7 = 14.8 at the centre to 0.
+    assert_eq!(structure.mean_free_path.len(), 4);
+    assert!((structure.optical_depth[0].1 - 14.8).abs() < 1e-12);
+    assert_eq!(*structure.optical_depth.last().unwrap(), (1.0, 0.0));
+    let photosphere = report.photosphere_radius_cm.unwrap();
+    assert!((photosphere - (1.0 - (2.0 / 3.0) / 4.0)).abs() < 1e-12);
+    assert!(spec.reference_lines.iter().any(|l| {
+        l.orientation == Orientation::Vertical
+            && l.value == photosphere
+            && l.label.starts_with("photosphere (τ = 2/3)")
+    }));
+    check_line_panel(&spec, &structure.render().unwrap().svg);
+
+    let budget = ProfileTimeBudgetPanel::from_profile(&medium, &report).unwrap();
+    let spec = budget.spec();
+    assert_eq!(spec.series.len(), 4, "{:?}", labels(&spec));
+    assert!(labels(&spec).contains(&"share of T = (1/c)∫ r/l dr accrued inside r"));
+    // The accrual curve ends at 100 % and passes the report's half-time radius at 50 %.
+    let accrual = &budget.accrual;
+    assert!((accrual.last().unwrap().1 - 1.0).abs() < 1e-12);
+    let half = report.time_budget.radius_50_percent_cm;
+    let below = accrual.iter().rfind(|(r, _)| *r <= half).unwrap();
+    let above = accrual.iter().find(|(r, _)| *r > half).unwrap();
+    assert!(below.1 <= 0.5 + 1e-12 && above.1 >= 0.5 - 1e-12);
+    assert!(!spec.notes.iter().any(|n| n.contains("Monte Carlo")));
+    check_line_panel(&spec, &budget.render().unwrap().svg);
+}
+
+fn resolved_slab_run(photons: u64) -> SmallRun {
+    let medium = Medium::slab(
+        vec![
+            (
+                0.5,
+                layer(10.0, 0.99, PhaseFunction::HenyeyGreenstein { g: 0.3 }),
+            ),
+            (
+                1.5,
+                layer(10.0, 0.97, PhaseFunction::HenyeyGreenstein { g: 0.3 }),
+            ),
+        ],
+        1.0,
+        Source::normal_beam(),
+    )
+    .unwrap()
+    .with_name("two-layer test slab");
+    let config = RunConfig {
+        photons,
+        seed: 5,
+        resolved: Some(resolved_layout(&medium, None, 60, 10)),
+        ..RunConfig::default()
+    };
+    let result = run(&medium, &config);
+    let report = RunReport::new(&medium, "test", &config, &result);
+    SmallRun {
+        medium,
+        result,
+        report,
+    }
+}
+
+#[test]
+fn resolved_slab_has_time_absorption_and_angle_panels() {
+    let run = resolved_slab_run(3000);
+    let names: Vec<String> = run_panels(&run.inputs())
+        .iter()
+        .map(|p| p.name().to_string())
+        .collect();
+    assert_eq!(
+        names,
+        [
+            "escape-time",
+            "scatterings",
+            "time-resolved",
+            "absorption-depth",
+            "limb-darkening"
+        ]
+    );
+    // Without --resolve, only the existing panels (checked for the plain slab in
+    // run_figures_cover_each_geometry).
+
+    let time = TimeResolvedPanel::for_run(&run.inputs()).unwrap();
+    let spec = time.spec();
+    assert_eq!(spec.y_axis.scale, Scale::Log);
+    assert_eq!(
+        labels(&spec),
+        [
+            "diffusion reflectance, extrapolated boundary",
+            "diffusion reflectance, zero boundary",
+            "diffusion transmittance, extrapolated boundary",
+            "Monte Carlo reflectance",
+            "Monte Carlo transmittance",
+        ]
+    );
+    // Monte Carlo points: one per non-empty bin, on the tally's bins, per display unit.
+    let resolved = run.report.resolved.as_ref().unwrap();
+    let reflected = &spec.series[3];
+    assert_eq!(
+        reflected.points.len(),
+        resolved
+            .reflectance_per_s
+            .iter()
+            .filter(|&&v| v > 0.0)
+            .count()
+    );
+    let unit = &time.unit;
+    let (i, r) = resolved
+        .reflectance_per_s
+        .iter()
+        .enumerate()
+        .find(|(_, v)| **v > 0.0)
+        .unwrap();
+    assert_eq!(
+        reflected.points[0],
+        (unit.show(resolved.time_s[i]), r * unit.size)
+    );
+    let svg = check_line_panel(&spec, &time.render().unwrap().svg);
+    // One circle per reflectance point and one in the legend.
+    assert_eq!(svg.circles, reflected.points.len() + 1);
+
+    let absorption = AbsorptionDepthPanel::for_run(&run.inputs()).unwrap();
+    let spec = absorption.spec();
+    assert_eq!(spec.bars.heights.len(), resolved.absorbed_per_cm.len());
+    // The bars integrate to the absorbed fraction.
+    let area: f64 = spec
+        .bars
+        .heights
+        .iter()
+        .zip(spec.bars.edges.windows(2))
+        .map(|(h, e)| h * (e[1] - e[0]))
+        .sum();
+    assert!((area - run.report.outcome.absorbed).abs() < 1e-9, "{area}");
+    assert_eq!(spec.chart.reference_lines.len(), 1, "one interface");
+    check_ranges(&spec.chart, Some(&spec.bars));
+    let svg = svg::parse(&absorption.render().unwrap().svg);
+    assert_eq!(
+        svg.filled(&Colour::BarFill.hex()).len(),
+        spec.bars.drawn() + 1
+    );
+    assert!(svg.has_text(&spec.bars.label) && svg.has_text("layer boundary"));
+    check_tick_labels(&svg);
+
+    let limb = LimbDarkeningPanel::for_run(&run.inputs()).unwrap();
+    let spec = limb.spec();
+    assert_eq!(
+        labels(&spec)[..2],
+        [
+            "H(μ)/H(1), deep conservative isotropic medium",
+            "Eddington 0.4 + 0.6μ"
+        ]
+    );
+    assert!(labels(&spec)[2].starts_with("Monte Carlo ± 1σ"));
+    assert_eq!(spec.series[2].points.len(), 10);
+    assert_eq!(spec.series[2].y_errors.as_ref().unwrap().len(), 10);
+    let svg = check_line_panel(&spec, &limb.render().unwrap().svg);
+    assert_eq!(svg.circles, 10 + 1);
+}
+
+#[test]
+fn sweep_panel_draws_means_with_errors_and_both_estimates() {
+    let mut sweep = Sweep::new(400, 9);
+    for tau in [1.0, 3.0, 10.0, 30.0] {
+        sweep = sweep.point([("optical radius", tau)], uniform_sphere(tau));
+    }
+    let results = sweep.run();
+    let panels = sweep_panels(&results, "in code");
+    assert_eq!(panels.len(), 1);
+    let panel = SweepPanel::from_results(&results, "in code").unwrap();
+    let spec = panel.spec();
+    assert_eq!(spec.x_axis.scale, Scale::Log, "τ spans 1.5 decades");
+    assert_eq!(spec.x_axis.label, "optical radius");
+    assert_eq!(
+        labels(&spec),
+        [
+            "diffusion, extrapolated boundary",
+            "rule of thumb t ≈ τL/c",
+            "Monte Carlo mean ± 1σ",
+        ]
+    );
+    let mc = &spec.series[2];
+    assert_eq!(mc.points.len(), 4);
+    assert_eq!(mc.y_errors.as_ref().unwrap().len(), 4);
+    assert!(spec.subtitle.starts_with("4 points × 400 photons"));
+    let svg = check_line_panel(&spec, &panel.render().unwrap().svg);
+    assert_eq!(svg.circles, 4 + 1);
+
+    // A narrow range stays linear; a second parameter makes groups.
+    let mut sweep = Sweep::new(200, 9);
+    for g in [0.0, 0.5] {
+        for tau in [2.0, 4.0] {
+            sweep = sweep.point([("tau", tau), ("g", g)], uniform_sphere(tau));
+        }
+    }
+    let results = sweep.run();
+    let panel = SweepPanel::from_results(&results, "grid").unwrap();
+    assert_eq!(panel.groups.len(), 2);
+    let spec = panel.spec();
+    assert_eq!(spec.x_axis.scale, Scale::Linear);
+    assert_eq!(spec.series.len(), 6);
+    assert!(labels(&spec).contains(&"Monte Carlo mean ± 1σ (g = 0.5000)"));
+    check_line_panel(&spec, &panel.render().unwrap().svg);
 }

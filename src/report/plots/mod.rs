@@ -10,7 +10,12 @@
 //!   readers.
 //! * **Panels** turn results into one chart each and implement [`Panel`]. A run has
 //!   [`escape_time::escape_time_panel`], [`scatterings::scatterings_panel`] and, for spheres,
-//!   [`time_budget::TimeBudgetPanel`]; [`run_panels`] lists them. A new panel is a new file
+//!   [`time_budget::TimeBudgetPanel`]; a slab run with resolved tallies adds
+//!   [`time_resolved::TimeResolvedPanel`], [`absorption_depth::AbsorptionDepthPanel`] and
+//!   [`limb_darkening::LimbDarkeningPanel`]; [`run_panels`] lists them. `sojourn profile`
+//!   has [`optical_structure::OpticalStructurePanel`] and
+//!   [`profile_budget::ProfileTimeBudgetPanel`] ([`profile_panels`]), a sweep
+//!   [`sweep_escape_time::SweepPanel`] ([`sweep_panels`]). A new panel is a new file
 //!   with a plain-data struct that implements [`Panel`] (usually by filling a
 //!   [`ChartSpec`]), and the command that has its data lists it — no other panel changes.
 //!
@@ -32,22 +37,32 @@
 //! assert_eq!(names, ["escape-time", "scatterings", "time-budget"]);
 //! ```
 
+pub mod absorption_depth;
 mod canvas;
 pub mod display_unit;
 pub mod distribution;
 mod error;
 pub mod escape_time;
 mod histogram_chart;
+pub mod limb_darkening;
 mod line_chart;
+pub mod optical_structure;
+pub mod profile_budget;
 pub mod rebin;
 mod run_inputs;
 pub mod scatterings;
 mod spec;
 pub mod style;
+pub mod sweep_escape_time;
 pub mod ticks;
 pub mod time_budget;
+pub mod time_resolved;
 
 pub use canvas::{Frame, fit};
+
+use crate::medium::Medium;
+use crate::report::ProfileReport;
+use crate::sweep::PointResult;
 pub use display_unit::DisplayUnit;
 pub use error::PlotError;
 pub use histogram_chart::histogram_chart;
@@ -82,7 +97,9 @@ pub trait Panel {
 }
 
 /// The panels of a run that have data: escape time and scatterings (if any photon left),
-/// and the time budget (spheres).
+/// the time budget (spheres), and for slabs with resolved tallies the time-resolved
+/// reflectance and transmittance, absorption by depth (if any) and the angular distribution
+/// of reflected light.
 pub fn run_panels(inputs: &RunInputs) -> Vec<Box<dyn Panel>> {
     let mut panels: Vec<Box<dyn Panel>> = Vec::new();
     if let Some(panel) = escape_time::escape_time_panel(inputs) {
@@ -94,7 +111,47 @@ pub fn run_panels(inputs: &RunInputs) -> Vec<Box<dyn Panel>> {
     if let Some(panel) = time_budget::TimeBudgetPanel::for_run(inputs) {
         panels.push(Box::new(panel));
     }
+    if let Some(panel) = time_resolved::TimeResolvedPanel::for_run(inputs) {
+        panels.push(Box::new(panel));
+    }
+    if let Some(panel) = absorption_depth::AbsorptionDepthPanel::for_run(inputs) {
+        panels.push(Box::new(panel));
+    }
+    if let Some(panel) = limb_darkening::LimbDarkeningPanel::for_run(inputs) {
+        panels.push(Box::new(panel));
+    }
     panels
+}
+
+/// The panels of `sojourn profile`: the optical structure and the time budget of the
+/// profile's shells.
+pub fn profile_panels(medium: &Medium, report: &ProfileReport) -> Vec<Box<dyn Panel>> {
+    let mut panels: Vec<Box<dyn Panel>> = Vec::new();
+    if let Some(panel) = optical_structure::OpticalStructurePanel::from_profile(medium, report) {
+        panels.push(Box::new(panel));
+    }
+    if let Some(panel) = profile_budget::ProfileTimeBudgetPanel::from_profile(medium, report) {
+        panels.push(Box::new(panel));
+    }
+    panels
+}
+
+/// The panels of a finished sweep: the mean escape time against the first parameter.
+/// `label` names the spec.
+pub fn sweep_panels(results: &[PointResult], label: &str) -> Vec<Box<dyn Panel>> {
+    let mut panels: Vec<Box<dyn Panel>> = Vec::new();
+    if let Some(panel) = sweep_escape_time::SweepPanel::from_results(results, label) {
+        panels.push(Box::new(panel));
+    }
+    panels
+}
+
+/// Draws every panel in `panels`.
+///
+/// # Errors
+/// The first panel that fails ([`PlotError`]).
+pub fn render_all(panels: &[Box<dyn Panel>]) -> Result<Vec<Figure>, PlotError> {
+    panels.iter().map(|panel| panel.render()).collect()
 }
 
 /// Draws every panel of a run.

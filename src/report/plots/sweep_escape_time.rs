@@ -1,0 +1,272 @@
+//! The panel of a parameter study (`sojourn sweep --plot`): the Monte Carlo mean escape
+//! time of every point with its 1σ error bar against the first swept parameter, with the
+//! steady-diffusion mean exit time (Milne extrapolated boundary) and the rule of thumb
+//! t ≈ τL/c of each point as lines.
+//!
+//! The x axis is logarithmic when the parameter's values are positive and span more than a
+//! decade, the y axis likewise for the times. With more than one parameter the points are
+//! grouped by the values of the others, one set of series per group (up to
+//! [`MAX_GROUPS`]). A parameter that is not a number is replaced by the point index.
+
+use serde_json::Value;
+
+use super::display_unit::DisplayUnit;
+use super::error::PlotError;
+use super::run_inputs::group_digits;
+use super::spec::{Axis, ChartSpec, Series};
+use super::style::{Colour, Dash, LineStyle, MarkerShape, SeriesStyle};
+use super::{Figure, Panel};
+use crate::sweep::PointResult;
+
+/// Groups (combinations of the other parameters) drawn at most.
+pub const MAX_GROUPS: usize = 4;
+
+/// One point of the study, as the figure needs it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SweepPoint {
+    /// Value of the first parameter (or the point index, if it is not a number).
+    pub x: f64,
+    /// Monte Carlo mean escape time, s (`None` if no photon left).
+    pub mean_s: Option<f64>,
+    /// Its standard error, s.
+    pub stderr_s: Option<f64>,
+    /// Steady-diffusion mean exit time, extrapolated boundary, s.
+    pub diffusion_s: f64,
+    /// Rule of thumb t ≈ τL/c, s.
+    pub naive_s: f64,
+}
+
+/// The points that share the values of every parameter but the first.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SweepGroup {
+    /// The other parameters' values, e.g. `layers[0].albedo = 0.9` (empty with one
+    /// parameter).
+    pub label: String,
+    /// Its points, in increasing x.
+    pub points: Vec<SweepPoint>,
+}
+
+/// Everything the sweep figure shows, as plain data.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SweepPanel {
+    /// File stem of the figure.
+    pub name: String,
+    /// Title.
+    pub title: String,
+    /// Subtitle.
+    pub subtitle: String,
+    /// Label of the x axis (the parameter's path or name, or `point`).
+    pub parameter: String,
+    /// The groups of points, in order of first appearance.
+    pub groups: Vec<SweepGroup>,
+}
+
+fn value_text(value: &Value) -> String {
+    match value {
+        Value::String(s) => s.clone(),
+        Value::Number(n) => n
+            .as_f64()
+            .map(|v| crate::units::format_significant(v, 4))
+            .unwrap_or_else(|| n.to_string()),
+        other => other.to_string(),
+    }
+}
+
+impl SweepPanel {
+    /// The panel of a finished sweep (`None` without points or parameters). `label` names
+    /// the spec (shown in the subtitle).
+    pub fn from_results(results: &[PointResult], label: &str) -> Option<Self> {
+        let first = results.first()?;
+        let (parameter, _) = first.parameters.first()?;
+        let numeric = results
+            .iter()
+            .all(|r| r.parameters.first().and_then(|(_, v)| v.as_f64()).is_some());
+        let mut groups: Vec<SweepGroup> = Vec::new();
+        for result in results {
+            let others: Vec<String> = result.parameters[1..]
+                .iter()
+                .map(|(name, value)| format!("{name} = {}", value_text(value)))
+                .collect();
+            let key = others.join(", ");
+            let r = &result.report;
+            let point = SweepPoint {
+                x: if numeric {
+                    result.parameters[0].1.as_f64().expect("checked numeric")
+                } else {
+                    result.index as f64
+                },
+                mean_s: r.escape_time.mean_s,
+                stderr_s: r.escape_time.stderr_s,
+                diffusion_s: r.diffusion.mean_time_extrapolated_s,
+                naive_s: r.diffusion.naive_time_s,
+            };
+            match groups.iter_mut().find(|g| g.label == key) {
+                Some(group) => group.points.push(point),
+                None => groups.push(SweepGroup {
+                    label: key,
+                    points: vec![point],
+                }),
+            }
+        }
+        for group in &mut groups {
+            group.points.sort_by(|a, b| a.x.total_cmp(&b.x));
+        }
+        let model = &first.report.model.name;
+        let model = if model.is_empty() {
+            "(unnamed model)"
+        } else {
+            model.as_str()
+        };
+        let parameter = if numeric {
+            parameter.clone()
+        } else {
+            format!("point ({parameter} is not a number)")
+        };
+        Some(Self {
+            name: "sweep-escape-time".into(),
+            title: format!("Mean escape time over the sweep · {model}"),
+            subtitle: format!(
+                "{} points × {} photons · seed {} · {label}",
+                results.len(),
+                group_digits(first.report.photons),
+                first.report.seed
+            ),
+            parameter,
+            groups,
+        })
+    }
+
+    /// The chart this panel draws.
+    pub fn spec(&self) -> ChartSpec {
+        let drawn = &self.groups[..self.groups.len().min(MAX_GROUPS)];
+        let all: Vec<&SweepPoint> = drawn.iter().flat_map(|g| &g.points).collect();
+        let mut times: Vec<f64> = all
+            .iter()
+            .flat_map(|p| [p.mean_s, Some(p.diffusion_s), Some(p.naive_s)])
+            .flatten()
+            .filter(|t| t.is_finite() && *t > 0.0)
+            .collect();
+        times.sort_by(f64::total_cmp);
+        let unit = DisplayUnit::time_for(times.get(times.len() / 2).copied().unwrap_or(1.0));
+        let spans_decade = |values: &[f64]| {
+            let (low, high) = values
+                .iter()
+                .fold((f64::INFINITY, 0.0f64), |(a, b), &v| (a.min(v), b.max(v)));
+            values.iter().all(|&v| v > 0.0) && high > 10.0 * low
+        };
+        let xs: Vec<f64> = all.iter().map(|p| p.x).collect();
+        let x_axis = if spans_decade(&xs) {
+            Axis::log(self.parameter.clone())
+        } else {
+            Axis::linear(self.parameter.clone())
+        };
+        let y_label = unit.axis_label("mean escape time");
+        let y_axis = if spans_decade(&times) {
+            Axis::log(y_label)
+        } else {
+            Axis::linear_from_zero(y_label)
+        };
+        const MARKERS: [MarkerShape; MAX_GROUPS] = [
+            MarkerShape::Circle,
+            MarkerShape::OpenSquare,
+            MarkerShape::Triangle,
+            MarkerShape::OpenDiamond,
+        ];
+        const DASHES: [(Dash, Dash); MAX_GROUPS] = [
+            (Dash::Solid, Dash::DashDot),
+            (Dash::Dashed, Dash::Dotted),
+            (Dash::LongDash, Dash::DashDot),
+            (Dash::Dotted, Dash::LongDash),
+        ];
+        let mut series = Vec::new();
+        for (k, group) in drawn.iter().enumerate() {
+            let suffix = if group.label.is_empty() {
+                String::new()
+            } else {
+                format!(" ({})", group.label)
+            };
+            let show = |f: &dyn Fn(&SweepPoint) -> f64| -> Vec<(f64, f64)> {
+                group
+                    .points
+                    .iter()
+                    .map(|p| (p.x, unit.show(f(p))))
+                    .collect()
+            };
+            series.push(Series::new(
+                format!("diffusion, extrapolated boundary{suffix}"),
+                show(&|p| p.diffusion_s),
+                SeriesStyle {
+                    line: Some(LineStyle::new(Colour::Indigo, 3.0, DASHES[k].0)),
+                    marker: MarkerShape::None,
+                    colour: Colour::Indigo,
+                },
+            ));
+            series.push(Series::new(
+                format!("rule of thumb t ≈ τL/c{suffix}"),
+                show(&|p| p.naive_s),
+                SeriesStyle::line(Colour::Ochre, 3.0, DASHES[k].1),
+            ));
+            let measured: Vec<&SweepPoint> =
+                group.points.iter().filter(|p| p.mean_s.is_some()).collect();
+            if !measured.is_empty() {
+                series.push(
+                    Series::new(
+                        format!("Monte Carlo mean ± 1σ{suffix}"),
+                        measured
+                            .iter()
+                            .map(|p| (p.x, unit.show(p.mean_s.expect("filtered"))))
+                            .collect(),
+                        SeriesStyle::points(Colour::Vermilion, MARKERS[k]),
+                    )
+                    .with_y_errors(
+                        measured
+                            .iter()
+                            .map(|p| unit.show(p.stderr_s.unwrap_or(0.0)))
+                            .collect(),
+                    ),
+                );
+            }
+        }
+        let mut notes = Vec::new();
+        if self.groups.len() > drawn.len() {
+            notes.push(format!(
+                "{} of {} combinations of the other parameters drawn",
+                drawn.len(),
+                self.groups.len()
+            ));
+        }
+        let missing = all.iter().filter(|p| p.mean_s.is_none()).count();
+        if missing > 0 {
+            notes.push(format!(
+                "{missing} point(s) with no escaped photon not shown"
+            ));
+        }
+        ChartSpec {
+            title: self.title.clone(),
+            subtitle: self.subtitle.clone(),
+            x_axis,
+            y_axis,
+            series,
+            reference_lines: Vec::new(),
+            notes,
+        }
+    }
+}
+
+impl Panel for SweepPanel {
+    fn name(&self) -> &str {
+        &self.name
+    }
+
+    fn render(&self) -> Result<Figure, PlotError> {
+        Ok(Figure {
+            name: self.name.clone(),
+            title: self.title.clone(),
+            caption: "Monte Carlo mean escape time of each point with its 1σ error bar against \
+                      the swept parameter, with the steady-diffusion mean exit time \
+                      (extrapolated boundary) and the rule of thumb as lines."
+                .into(),
+            svg: super::line_chart(&self.spec())?,
+        })
+    }
+}
