@@ -7,7 +7,7 @@
 use std::time::Instant;
 
 use sojourn::medium::{Layer, Medium, Source};
-use sojourn::simulation::{RunConfig, run};
+use sojourn::simulation::{Method, RunConfig, run};
 use sojourn::transport::PhaseFunction;
 
 fn main() {
@@ -31,6 +31,7 @@ fn main() {
         let config = RunConfig {
             photons,
             seed: 2024,
+            method: Method::Direct,
             ..RunConfig::default()
         };
         let started = Instant::now();

@@ -176,6 +176,7 @@ impl DirectWalker {
 
     /// An interaction at the photon's position: absorption (returns the outcome) or a
     /// scattering into a new direction drawn from the layer's phase function.
+    #[inline(always)]
     pub(super) fn interact<R: Rng + ?Sized>(
         &self,
         photon: &mut Photon,
@@ -267,6 +268,7 @@ impl DirectWalker {
     /// One free flight: spends a fresh exponential optical depth across layers. Returns the
     /// outcome if the photon leaves the medium (or can never interact), `None` at an
     /// interaction point.
+    #[inline(always)]
     pub(super) fn fly<R: Rng + ?Sized>(&self, photon: &mut Photon, rng: &mut R) -> Option<Outcome> {
         let mut tau: f64 = rng.sample(Exp1);
         loop {
