@@ -3,12 +3,8 @@
 
 use std::path::Path;
 
-use assert_cmd::Command;
+use super::scale_support::sojourn;
 use serde_json::Value;
-
-fn sojourn() -> Command {
-    Command::cargo_bin("sojourn").expect("binary built")
-}
 
 fn profile_json(model: &Path) -> Value {
     let output = sojourn()

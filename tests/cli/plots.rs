@@ -1,10 +1,6 @@
 //! `sojourn run --plot DIR --report PATH`: the figures and the HTML report as files.
 
-use assert_cmd::Command;
-
-fn sojourn() -> Command {
-    Command::cargo_bin("sojourn").expect("binary built")
-}
+use super::scale_support::sojourn;
 
 #[test]
 fn plot_and_report_write_svg_files_and_one_self_contained_page() {

@@ -1,11 +1,7 @@
 //! `sojourn profile`: text, JSON keys and CSV of the demo stars.
 
-use assert_cmd::Command;
+use super::scale_support::sojourn;
 use serde_json::Value;
-
-fn sojourn() -> Command {
-    Command::cargo_bin("sojourn").expect("binary built")
-}
 
 fn profile_json(model: &str) -> Value {
     let output = sojourn()

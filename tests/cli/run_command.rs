@@ -1,11 +1,7 @@
 //! `sojourn run`: the report, its JSON keys, and thread-count independence.
 
-use assert_cmd::Command;
+use super::scale_support::sojourn;
 use serde_json::Value;
-
-fn sojourn() -> Command {
-    Command::cargo_bin("sojourn").expect("binary built")
-}
 
 fn run_json(args: &[&str]) -> Value {
     let output = sojourn().args(args).args(["--json", "-"]).output().unwrap();

@@ -1,4 +1,4 @@
-//! Helpers for the tests of shards, merge, sweeps and checkpoints.
+//! Helpers shared by the command-line tests (the binary, running it, reading its JSON).
 
 use std::path::{Path, PathBuf};
 use std::process::Output;

@@ -1,11 +1,7 @@
 //! `sojourn star`: the flags of the issue as written, the model file it writes, and errors.
 
-use assert_cmd::Command;
+use super::scale_support::sojourn;
 use serde_json::Value;
-
-fn sojourn() -> Command {
-    Command::cargo_bin("sojourn").expect("binary built")
-}
 
 #[test]
 fn star_writes_a_model_that_loads_and_profiles() {
