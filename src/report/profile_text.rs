@@ -3,7 +3,7 @@
 use std::fmt::Write;
 
 use super::profile_report::{ProfileReport, ShellRow};
-use crate::units::{format_duration, format_significant};
+use crate::units::format_significant;
 
 fn number(value: Option<f64>, digits: usize) -> String {
     value.map_or_else(|| "-".to_string(), |v| format_significant(v, digits))
@@ -143,24 +143,24 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
     let _ = writeln!(out);
     let d = &report.diffusion;
     let _ = writeln!(out, "Diffusion time from the centre");
-    let _ = writeln!(
-        out,
-        "  rule of thumb N ≈ τ², t ≈ τ R/c     N = {}   t = {}",
-        format_significant(d.naive_scatterings, 4),
-        format_duration(d.naive_time_s)
-    );
-    let _ = writeln!(
-        out,
-        "  steady diffusion (1/c)∫ r/l dr     N = {}   t = {}",
-        format_significant(d.mean_scatterings, 4),
-        format_duration(d.mean_time_s)
-    );
-    let _ = writeln!(
-        out,
-        "  same, Milne extrapolated boundary  N = {}   t = {}",
-        format_significant(d.mean_scatterings_extrapolated, 4),
-        format_duration(d.mean_time_extrapolated_s)
-    );
+    let diffusion_rows = [
+        (
+            "rule of thumb N ≈ τ², t ≈ τ R/c",
+            d.naive_scatterings,
+            d.naive_time_s,
+        ),
+        (
+            "steady diffusion (1/c)∫ r/l dr",
+            d.mean_scatterings,
+            d.mean_time_s,
+        ),
+        (
+            "same, Milne extrapolated boundary",
+            d.mean_scatterings_extrapolated,
+            d.mean_time_extrapolated_s,
+        ),
+    ];
+    super::text::scattering_time_rows(&mut out, &diffusion_rows, 33);
     let _ = writeln!(
         out,
         "  rule of thumb / diffusion          {}",

@@ -31,6 +31,21 @@ fn time_rows(out: &mut String, label: &str, summary: &TimeSummary) {
     );
 }
 
+/// Writes rows "label  N = …   t = …" with the labels padded to `width` characters; shared
+/// by the run and profile reports.
+pub(super) fn scattering_time_rows(out: &mut String, rows: &[(&str, f64, f64)], width: usize) {
+    for (label, scatterings, time_s) in rows {
+        let padding = width.saturating_sub(label.chars().count());
+        let _ = writeln!(
+            out,
+            "  {label}{}  N = {}   t = {}",
+            " ".repeat(padding),
+            format_significant(*scatterings, 4),
+            format_duration(*time_s)
+        );
+    }
+}
+
 /// Renders the report as a table for a terminal.
 pub fn render_run_report(report: &RunReport) -> String {
     let mut out = String::new();
@@ -124,24 +139,24 @@ pub fn render_run_report(report: &RunReport) -> String {
         format_significant(d.mean_free_path_min_cm, 4),
         format_significant(d.mean_free_path_max_cm, 4)
     );
-    let _ = writeln!(
-        out,
-        "  rule of thumb N ≈ τ², t ≈ τ·L/c          N = {}   t = {}",
-        format_significant(d.naive_scatterings, 4),
-        format_duration(d.naive_time_s)
-    );
-    let _ = writeln!(
-        out,
-        "  steady diffusion, surface at boundary    N = {}   t = {}",
-        format_significant(d.mean_scatterings, 4),
-        format_duration(d.mean_time_s)
-    );
-    let _ = writeln!(
-        out,
-        "  same, Milne extrapolated boundary        N = {}   t = {}",
-        format_significant(d.mean_scatterings_extrapolated, 4),
-        format_duration(d.mean_time_extrapolated_s)
-    );
+    let rows = [
+        (
+            "rule of thumb N ≈ τ², t ≈ τ·L/c",
+            d.naive_scatterings,
+            d.naive_time_s,
+        ),
+        (
+            "steady diffusion, surface at boundary",
+            d.mean_scatterings,
+            d.mean_time_s,
+        ),
+        (
+            "same, Milne extrapolated boundary",
+            d.mean_scatterings_extrapolated,
+            d.mean_time_extrapolated_s,
+        ),
+    ];
+    scattering_time_rows(&mut out, &rows, 39);
     let _ = writeln!(out);
     let c = &report.comparison;
     let _ = writeln!(out, "Monte Carlo / diffusion");
