@@ -43,7 +43,7 @@ use serde_json::Value;
 use crate::medium::Medium;
 use crate::report::RunReport;
 use crate::shard::Shard;
-use crate::simulation::{RunConfig, RunResult, run_with_progress};
+use crate::simulation::{Method, RunConfig, RunResult, run_with_progress};
 use crate::transport::WalkLimits;
 
 /// One point of a sweep: its parameter values and its medium.
@@ -76,6 +76,7 @@ pub struct Sweep {
     photons: u64,
     seed: u64,
     max_steps: u64,
+    method: Method,
     label: String,
     points: Vec<SweepPoint>,
 }
@@ -87,6 +88,7 @@ impl Sweep {
             photons,
             seed,
             max_steps: WalkLimits::default().max_steps,
+            method: Method::default(),
             label: "<built in code>".to_string(),
             points: Vec::new(),
         }
@@ -95,6 +97,12 @@ impl Sweep {
     /// Sets the step cap per photon (see [`WalkLimits`]).
     pub fn max_steps(mut self, max_steps: u64) -> Self {
         self.max_steps = max_steps;
+        self
+    }
+
+    /// Sets the walk method (default `auto`; see [`Method`]).
+    pub fn method(mut self, method: Method) -> Self {
+        self.method = method;
         self
     }
 
@@ -150,6 +158,7 @@ impl Sweep {
             limits: WalkLimits {
                 max_steps: self.max_steps,
             },
+            method: self.method,
             ..RunConfig::default()
         }
     }

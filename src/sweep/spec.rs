@@ -31,6 +31,7 @@ use super::json_path::{JsonPath, PathError, describe};
 use super::{Sweep, SweepPoint};
 use crate::fingerprint::fingerprint;
 use crate::medium::model_file::{ModelError, model_from_value, parse_model_value};
+use crate::simulation::Method;
 use crate::transport::WalkLimits;
 
 /// Version of the resolved-spec layout (part of the spec hash).
@@ -135,6 +136,7 @@ struct SpecFile {
     photons: Option<u64>,
     seed: Option<u64>,
     max_steps: Option<u64>,
+    method: Option<Method>,
     parameters: Vec<ParameterFile>,
     #[serde(default)]
     combine: Combine,
@@ -182,6 +184,9 @@ pub struct ResolvedSpec {
     pub seed: u64,
     /// Step cap per photon.
     pub max_steps: u64,
+    /// Walk method (default `auto`).
+    #[serde(default)]
+    pub method: Method,
     /// How parameters combine.
     pub combine: Combine,
     /// The parameters.
@@ -346,6 +351,7 @@ impl ResolvedSpec {
             photons,
             seed: spec.seed.unwrap_or(1),
             max_steps,
+            method: spec.method.unwrap_or_default(),
             combine: spec.combine,
             parameters,
         })
@@ -361,6 +367,7 @@ impl ResolvedSpec {
             "photons": self.photons,
             "seed": self.seed,
             "max_steps": self.max_steps,
+            "method": self.method,
             "combine": self.combine,
             "parameters": self.parameters,
         }))
@@ -407,6 +414,7 @@ impl ResolvedSpec {
     pub fn build(&self, spec_file: &str) -> Result<Sweep, SpecError> {
         let mut sweep = Sweep::new(self.photons, self.seed)
             .max_steps(self.max_steps)
+            .method(self.method)
             .model_label(&self.model_file);
         for index in 0..self.point_count() {
             let settings = self.settings(index);

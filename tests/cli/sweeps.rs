@@ -383,4 +383,8 @@ fn bad_specs_are_refused_before_any_work_with_the_field_and_the_reason() {
         r#"{"model": "model.json", "parameters": [{"path": "layers[0].albedo", "values": [1]}], "combine": "cross"}"#,
         &["combine", "unknown variant `cross`"],
     );
+    refused(
+        r#"{"model": "model.json", "method": "sideways", "parameters": [{"path": "layers[0].albedo", "values": [1]}]}"#,
+        &["method", "unknown variant `sideways`", "`direct`"],
+    );
 }
