@@ -402,32 +402,7 @@ mod tests {
     use rand::{RngExt, SeedableRng};
     use rand_xoshiro::Xoshiro256PlusPlus;
 
-    /// Composite Gauss–Legendre (5 points per panel) integral of `g` over [a, b].
-    fn integrate(g: impl Fn(f64) -> f64, a: f64, b: f64, panels: usize) -> f64 {
-        const X: [f64; 5] = [
-            -0.906_179_845_938_664,
-            -0.538_469_310_105_683,
-            0.0,
-            0.538_469_310_105_683,
-            0.906_179_845_938_664,
-        ];
-        const W: [f64; 5] = [
-            0.236_926_885_056_189_1,
-            0.478_628_670_499_366_5,
-            0.568_888_888_888_888_9,
-            0.478_628_670_499_366_5,
-            0.236_926_885_056_189_1,
-        ];
-        let h = (b - a) / panels as f64;
-        let mut sum = 0.0;
-        for i in 0..panels {
-            let mid = a + h * (i as f64 + 0.5);
-            for (x, w) in X.iter().zip(W) {
-                sum += w * g(mid + 0.5 * h * x);
-            }
-        }
-        0.5 * h * sum
-    }
+    use crate::diffusion::quadrature::gauss_legendre_5 as integrate;
 
     #[test]
     fn limits() {

@@ -5,6 +5,8 @@
 mod estimates;
 pub mod first_passage;
 pub mod ks;
+#[cfg(test)]
+mod quadrature;
 mod sphere_check;
 pub mod time_resolved;
 

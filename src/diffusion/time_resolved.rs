@@ -55,10 +55,8 @@
 //! assert!(slab.steady_reflectance() + slab.steady_transmittance() < 1.0);
 //! ```
 
+use crate::units::SPEED_OF_LIGHT_CM_S;
 use std::f64::consts::PI;
-
-/// Speed of light in vacuum, cm s⁻¹ (exact, CODATA 2018 / SI definition).
-const C_CM_S: f64 = 2.997_924_58e10;
 
 /// `Dvt/L²` below which the image sums are used, above which the eigenmode series.
 const IMAGE_SWITCH_TAU: f64 = 0.05;
@@ -249,7 +247,7 @@ impl DiffusionSlab {
             mua_per_cm,
             thickness_cm,
             diffusion_cm,
-            speed_cm_s: C_CM_S / n_medium,
+            speed_cm_s: SPEED_OF_LIGHT_CM_S / n_medium,
             z0_cm,
             ze_cm,
             span_cm: thickness_cm + 2.0 * ze_cm,
@@ -453,32 +451,13 @@ mod tests {
     /// ∫ g(t) dt over (0, ∞) for a pulse response: substitution t = e^y and composite
     /// 5-point Gauss–Legendre in y between `t_min` and `t_max`.
     fn integrate_time(g: impl Fn(f64) -> f64, t_min: f64, t_max: f64) -> f64 {
-        const X: [f64; 5] = [
-            -0.906_179_845_938_664,
-            -0.538_469_310_105_683,
-            0.0,
-            0.538_469_310_105_683,
-            0.906_179_845_938_664,
-        ];
-        const W: [f64; 5] = [
-            0.236_926_885_056_189_1,
-            0.478_628_670_499_366_5,
-            0.568_888_888_888_888_9,
-            0.478_628_670_499_366_5,
-            0.236_926_885_056_189_1,
-        ];
-        let (a, b) = (t_min.ln(), t_max.ln());
-        let panels = 600;
-        let h = (b - a) / panels as f64;
-        let mut sum = 0.0;
-        for i in 0..panels {
-            let mid = a + h * (i as f64 + 0.5);
-            for (x, w) in X.iter().zip(W) {
-                let t = (mid + 0.5 * h * x).exp();
-                sum += w * g(t) * t;
-            }
-        }
-        0.5 * h * sum
+        let y = |u: f64| u.exp();
+        crate::diffusion::quadrature::gauss_legendre_5(
+            |u| g(y(u)) * y(u),
+            t_min.ln(),
+            t_max.ln(),
+            600,
+        )
     }
 
     fn cases() -> Vec<(SlabOptics, Boundary)> {
@@ -644,7 +623,7 @@ mod tests {
             2.0 * boundary_factor_a(1.4) * slab.diffusion_cm()
         );
         assert_relative_eq!(slab.source_depth_cm(), 0.1);
-        assert_relative_eq!(slab.speed_cm_s(), C_CM_S / 1.4);
+        assert_relative_eq!(slab.speed_cm_s(), SPEED_OF_LIGHT_CM_S / 1.4);
     }
 
     #[test]
