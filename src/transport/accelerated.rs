@@ -121,10 +121,10 @@ impl AcceleratedWalker {
             if photon.steps >= max_steps {
                 break Outcome::Censored;
             }
-            if isotropic && let Some(radius_cm) = self.jump_radius(&photon) {
+            if isotropic && let Some((radius_cm, coordinate)) = self.jump_radius(&photon) {
                 photon.steps += 1;
                 jumps += 1.0;
-                let (elapsed_s, absorbed) = self.jump(&mut photon, radius_cm, rng);
+                let (elapsed_s, absorbed) = self.jump(&mut photon, radius_cm, coordinate, rng);
                 jump_time_s += elapsed_s;
                 if absorbed {
                     break Outcome::Absorbed;
@@ -146,8 +146,9 @@ impl AcceleratedWalker {
         photon.record(outcome, jumps, flights, jump_time_s)
     }
 
-    /// Radius of the jump sphere at the photon's position, if a jump applies there.
-    fn jump_radius(&self, photon: &Photon) -> Option<f64> {
+    /// Radius of the jump sphere at the photon's position, if a jump applies there, with the
+    /// photon's radius (sphere) or depth (slab), cm.
+    fn jump_radius(&self, photon: &Photon) -> Option<(f64, f64)> {
         let region = &self.regions[photon.layer];
         if region.transport_per_cm <= 0.0 {
             return None;
@@ -158,7 +159,8 @@ impl AcceleratedWalker {
         } else {
             (coordinate - region.lower_cm).min(region.upper_cm - coordinate)
         };
-        (radius_cm * region.transport_per_cm >= self.settings.gamma).then_some(radius_cm)
+        (radius_cm * region.transport_per_cm >= self.settings.gamma)
+            .then_some((radius_cm, coordinate))
     }
 
     /// Radius (sphere) or depth (slab) of a position, cm.
@@ -169,27 +171,25 @@ impl AcceleratedWalker {
         }
     }
 
-    /// Unit vector along which the radius (sphere) or depth (slab) grows at `position`.
-    fn outward(&self, position: &Vector3<f64>) -> Option<Vector3<f64>> {
+    /// Unit vector along which the radius (sphere) or depth (slab) grows at `position`,
+    /// whose radius or depth is `coordinate`.
+    fn outward(&self, position: &Vector3<f64>, coordinate: f64) -> Option<Vector3<f64>> {
         match self.geometry {
-            Geometry::Sphere => {
-                let r = position.norm();
-                (r > 0.0).then(|| position / r)
-            }
+            Geometry::Sphere => (coordinate > 0.0).then(|| position / coordinate),
             Geometry::Slab => Some(Vector3::new(0.0, 0.0, 1.0)),
         }
     }
 
-    /// One diffusion jump of radius `radius_cm`; returns the time it took and whether the
+    /// One diffusion jump of radius `radius_cm` from radius or depth `coordinate`; returns the time it took and whether the
     /// photon was absorbed during it.
     fn jump<R: Rng + ?Sized>(
         &self,
         photon: &mut Photon,
         radius_cm: f64,
+        coordinate: f64,
         rng: &mut R,
     ) -> (f64, bool) {
         let region = &self.regions[photon.layer];
-        let coordinate = self.coordinate(&photon.position);
         let diffusion = (region.diffusion_mid
             + region.diffusion_slope * (coordinate - region.mid_cm))
             .max(0.5 * region.diffusion_mid);
@@ -197,9 +197,9 @@ impl AcceleratedWalker {
         let elapsed_s =
             first_passage::sample(rng) * effective_radius * effective_radius / diffusion;
 
-        let tilt_axis = self
-            .outward(&photon.position)
-            .filter(|_| self.settings.drift_correction && region.diffusion_slope != 0.0);
+        let tilt_axis = (self.settings.drift_correction && region.diffusion_slope != 0.0)
+            .then(|| self.outward(&photon.position, coordinate))
+            .flatten();
         let normal = match tilt_axis {
             Some(outward) => {
                 // Exit density (1 + k cos ψ)/4π about ∇D, k = R₀ |∇D| / (2 D) ≤ ε/2.
