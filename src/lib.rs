@@ -31,6 +31,7 @@
 //! ```
 #![deny(missing_docs)]
 
+pub mod analysis;
 pub mod atomic_write;
 pub mod checkpoint;
 pub mod diffusion;

@@ -5,16 +5,15 @@
 
 pub mod html;
 pub mod plots;
-pub mod profile_report;
 mod profile_text;
-mod run_report;
-pub mod slab_optics;
 mod text;
 
-pub use profile_report::ProfileReport;
-pub use profile_text::{render_profile_csv, render_profile_report};
-pub use run_report::{
+pub use crate::analysis::profile as profile_report;
+pub use crate::analysis::run::{
     Comparison, DiffusionSummary, DistributionSummary, ModelSummary, OutcomeFractions, RunReport,
     WalkSummary,
 };
+pub use crate::analysis::slab_optics;
+pub use profile_report::ProfileReport;
+pub use profile_text::{render_profile_csv, render_profile_report};
 pub use text::render_run_report;

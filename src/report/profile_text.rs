@@ -2,7 +2,7 @@
 
 use std::fmt::Write;
 
-use super::profile_report::{ProfileReport, ShellRow};
+use crate::analysis::profile::{ProfileReport, ShellRow};
 use crate::units::format_significant;
 
 fn number(value: Option<f64>, digits: usize) -> String {

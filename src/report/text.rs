@@ -2,7 +2,7 @@
 
 use std::fmt::Write;
 
-use super::run_report::{RunReport, TimeSummary};
+use crate::analysis::run::{RunReport, TimeSummary};
 use crate::medium::Geometry;
 use crate::units::{format_duration, format_significant};
 
@@ -220,7 +220,7 @@ pub fn render_run_report(report: &RunReport) -> String {
             resolved.time_s.len(),
             format_duration(resolved.time_bin_s)
         );
-        let rate = |fit: &Option<super::slab_optics::DecayFit>| match fit {
+        let rate = |fit: &Option<crate::analysis::slab_optics::DecayFit>| match fit {
             Some(fit) => format!(
                 "{} ± {} /ns over {} – {} (diffusion, same window: {} /ns)",
                 format_significant(fit.rate_per_s * 1e-9, 4),

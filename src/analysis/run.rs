@@ -326,7 +326,7 @@ impl RunReport {
                     .to_string(),
             );
         }
-        notes.extend(super::profile_report::profile_notes(medium));
+        notes.extend(super::profile::profile_notes(medium));
         if tally.censored().count() > 0 {
             notes.push(format!(
                 "{} photons hit the step cap ({}) and are counted as censored; raise \
