@@ -39,7 +39,7 @@ fn main() {
         "tau", "albedo", "escaped", "mean time", "diffusion", "MC/diffusion", "MC/rule"
     );
     for result in &results {
-        let report = &result.report;
+        let report = &result.analysis;
         let ratio = match (
             report.comparison.time_ratio,
             report.comparison.time_ratio_stderr,

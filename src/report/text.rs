@@ -2,7 +2,8 @@
 
 use std::fmt::Write;
 
-use crate::analysis::run::{RunReport, TimeSummary};
+use super::run_document::RunReport;
+use crate::analysis::{DecayFit, TimeSummary};
 use crate::medium::Geometry;
 use crate::units::{format_duration, format_significant};
 
@@ -54,7 +55,7 @@ pub fn render_run_report(report: &RunReport) -> String {
     } else {
         report.model.name.clone()
     };
-    let geometry = match report.geometry {
+    let geometry = match report.analysis.geometry {
         Geometry::Sphere => "sphere",
         Geometry::Slab => "slab",
     };
@@ -64,14 +65,14 @@ pub fn render_run_report(report: &RunReport) -> String {
         "  model {} · {geometry}, {} layer(s) · {} photons · seed {} · method {} · {:.2} s",
         report.model.file,
         report.model.layers,
-        report.photons,
-        report.seed,
-        report.method,
+        report.analysis.photons,
+        report.analysis.seed,
+        report.analysis.method,
         report.elapsed_s
     );
     let _ = writeln!(out);
     let _ = writeln!(out, "Outcome (fraction of photons launched, ± 1σ)");
-    let o = &report.outcome;
+    let o = &report.analysis.outcome;
     if let (Some(v), Some(e)) = (o.escaped, o.stderr.escaped) {
         let _ = writeln!(out, "  escaped      {}", fraction(v, e));
     }
@@ -104,14 +105,14 @@ pub fn render_run_report(report: &RunReport) -> String {
     );
     let _ = writeln!(out);
     let _ = writeln!(out, "Time in the medium (photons that left it)");
-    time_rows(&mut out, "all escapes", &report.escape_time);
-    if let Some(summary) = &report.reflected_time {
+    time_rows(&mut out, "all escapes", &report.analysis.escape_time);
+    if let Some(summary) = &report.analysis.reflected_time {
         time_rows(&mut out, "reflected", summary);
     }
-    if let Some(summary) = &report.transmitted_time {
+    if let Some(summary) = &report.analysis.transmitted_time {
         time_rows(&mut out, "transmitted", summary);
     }
-    let s = &report.scatterings;
+    let s = &report.analysis.scatterings;
     let _ = writeln!(
         out,
         "  scatterings  mean {} ± {}   median {}   5–95 % {} – {}",
@@ -122,8 +123,8 @@ pub fn render_run_report(report: &RunReport) -> String {
         number(s.p95)
     );
     let _ = writeln!(out);
-    let d = &report.diffusion;
-    let path = match report.geometry {
+    let d = &report.analysis.diffusion;
+    let path = match report.analysis.geometry {
         Geometry::Sphere => "source → surface",
         Geometry::Slab => "total thickness",
     };
@@ -158,7 +159,7 @@ pub fn render_run_report(report: &RunReport) -> String {
     ];
     scattering_time_rows(&mut out, &rows, 39);
     let _ = writeln!(out);
-    let c = &report.comparison;
+    let c = &report.analysis.comparison;
     let _ = writeln!(out, "Monte Carlo / diffusion");
     let _ = writeln!(
         out,
@@ -184,7 +185,7 @@ pub fn render_run_report(report: &RunReport) -> String {
         );
     }
     let _ = writeln!(out);
-    if let Some(slab) = &report.slab_diffusion {
+    if let Some(slab) = &report.analysis.slab_diffusion {
         let _ = writeln!(
             out,
             "Slab against diffusion theory (μa = {} /cm, μs′ = {} /cm, z_e = {} cm)",
@@ -213,14 +214,14 @@ pub fn render_run_report(report: &RunReport) -> String {
         }
         let _ = writeln!(out);
     }
-    if let Some(resolved) = &report.resolved {
+    if let Some(resolved) = &report.analysis.resolved {
         let _ = writeln!(
             out,
             "Time-resolved ({} bins of {}; curves in the JSON report)",
             resolved.time_s.len(),
             format_duration(resolved.time_bin_s)
         );
-        let rate = |fit: &Option<crate::analysis::slab_optics::DecayFit>| match fit {
+        let rate = |fit: &Option<DecayFit>| match fit {
             Some(fit) => format!(
                 "{} ± {} /ns over {} – {} (diffusion, same window: {} /ns)",
                 format_significant(fit.rate_per_s * 1e-9, 4),
@@ -286,7 +287,7 @@ pub fn render_run_report(report: &RunReport) -> String {
         );
         let _ = writeln!(out);
     }
-    let w = &report.walk;
+    let w = &report.analysis.walk;
     if let (Some(gamma), Some(epsilon)) = (w.gamma, w.epsilon) {
         let _ = writeln!(
             out,
@@ -305,7 +306,7 @@ pub fn render_run_report(report: &RunReport) -> String {
         );
     }
     let _ = writeln!(out);
-    for note in &report.notes {
+    for note in &report.analysis.notes {
         let _ = writeln!(out, "note: {note}");
     }
     out

@@ -99,7 +99,7 @@ pub struct SweepRow {
 impl SweepRow {
     /// The row of a point's result.
     pub fn from_result(result: &PointResult) -> Self {
-        let r = &result.report;
+        let r = &result.analysis;
         let mut columns = vec![("point".to_string(), json!(result.index))];
         columns.extend(result.parameters.iter().cloned());
         let o = &r.outcome;
@@ -241,7 +241,7 @@ pub fn render_text(results: &[PointResult]) -> String {
     );
     let number = |v: Option<f64>| v.map_or("-".to_string(), |v| format_significant(v, 4));
     for result in results {
-        let r = &result.report;
+        let r = &result.analysis;
         let _ = write!(out, "{:>5}", result.index);
         for ((_, value), width) in result.parameters.iter().zip(&widths) {
             let shown = match value.as_f64() {

@@ -49,7 +49,7 @@ pub fn escape_time_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
     if escapes.count() == 0 {
         return None;
     }
-    let report = inputs.report;
+    let report = &inputs.report.analysis;
     let summary = &report.escape_time;
     let unit = DisplayUnit::time_for(summary.median_s.unwrap_or(report.diffusion.mean_time_s));
     let mut marks = Vec::new();

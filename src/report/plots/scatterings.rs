@@ -27,7 +27,7 @@ pub fn scatterings_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
     if escapes.count() == 0 {
         return None;
     }
-    let report = inputs.report;
+    let report = &inputs.report.analysis;
     let summary = &report.scatterings;
     let mut marks = Vec::new();
     if let Some(mean) = summary.mean {

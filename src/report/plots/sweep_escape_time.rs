@@ -16,7 +16,19 @@ use super::run_inputs::group_digits;
 use super::spec::{Axis, ChartSpec, Series};
 use super::style::{Colour, Dash, LineStyle, MarkerShape, SeriesStyle};
 use super::{Figure, Panel};
-use crate::sweep::PointResult;
+use crate::analysis::RunAnalysis;
+
+/// One point of a parameter study as the figure takes it (a `sweep::PointResult` lends
+/// its fields).
+#[derive(Debug, Clone, Copy)]
+pub struct StudyPoint<'a> {
+    /// Point index.
+    pub index: u64,
+    /// Parameter values `(name, value)`, in column order.
+    pub parameters: &'a [(String, Value)],
+    /// The analysis of the point's run.
+    pub analysis: &'a RunAnalysis,
+}
 
 /// Groups (combinations of the other parameters) drawn at most.
 pub const MAX_GROUPS: usize = 4;
@@ -73,9 +85,9 @@ fn value_text(value: &Value) -> String {
 }
 
 impl SweepPanel {
-    /// The panel of a finished sweep (`None` without points or parameters). `label` names
-    /// the spec (shown in the subtitle).
-    pub fn from_results(results: &[PointResult], label: &str) -> Option<Self> {
+    /// The panel of a finished sweep (`None` without points or parameters). `model` is the
+    /// model's name (shown in the title), `label` names the spec (shown in the subtitle).
+    pub fn from_points(results: &[StudyPoint], model: &str, label: &str) -> Option<Self> {
         let first = results.first()?;
         let (parameter, _) = first.parameters.first()?;
         let numeric = results
@@ -88,7 +100,7 @@ impl SweepPanel {
                 .map(|(name, value)| format!("{name} = {}", value_text(value)))
                 .collect();
             let key = others.join(", ");
-            let r = &result.report;
+            let r = result.analysis;
             let point = SweepPoint {
                 x: if numeric {
                     result.parameters[0].1.as_f64().expect("checked numeric")
@@ -111,11 +123,10 @@ impl SweepPanel {
         for group in &mut groups {
             group.points.sort_by(|a, b| a.x.total_cmp(&b.x));
         }
-        let model = &first.report.model.name;
         let model = if model.is_empty() {
             "(unnamed model)"
         } else {
-            model.as_str()
+            model
         };
         let parameter = if numeric {
             parameter.clone()
@@ -128,8 +139,8 @@ impl SweepPanel {
             subtitle: format!(
                 "{} points × {} photons · seed {} · {label}",
                 results.len(),
-                group_digits(first.report.photons),
-                first.report.seed
+                group_digits(first.analysis.photons),
+                first.analysis.seed
             ),
             parameter,
             groups,
