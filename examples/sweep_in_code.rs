@@ -56,7 +56,10 @@ fn main() {
                 .escape_time
                 .mean_s
                 .map_or("-".into(), format_duration),
-            format_duration(report.diffusion.mean_time_extrapolated_s),
+            report
+                .diffusion
+                .mean_time_extrapolated_s
+                .map_or("-".into(), format_duration),
             ratio,
             report
                 .comparison

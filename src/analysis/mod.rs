@@ -4,8 +4,12 @@
 //!
 //! * [`RunAnalysis`] ([`run`]): one run's outcomes, escape-time and scattering
 //!   distributions, walk cost ([`WalkSummary`]), diffusion theory ([`DiffusionSummary`],
-//!   [`theory`]) and the comparison of the two ([`Comparison`], [`comparison`]); for slabs
-//!   the steady and time-resolved slab theory and the resolved tallies in physical units
+//!   [`theory`]: the rule of thumb, mean exit times with the source where diffusion puts
+//!   it, escape probability and escape-time quantiles where theory gives them) and the
+//!   comparison of the two ([`Comparison`], [`comparison`]: ratios only where both sides
+//!   treat absorption alike, KS, notes on what is not compared) with its [`Verdict`]
+//!   ([`verdict`]: one function, one stated criterion); for slabs the steady and
+//!   time-resolved slab theory and the resolved tallies in physical units
 //!   ([`slab_optics`]), with late-decay fits ([`decay_fit`]).
 //! * [`ProfileAnalysis`] ([`profile`]): a sphere's optical structure and where its
 //!   diffusion time accrues, with no Monte Carlo.
@@ -33,6 +37,7 @@ pub mod resolved_layout;
 pub mod run;
 pub mod slab_optics;
 pub mod theory;
+pub mod verdict;
 
 pub use comparison::Comparison;
 pub use decay_fit::{DecayFit, fit_late_decay};
@@ -42,4 +47,5 @@ pub use run::{
     DistributionSummary, OutcomeFractions, OutcomeStderr, RunAnalysis, TimeSummary, WalkSummary,
 };
 pub use slab_optics::{ResolvedSummary, SlabDiffusion};
-pub use theory::DiffusionSummary;
+pub use theory::{DiffusionSummary, EscapeTimeTheory, TheorySource};
+pub use verdict::{Evidence, Verdict, verdict};

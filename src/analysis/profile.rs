@@ -3,7 +3,8 @@
 //!
 //! Per shell (every sub-shell of a tabulated profile, every plain layer): radius, density,
 //! temperature, opacity, mean free path l, optical depth from the surface, and the diffusion
-//! time from the centre, T = (1/c) ∫₀^R r / l_tr(r) dr (../shared/REFERENCES.md item 3),
+//! time from the centre, T = (1/c) ∫₀^R r / l_tr(r) dr (Krapivsky, Redner & Ben-Naim 2010,
+//! problem 2.21; docs/references.md),
 //! with each shell's part (1/c) ∫_shell r / l_tr dr and its share of T: the *time budget*.
 //! That share says how much each shell's opacity adds to the mean exit time (∂T/∂σ_tr(r) =
 //! r/c); where the radiation *resides* meanwhile is the Green's-function residence time of
@@ -11,6 +12,7 @@
 
 use serde::Serialize;
 
+use super::theory::{DiffusionSummary, EscapeTimeTheory};
 use crate::diffusion::{self, MILNE_EXTRAPOLATION_LENGTH};
 use crate::medium::profile::ProfileSummary;
 use crate::medium::{Geometry, Medium, MediumError};
@@ -77,6 +79,12 @@ pub struct ProfileDiffusion {
     pub mean_scatterings_extrapolated: f64,
     /// `naive_time_s` / `mean_time_s`: how far the rule of thumb is off.
     pub naive_over_diffusion: f64,
+    /// Fraction of the radiation that diffusion lets leave (1 for a conservative sphere;
+    /// null where a layer absorbs, see [`DiffusionSummary`]).
+    pub escape_probability: Option<f64>,
+    /// The escape time from the centre, conditional on escape, as in a run's
+    /// `diffusion.escape_time` ([`DiffusionSummary`]).
+    pub escape_time: EscapeTimeTheory,
 }
 
 /// Where the diffusion time accrues: radii inside which given fractions of
@@ -173,6 +181,7 @@ impl ProfileAnalysis {
         }
         let centred = medium.with_sphere_source(0.0)?;
         let estimate = diffusion::estimate(&centred);
+        let (theory, _) = DiffusionSummary::new(&centred, None, 1.0);
         let layers = medium.layers();
         let radius_cm = medium.size_cm();
 
@@ -329,6 +338,8 @@ impl ProfileAnalysis {
                 mean_scatterings: estimate.mean_scatterings,
                 mean_scatterings_extrapolated: estimate.mean_scatterings_extrapolated,
                 naive_over_diffusion: share(estimate.naive_time_s, estimate.mean_time_s),
+                escape_probability: theory.escape_probability,
+                escape_time: theory.escape_time,
             },
             time_budget,
             profile,

@@ -7,9 +7,12 @@ use crate::medium::Medium;
 use crate::tally::ResolvedLayout;
 
 use super::slab_optics::equivalent_optics;
+use super::theory::theory_estimate;
 
 /// Default resolved-tally bins for a slab: 200 time bins over the longer of four diffusion
-/// mean times and eight diffusion decay times (extrapolated boundary), 100 depth bins,
+/// mean times and eight diffusion decay times (extrapolated boundary; the mean time with the
+/// source where [`theory_estimate`] puts it, or for a slab thinner than 1/μs′ the first
+/// collisions of the beam), 100 depth bins,
 /// `cosine_bins` exit-cosine bins, 100 radial bins over 20 transport mean free paths of the
 /// top layer. `time_bin_s` overrides the time-bin width.
 pub fn resolved_layout(
@@ -18,7 +21,7 @@ pub fn resolved_layout(
     time_bins: usize,
     cosine_bins: usize,
 ) -> ResolvedLayout {
-    let estimate = diffusion::estimate(medium);
+    let estimate = theory_estimate(medium).unwrap_or_else(|| diffusion::estimate(medium));
     let decay_time = DiffusionSlab::new(equivalent_optics(medium), Boundary::Extrapolated)
         .map(|slab| 1.0 / slab.decay_rate_per_s())
         .unwrap_or(0.0);

@@ -6,7 +6,6 @@
 
 use serde::Serialize;
 
-use crate::diffusion;
 use crate::medium::{Geometry, Medium};
 use crate::simulation::{Method, RunConfig};
 use crate::tally::{PathStats, Tally};
@@ -225,25 +224,27 @@ pub struct RunAnalysis {
 impl RunAnalysis {
     /// The analysis of `tally`, the photons of a run of `config` on `medium`.
     pub fn new(medium: &Medium, config: &RunConfig, tally: &Tally) -> Self {
-        let estimate = diffusion::estimate(medium);
         let escapes = tally.all_escapes();
         let escape_time = DistributionSummary::of_time(&escapes);
         let scatterings = DistributionSummary::of_scatterings(&escapes);
         let is_slab = medium.geometry() == Geometry::Slab;
-        let comparison = compare(medium, &escapes, &estimate);
+        let launched = tally.launched().max(1) as f64;
+        let entering = 1.0 - tally.specular().count() as f64 / launched;
+        let slab = slab_diffusion(medium, tally);
+        let (diffusion, theory_notes) = DiffusionSummary::new(medium, slab.as_ref(), entering);
+        let comparison = compare(
+            medium,
+            tally,
+            &escapes,
+            &diffusion,
+            theory_notes,
+            slab.as_ref(),
+        );
         let mut notes = vec!["absorption is analog: an absorbed photon ends its walk".to_string()];
         if medium.geometry() == Geometry::Sphere {
             notes.push(
                 "in a star a \"photon\" stands for radiant energy that is absorbed and \
                  re-emitted many times, not one photon travelling all the way"
-                    .to_string(),
-            );
-        }
-        if medium.layers().iter().any(|layer| layer.albedo() < 1.0) {
-            notes.push(
-                "the medium absorbs: the diffusion mean times are those of conservative \
-                 diffusion, while absorption removes long paths from the Monte Carlo escape \
-                 times, so the time ratios fall below 1"
                     .to_string(),
             );
         }
@@ -262,7 +263,7 @@ impl RunAnalysis {
             absorption: "analog".to_string(),
             photons: tally.launched(),
             seed: config.seed,
-            optical_depth: estimate.optical_depth,
+            optical_depth: diffusion.optical_depth,
             outcome: outcome_fractions(tally, is_slab),
             escape_time: escape_time.seconds(),
             scatterings,
@@ -270,10 +271,10 @@ impl RunAnalysis {
                 .then(|| DistributionSummary::of_time(tally.reflected()).seconds()),
             transmitted_time: is_slab
                 .then(|| DistributionSummary::of_time(tally.transmitted()).seconds()),
-            diffusion: DiffusionSummary::from(&estimate),
+            diffusion,
             comparison,
             walk: WalkSummary::new(config, tally),
-            slab_diffusion: slab_diffusion(medium, tally),
+            slab_diffusion: slab,
             resolved: resolved_summary(medium, tally),
             notes,
         }

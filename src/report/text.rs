@@ -128,7 +128,15 @@ pub fn render_run_report(report: &RunReport) -> String {
         Geometry::Sphere => "source → surface",
         Geometry::Slab => "total thickness",
     };
-    let _ = writeln!(out, "Diffusion theory on this model");
+    let c = &report.analysis.comparison;
+    if c.times_comparable {
+        let _ = writeln!(out, "Diffusion theory on this model");
+    } else {
+        let _ = writeln!(
+            out,
+            "Diffusion theory on this model (conservative: no photon is lost to absorption)"
+        );
+    }
     let _ = writeln!(
         out,
         "  optical depth ({path})           {}",
@@ -140,48 +148,26 @@ pub fn render_run_report(report: &RunReport) -> String {
         format_significant(d.mean_free_path_min_cm, 4),
         format_significant(d.mean_free_path_max_cm, 4)
     );
-    let rows = [
-        (
-            "rule of thumb N ≈ τ², t ≈ τ·L/c",
-            d.naive_scatterings,
-            d.naive_time_s,
-        ),
-        (
-            "steady diffusion, surface at boundary",
-            d.mean_scatterings,
-            d.mean_time_s,
-        ),
-        (
-            "same, Milne extrapolated boundary",
-            d.mean_scatterings_extrapolated,
-            d.mean_time_extrapolated_s,
-        ),
-    ];
+    let mut rows = vec![(
+        "rule of thumb N ≈ τ², t ≈ τ·L/c",
+        d.naive_scatterings,
+        d.naive_time_s,
+    )];
+    if let (Some(n), Some(t)) = (d.mean_scatterings, d.mean_time_s) {
+        rows.push(("steady diffusion, surface at boundary", n, t));
+    }
+    if let (Some(n), Some(t)) = (d.mean_scatterings_extrapolated, d.mean_time_extrapolated_s) {
+        rows.push(("same, Milne extrapolated boundary", n, t));
+    }
     scattering_time_rows(&mut out, &rows, 39);
-    let _ = writeln!(out);
-    let c = &report.analysis.comparison;
-    let _ = writeln!(out, "Monte Carlo / diffusion");
-    let _ = writeln!(
-        out,
-        "  mean time / extrapolated diffusion       {} ± {} (1σ)",
-        number(c.time_ratio),
-        number(c.time_ratio_stderr)
-    );
-    let _ = writeln!(
-        out,
-        "  mean time / diffusion (no extrapolation) {}",
-        number(c.time_ratio_plain)
-    );
-    let _ = writeln!(
-        out,
-        "  mean time / rule of thumb                {}",
-        number(c.naive_time_ratio)
-    );
-    if let Some(ks) = c.ks_distance {
+    let e = &d.escape_time;
+    if let (Some(median), Some(p05), Some(p95)) = (e.median_s, e.p05_s, e.p95_s) {
         let _ = writeln!(
             out,
-            "  KS distance to the diffusion first-passage distribution   {}",
-            format_significant(ks, 3)
+            "  escape time, first-passage law          median {}   5–95 % {} – {}",
+            format_duration(median),
+            format_duration(p05),
+            format_duration(p95)
         );
     }
     let _ = writeln!(out);
@@ -214,6 +200,42 @@ pub fn render_run_report(report: &RunReport) -> String {
         }
         let _ = writeln!(out);
     }
+    let _ = writeln!(out, "Monte Carlo / diffusion");
+    if let (Some(ratio), Some(stderr)) = (c.time_ratio, c.time_ratio_stderr) {
+        let _ = writeln!(
+            out,
+            "  mean time / extrapolated diffusion       {} ± {} (1σ)",
+            format_significant(ratio, 4),
+            format_significant(stderr, 4)
+        );
+    }
+    if let Some(ratio) = c.time_ratio_plain {
+        let _ = writeln!(
+            out,
+            "  mean time / diffusion (no extrapolation) {}",
+            format_significant(ratio, 4)
+        );
+    }
+    if let Some(ratio) = c.naive_time_ratio {
+        let _ = writeln!(
+            out,
+            "  mean time / rule of thumb                {}",
+            format_significant(ratio, 4)
+        );
+    }
+    if let (Some(ks), Some(p)) = (c.ks_distance, c.ks_p_value) {
+        let _ = writeln!(
+            out,
+            "  KS distance to the diffusion first-passage distribution   {} (p = {})",
+            format_significant(ks, 3),
+            format_significant(p, 2)
+        );
+    }
+    let _ = writeln!(out, "  verdict: {}", c.verdict.reason);
+    for note in &c.notes {
+        let _ = writeln!(out, "  note: {note}");
+    }
+    let _ = writeln!(out);
     if let Some(resolved) = &report.analysis.resolved {
         let _ = writeln!(
             out,

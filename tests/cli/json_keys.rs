@@ -13,7 +13,23 @@ use serde_json::Value;
 use super::scale_support::{s, succeed};
 
 /// Keys added since the recorded lists, each documented in the README.
-const ADDED: &[&str] = &[];
+const ADDED: &[&str] = &[
+    "comparison.ks_p_value",
+    "comparison.times_comparable",
+    "comparison.verdict",
+    "comparison.verdict.trustworthy",
+    "comparison.verdict.reason",
+    "comparison.notes",
+    "diffusion.source_depth_cm",
+    "diffusion.escape_probability",
+    "diffusion.escape_time",
+    "diffusion.escape_time.mean_s",
+    "diffusion.escape_time.median_s",
+    "diffusion.escape_time.p05_s",
+    "diffusion.escape_time.p95_s",
+    "diffusion.reflected",
+    "diffusion.transmitted",
+];
 
 /// Key paths of `value`: `a.b` for object keys, `a[]` for the elements of an array (the
 /// union over all elements).

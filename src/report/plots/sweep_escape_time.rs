@@ -42,10 +42,12 @@ pub struct SweepPoint {
     pub mean_s: Option<f64>,
     /// Its standard error, s.
     pub stderr_s: Option<f64>,
-    /// Steady-diffusion mean exit time, extrapolated boundary, s.
-    pub diffusion_s: f64,
-    /// Rule of thumb t ≈ τL/c, s.
-    pub naive_s: f64,
+    /// Steady-diffusion mean exit time, extrapolated boundary, s (`None` where it is not
+    /// comparable with the Monte Carlo time: an absorbing medium, a slab thinner than
+    /// 1/μs′).
+    pub diffusion_s: Option<f64>,
+    /// Rule of thumb t ≈ τL/c, s (`None` where the medium absorbs).
+    pub naive_s: Option<f64>,
 }
 
 /// The points that share the values of every parameter but the first.
@@ -109,8 +111,11 @@ impl SweepPanel {
                 },
                 mean_s: r.escape_time.mean_s,
                 stderr_s: r.escape_time.stderr_s,
-                diffusion_s: r.diffusion.mean_time_extrapolated_s,
-                naive_s: r.diffusion.naive_time_s,
+                diffusion_s: r
+                    .diffusion
+                    .mean_time_extrapolated_s
+                    .filter(|_| r.comparison.times_comparable),
+                naive_s: Some(r.diffusion.naive_time_s).filter(|_| r.comparison.times_comparable),
             };
             match groups.iter_mut().find(|g| g.label == key) {
                 Some(group) => group.points.push(point),
@@ -153,7 +158,7 @@ impl SweepPanel {
         let all: Vec<&SweepPoint> = drawn.iter().flat_map(|g| &g.points).collect();
         let mut times: Vec<f64> = all
             .iter()
-            .flat_map(|p| [p.mean_s, Some(p.diffusion_s), Some(p.naive_s)])
+            .flat_map(|p| [p.mean_s, p.diffusion_s, p.naive_s])
             .flatten()
             .filter(|t| t.is_finite() && *t > 0.0)
             .collect();
@@ -196,27 +201,33 @@ impl SweepPanel {
             } else {
                 format!(" ({})", group.label)
             };
-            let show = |f: &dyn Fn(&SweepPoint) -> f64| -> Vec<(f64, f64)> {
+            let show = |f: &dyn Fn(&SweepPoint) -> Option<f64>| -> Vec<(f64, f64)> {
                 group
                     .points
                     .iter()
-                    .map(|p| (p.x, unit.show(f(p))))
+                    .filter_map(|p| f(p).map(|v| (p.x, unit.show(v))))
                     .collect()
             };
-            series.push(Series::new(
-                format!("diffusion, extrapolated boundary{suffix}"),
-                show(&|p| p.diffusion_s),
-                SeriesStyle {
-                    line: Some(LineStyle::new(Colour::Indigo, 3.0, DASHES[k].0)),
-                    marker: MarkerShape::None,
-                    colour: Colour::Indigo,
-                },
-            ));
-            series.push(Series::new(
-                format!("rule of thumb t ≈ τL/c{suffix}"),
-                show(&|p| p.naive_s),
-                SeriesStyle::line(Colour::Ochre, 3.0, DASHES[k].1),
-            ));
+            let diffusion = show(&|p| p.diffusion_s);
+            if !diffusion.is_empty() {
+                series.push(Series::new(
+                    format!("diffusion, extrapolated boundary{suffix}"),
+                    diffusion,
+                    SeriesStyle {
+                        line: Some(LineStyle::new(Colour::Indigo, 3.0, DASHES[k].0)),
+                        marker: MarkerShape::None,
+                        colour: Colour::Indigo,
+                    },
+                ));
+            }
+            let naive = show(&|p| p.naive_s);
+            if !naive.is_empty() {
+                series.push(Series::new(
+                    format!("rule of thumb t ≈ τL/c{suffix}"),
+                    naive,
+                    SeriesStyle::line(Colour::Ochre, 3.0, DASHES[k].1),
+                ));
+            }
             let measured: Vec<&SweepPoint> =
                 group.points.iter().filter(|p| p.mean_s.is_some()).collect();
             if !measured.is_empty() {
@@ -244,6 +255,13 @@ impl SweepPanel {
                 "{} of {} combinations of the other parameters drawn",
                 drawn.len(),
                 self.groups.len()
+            ));
+        }
+        let without_theory = all.iter().filter(|p| p.diffusion_s.is_none()).count();
+        if without_theory > 0 {
+            notes.push(format!(
+                "{without_theory} point(s) without a diffusion line: the medium absorbs (the \
+                 diffusion times are conservative) or the slab is thinner than 1/μs′"
             ));
         }
         let missing = all.iter().filter(|p| p.mean_s.is_none()).count();
