@@ -296,6 +296,17 @@ fn run_figures_cover_each_geometry() {
     }
     let panel = escape_time_panel(&slab.inputs()).unwrap();
     check_distribution(&panel, false);
+    // The slab absorbs: no conservative diffusion time is drawn beside its escape times.
+    assert!(
+        panel
+            .marks
+            .iter()
+            .all(|m| !m.label.contains("diffusion") && !m.label.contains("rule of thumb")),
+        "{:?}",
+        panel.marks.iter().map(|m| &m.label).collect::<Vec<_>>()
+    );
+    assert!(panel.theory.is_none());
+    assert!(panel.notes.iter().any(|n| n.contains("the medium absorbs")));
     let html = render_html_report("slab", "sub", "report <text>", &figures);
     assert_eq!(html.matches("<svg").count(), 2);
     assert!(html.contains("report &lt;text&gt;"));
@@ -682,4 +693,31 @@ fn sweep_panel_draws_means_with_errors_and_both_estimates() {
     assert_eq!(spec.series.len(), 6);
     assert!(labels(&spec).contains(&"Monte Carlo mean ± 1σ (g = 0.5000)"));
     check_line_panel(&spec, &panel.render().unwrap().svg);
+}
+
+#[test]
+fn sweep_panel_draws_no_diffusion_line_through_absorbing_points() {
+    let absorbing = |albedo: f64| {
+        Medium::sphere(
+            vec![(1.0, layer(4.0, albedo, PhaseFunction::Isotropic))],
+            Source::centre(),
+        )
+        .unwrap()
+    };
+    let sweep = Sweep::new(200, 9)
+        .point([("albedo", 0.9)], absorbing(0.9))
+        .point([("albedo", 1.0)], absorbing(1.0));
+    let results = sweep.run();
+    let panel = SweepPanel::from_points(&study_points(&results), "", "albedo").unwrap();
+    let spec = panel.spec();
+    let line = |label: &str| {
+        spec.series
+            .iter()
+            .find(|s| s.label.starts_with(label))
+            .map_or(0, |s| s.points.len())
+    };
+    assert_eq!(line("diffusion"), 1, "only the conservative point");
+    assert_eq!(line("rule of thumb"), 1);
+    assert_eq!(line("Monte Carlo"), 2);
+    assert!(spec.notes.iter().any(|n| n.contains("the medium absorbs")));
 }

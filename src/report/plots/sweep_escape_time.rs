@@ -1,7 +1,8 @@
 //! The panel of a parameter study (`sojourn sweep --plot`): the Monte Carlo mean escape
 //! time of every point with its 1σ error bar against the first swept parameter, with the
 //! steady-diffusion mean exit time (Milne extrapolated boundary) and the rule of thumb
-//! t ≈ τL/c of each point as lines.
+//! t ≈ τL/c of each point as lines. Points where the medium absorbs get neither: their
+//! diffusion times are conservative, not comparable with the Monte Carlo time.
 //!
 //! The x axis is logarithmic when the parameter's values are positive and span more than a
 //! decade, the y axis likewise for the times. With more than one parameter the points are
