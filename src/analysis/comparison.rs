@@ -1,6 +1,6 @@
 //! Monte Carlo against diffusion theory: ratios of means, the distance between the
 //! escape-time distributions, outcome fractions side by side, and the verdict
-//! ([`super::verdict`]).
+//! ([`mod@super::verdict`]).
 //!
 //! Times are compared only where both sides treat absorption alike: the diffusion times
 //! here are those of conservative diffusion, so where the medium absorbs every time ratio

@@ -8,12 +8,12 @@
 //!   it, escape probability and escape-time quantiles where theory gives them) and the
 //!   comparison of the two ([`Comparison`], [`comparison`]: ratios only where both sides
 //!   treat absorption alike, KS, notes on what is not compared) with its [`Verdict`]
-//!   ([`verdict`]: one function, one stated criterion); for slabs the steady and
+//!   ([`mod@verdict`]: one function, [`verdict()`], with a stated criterion); for slabs the steady and
 //!   time-resolved slab theory and the resolved tallies in physical units
 //!   ([`slab_optics`]), with late-decay fits ([`decay_fit`]).
 //! * [`ProfileAnalysis`] ([`profile`]): a sphere's optical structure and where its
 //!   diffusion time accrues, with no Monte Carlo.
-//! * [`resolved_layout`]: the bins of a slab's resolved tallies, chosen before the run.
+//! * [`resolved_layout()`]: the bins of a slab's resolved tallies, chosen before the run.
 //!
 //! ```
 //! use sojourn::analysis::RunAnalysis;

@@ -53,7 +53,7 @@ pub const MAX_ABSORPTION_RATIO: f64 = 0.1;
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Verdict {
     /// Whether diffusion theory describes this medium by the criterion of
-    /// [`crate::analysis::verdict`]; null when the run cannot tell.
+    /// [`mod@crate::analysis::verdict`]; null when the run cannot tell.
     pub trustworthy: Option<bool>,
     /// One line: the verdict, its numbers and its cause.
     pub reason: String,
