@@ -39,7 +39,7 @@ fn main() {
         "tau", "albedo", "escaped", "mean time", "diffusion", "MC/diffusion", "MC/rule"
     );
     for result in &results {
-        let report = &result.report;
+        let report = &result.analysis;
         let ratio = match (
             report.comparison.time_ratio,
             report.comparison.time_ratio_stderr,
@@ -56,7 +56,10 @@ fn main() {
                 .escape_time
                 .mean_s
                 .map_or("-".into(), format_duration),
-            format_duration(report.diffusion.mean_time_extrapolated_s),
+            report
+                .diffusion
+                .mean_time_extrapolated_s
+                .map_or("-".into(), format_duration),
             ratio,
             report
                 .comparison

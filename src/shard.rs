@@ -18,10 +18,10 @@ use serde::{Deserialize, Serialize};
 use serde_json::Value;
 use thiserror::Error;
 
+use crate::analysis::RunAnalysis;
 use crate::fingerprint::{canonical_json, fingerprint};
 use crate::medium::Medium;
 use crate::medium::model_file::{ModelError, model_from_value};
-use crate::report::RunReport;
 use crate::simulation::{RunConfig, RunResult};
 use crate::tally::ResolvedLayout;
 use crate::tally::Tally;
@@ -210,12 +210,13 @@ impl RunShardInfo {
     }
 }
 
-/// The shard file: the shard's own report with `shard` and `tally` added.
+/// The shard file: the shard's own report (any serialisable map, in practice
+/// `report::RunReport`) with `shard` and `tally` added.
 #[derive(Debug, Serialize)]
-pub struct RunShardReport<'a> {
+pub struct RunShardReport<'a, R: Serialize> {
     /// The report of the shard's photons alone (its keys stay at the top level).
     #[serde(flatten)]
-    pub report: &'a RunReport,
+    pub report: &'a R,
     /// Which part of which run.
     pub shard: &'a RunShardInfo,
     /// The exact tally of the shard's photons.
@@ -487,9 +488,9 @@ pub struct MergedRun {
 }
 
 impl MergedRun {
-    /// The report of the whole run (identical to the unsplit run's, `elapsed_s` aside).
-    pub fn report(&self) -> RunReport {
-        RunReport::new(&self.medium, &self.model_file, &self.config, &self.result)
+    /// The analysis of the whole run (identical to the unsplit run's).
+    pub fn analysis(&self) -> RunAnalysis {
+        RunAnalysis::new(&self.medium, &self.config, &self.result.tally)
     }
 }
 
@@ -562,35 +563,6 @@ pub fn merge_run_shards(mut shards: Vec<RunShard>) -> Result<MergedRun, MergeErr
         },
         result: RunResult { tally, elapsed_s },
     })
-}
-
-/// A shard file of either kind.
-#[derive(Debug, Clone)]
-pub enum ShardFile {
-    /// A shard of a run (`sojourn run --shard K/N --json PATH`).
-    Run(Box<RunShard>),
-    /// A shard bundle of a sweep (`sojourn sweep SPEC --shard K/N`).
-    Sweep(crate::sweep::merge::SweepShard),
-}
-
-/// Reads a shard file of either kind.
-///
-/// # Errors
-/// [`MergeError::Read`], [`MergeError::NotAShard`] or [`MergeError::Damaged`].
-pub fn read_shard_file(path: &std::path::Path) -> Result<ShardFile, MergeError> {
-    let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| MergeError::Read {
-        file: file.clone(),
-        cause: source,
-    })?;
-    let is_sweep = serde_json::from_str::<Value>(&text)
-        .ok()
-        .is_some_and(|v| v.get("sweep_shard").is_some());
-    if is_sweep {
-        crate::sweep::merge::read_sweep_shard(&text, &file).map(ShardFile::Sweep)
-    } else {
-        read_run_shard(&text, &file).map(|shard| ShardFile::Run(Box::new(shard)))
-    }
 }
 
 #[cfg(test)]

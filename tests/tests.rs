@@ -4,6 +4,7 @@
 //! the Monte Carlo estimate, plus, where the check value is itself approximate, the stated
 //! uncertainty of that value.
 
+mod architecture;
 mod cli;
 mod physics;
 mod report;

@@ -9,10 +9,11 @@ use sojourn::medium::Medium;
 use sojourn::report::ProfileReport;
 use sojourn::report::RunReport;
 use sojourn::report::html::render_html_report;
+use sojourn::report::plots::sweep_escape_time::StudyPoint;
 use sojourn::report::plots::{
     Figure, RunInputs, group_digits, profile_panels, render_all, run_figures, sweep_panels,
 };
-use sojourn::sweep::PointResult;
+use sojourn::sweep::{PointResult, Sweep};
 use sojourn::tally::Tally;
 
 use super::output::write_atomically;
@@ -43,9 +44,9 @@ pub fn write_run_figures(
         let title = format!("sojourn · {}", inputs.model_name());
         let subtitle = format!(
             "{} photons · seed {} · {} walk · model {} · sojourn {}",
-            group_digits(report.photons),
-            report.seed,
-            report.method,
+            group_digits(report.analysis.photons),
+            report.analysis.seed,
+            report.analysis.method,
             report.model.file,
             report.sojourn_version
         );
@@ -86,9 +87,24 @@ pub fn write_profile_figures(
     Ok(())
 }
 
-/// Draws the figures of a finished sweep (`label` names the spec) into `plot_dir`.
-pub fn write_sweep_figures(plot_dir: &Path, results: &[PointResult], label: &str) -> Result<()> {
-    let figures = render_all(&sweep_panels(results, label)).context("cannot draw the figures")?;
+/// Draws the figures of a finished `sweep` (`label` names the spec) into `plot_dir`.
+pub fn write_sweep_figures(
+    plot_dir: &Path,
+    sweep: &Sweep,
+    results: &[PointResult],
+    label: &str,
+) -> Result<()> {
+    let points: Vec<StudyPoint> = results
+        .iter()
+        .map(|result| StudyPoint {
+            index: result.index,
+            parameters: &result.parameters,
+            analysis: &result.analysis,
+        })
+        .collect();
+    let model = sweep.points().first().map_or("", |p| p.medium().name());
+    let figures =
+        render_all(&sweep_panels(&points, model, label)).context("cannot draw the figures")?;
     write_svgs(plot_dir, &figures)
 }
 

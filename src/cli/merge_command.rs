@@ -6,10 +6,10 @@ use std::path::{Path, PathBuf};
 use anyhow::{Result, bail};
 use clap::Args;
 
-use sojourn::report::render_run_report;
-use sojourn::shard::{RunShard, ShardFile, merge_run_shards, read_shard_file};
+use sojourn::report::{RunReport, render_run_report};
+use sojourn::shard::{RunShard, merge_run_shards};
 use sojourn::sweep::PointResult;
-use sojourn::sweep::merge::{SweepShard, merge_sweep_shards};
+use sojourn::sweep::merge::{ShardFile, SweepShard, merge_sweep_shards, read_shard_file};
 use sojourn::sweep::table::{SweepRow, csv_text, jsonl_text, render_text};
 
 use super::output::write_text;
@@ -62,7 +62,12 @@ fn merge_runs(shards: Vec<RunShard>, args: &MergeArgs) -> Result<()> {
         bail!("--csv and --out are for sweep shards; a run's merged report goes to --json PATH");
     }
     let merged = merge_run_shards(shards)?;
-    let report = merged.report();
+    let report = RunReport::new(
+        &merged.medium,
+        &merged.model_file,
+        &merged.config,
+        &merged.result,
+    );
     let json_to_stdout = args.json.as_deref() == Some(Path::new("-"));
     if let Some(path) = &args.json {
         let json = serde_json::to_string_pretty(&report)? + "\n";

@@ -6,12 +6,12 @@ use anyhow::{Context, Result};
 use clap::Args;
 
 use serde_json::Value;
+use sojourn::analysis::resolved_layout;
 use sojourn::medium::model_file::{
     DEMO_MODEL_JSON, DEMO_MODEL_LABEL, LoadOptions, load_model_value, model_from_value_with,
     parse_model_value,
 };
 use sojourn::medium::{Geometry, Medium};
-use sojourn::report::slab_optics::resolved_layout;
 use sojourn::report::{RunReport, render_run_report};
 use sojourn::simulation::{Method, RunConfig};
 use sojourn::transport::{Acceleration, WalkLimits};

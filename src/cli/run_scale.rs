@@ -108,7 +108,7 @@ impl<'a> ScaledRun<'a> {
     /// Adds a note about the shard to its report.
     pub fn annotate(&self, report: &mut RunReport) {
         if let Some(shard) = self.args.shard {
-            report.notes.push(format!(
+            report.analysis.notes.push(format!(
                 "shard {shard}: photons {}..{} of {}; this report covers the shard alone: join every shard with `sojourn merge`",
                 self.config.first_photon,
                 self.config.first_photon + self.config.photons,
@@ -126,7 +126,7 @@ impl<'a> ScaledRun<'a> {
                     shard,
                     self.total_photons,
                     &self.config,
-                    &report.method,
+                    &report.analysis.method,
                     self.model.clone(),
                     self.model_file,
                 );

@@ -106,7 +106,7 @@ pub fn execute(args: SweepArgs) -> Result<()> {
         } => {
             print!("{}", render_text(&results));
             if let Some(directory) = &args.plot {
-                write_sweep_figures(directory, &results, &label)?;
+                write_sweep_figures(directory, &sweep, &results, &label)?;
             }
             if !args.quiet {
                 eprintln!("sojourn: wrote {} and {}", csv.display(), jsonl.display());

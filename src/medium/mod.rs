@@ -297,6 +297,34 @@ impl Medium {
         Ok(medium)
     }
 
+    /// The same slab with `source` instead (name, unit, ambient indices, smooth divisions
+    /// kept): e.g. the plane source diffusion theory puts in place of a beam.
+    ///
+    /// # Errors
+    /// As [`Medium::slab`]: not a slab, or a source that a slab cannot take or that lies
+    /// outside it.
+    pub fn with_slab_source(&self, source: Source) -> Result<Self, MediumError> {
+        if self.geometry != Geometry::Slab {
+            return Err(MediumError::Invalid {
+                field: "source.kind".into(),
+                problem: "a source at a depth needs a slab".into(),
+            });
+        }
+        let layers = (0..self.layers.len())
+            .map(|index| {
+                let (top, bottom) = self.layer_bounds_cm(index);
+                (bottom - top, self.layers[index].clone())
+            })
+            .collect();
+        let mut medium = Medium::slab(layers, self.ambient_above, source)?;
+        medium.ambient_below = self.ambient_below;
+        medium.name = self.name.clone();
+        medium.display_unit = self.display_unit;
+        medium.sharp = self.sharp.clone();
+        medium.profiles = self.profiles.clone();
+        Ok(medium)
+    }
+
     /// Whether the boundary at the outer edge (sphere) or bottom (slab) of layer `index` is a
     /// sharp material interface (see [`Medium::with_smooth_boundaries`]).
     pub fn is_sharp_boundary(&self, index: usize) -> bool {

@@ -1,20 +1,16 @@
-//! Reports of a run: the summary structure (serialised as the JSON report), its readable
-//! text rendering, SVG figures ([`plots`]) and the single-file HTML report ([`html`]); and
-//! the profile report of a sphere's optical structure (`sojourn profile`), with its text
-//! and CSV renderings.
+//! Reports: formatting of the analysis ([`crate::analysis`]) and nothing else. The run
+//! report ([`RunReport`], serialised as the JSON report) and its readable text rendering,
+//! SVG figures ([`plots`]) and the single-file HTML report ([`html`]); the profile report
+//! of a sphere's optical structure (`sojourn profile`), with its text and CSV renderings.
 
 pub mod html;
 pub mod plots;
-pub mod profile_report;
+mod profile_document;
 mod profile_text;
-mod run_report;
-pub mod slab_optics;
+mod run_document;
 mod text;
 
-pub use profile_report::ProfileReport;
+pub use profile_document::{ProfileModel, ProfileReport};
 pub use profile_text::{render_profile_csv, render_profile_report};
-pub use run_report::{
-    Comparison, DiffusionSummary, DistributionSummary, ModelSummary, OutcomeFractions, RunReport,
-    WalkSummary,
-};
+pub use run_document::{ModelSummary, RunReport};
 pub use text::render_run_report;

@@ -2,7 +2,8 @@
 
 use std::fmt::Write;
 
-use super::profile_report::{ProfileReport, ShellRow};
+use super::profile_document::ProfileReport;
+use crate::analysis::profile::ShellRow;
 use crate::units::format_significant;
 
 fn number(value: Option<f64>, digits: usize) -> String {
@@ -30,8 +31,8 @@ struct Bin {
 /// Splits (0, R] into `rows` equal radius bins and sums the time accrued in each (within a
 /// shell of constant σ the accrual grows as r², so partial shells are exact).
 fn bins(report: &ProfileReport, rows: usize) -> Vec<Bin> {
-    let total = report.diffusion.mean_time_s;
-    let radius = report.radius_cm;
+    let total = report.analysis.diffusion.mean_time_s;
+    let radius = report.analysis.radius_cm;
     let mut out = Vec::with_capacity(rows);
     let mut cumulative = 0.0;
     for k in 0..rows {
@@ -42,8 +43,11 @@ fn bins(report: &ProfileReport, rows: usize) -> Vec<Bin> {
             radius * (k + 1) as f64 / rows as f64
         };
         let mut time = 0.0;
-        let first = report.shells.partition_point(|s| s.radius_cm <= r0);
-        for shell in &report.shells[first..] {
+        let first = report
+            .analysis
+            .shells
+            .partition_point(|s| s.radius_cm <= r0);
+        for shell in &report.analysis.shells[first..] {
             if shell.inner_radius_cm >= r1 {
                 break;
             }
@@ -104,9 +108,9 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
     let _ = writeln!(
         out,
         "  radius                            {}",
-        length(report.radius_cm)
+        length(report.analysis.radius_cm)
     );
-    if let (Some(mass), Some(mean)) = (report.mass_g, report.mean_density_g_cm3) {
+    if let (Some(mass), Some(mean)) = (report.analysis.mass_g, report.analysis.mean_density_g_cm3) {
         let _ = writeln!(
             out,
             "  mass · mean density               {} g · {} g/cm³",
@@ -114,34 +118,37 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
             format_significant(mean, 4)
         );
     }
-    if report.central_density_g_cm3.is_some() || report.central_temperature_k.is_some() {
+    if report.analysis.central_density_g_cm3.is_some()
+        || report.analysis.central_temperature_k.is_some()
+    {
         let _ = writeln!(
             out,
             "  central density · temperature     {} g/cm³ · {} K",
-            number(report.central_density_g_cm3, 4),
-            number(report.central_temperature_k, 4)
+            number(report.analysis.central_density_g_cm3, 4),
+            number(report.analysis.central_temperature_k, 4)
         );
     }
     let _ = writeln!(
         out,
         "  optical depth, centre → surface   {}",
-        format_significant(report.optical_depth, 5)
+        format_significant(report.analysis.optical_depth, 5)
     );
     let _ = writeln!(
         out,
         "  photosphere (τ = 2/3)             {}",
         report
+            .analysis
             .photosphere_radius_cm
             .map_or_else(|| "none (optically thin)".to_string(), length)
     );
     let _ = writeln!(
         out,
         "  mean free path                    {} – {} cm",
-        format_significant(report.mean_free_path_min_cm, 4),
-        format_significant(report.mean_free_path_max_cm, 4)
+        format_significant(report.analysis.mean_free_path_min_cm, 4),
+        format_significant(report.analysis.mean_free_path_max_cm, 4)
     );
     let _ = writeln!(out);
-    let d = &report.diffusion;
+    let d = &report.analysis.diffusion;
     let _ = writeln!(out, "Diffusion time from the centre");
     let diffusion_rows = [
         (
@@ -167,8 +174,8 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
         format_significant(d.naive_over_diffusion, 4)
     );
     let _ = writeln!(out);
-    let b = &report.time_budget;
-    let radius = report.radius_cm;
+    let b = &report.analysis.time_budget;
+    let radius = report.analysis.radius_cm;
     let _ = writeln!(out, "Time budget: where (1/c)∫ r/l dr accrues");
     let _ = writeln!(
         out,
@@ -183,8 +190,8 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
         "r/R", "share", "cumul.", "T (K)", "ρ (g/cm³)", "κ (cm²/g)", "l (cm)", "τ(surface)"
     );
     for bin in bins(report, rows) {
-        let mid = shell_at(&report.shells, 0.5 * (bin.inner_cm + bin.outer_cm));
-        let edge = shell_at(&report.shells, bin.outer_cm);
+        let mid = shell_at(&report.analysis.shells, 0.5 * (bin.inner_cm + bin.outer_cm));
+        let edge = shell_at(&report.analysis.shells, bin.outer_cm);
         let tau_top = edge.tau_from_surface
             + edge.extinction_per_cm * (edge.radius_cm - bin.outer_cm).max(0.0);
         let _ = writeln!(
@@ -200,7 +207,7 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
             format_significant(tau_top, 3)
         );
     }
-    if let Some(p) = &report.profile {
+    if let Some(p) = &report.analysis.profile {
         let _ = writeln!(out);
         let _ = writeln!(
             out,
@@ -212,7 +219,7 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
         );
     }
     let _ = writeln!(out);
-    for note in &report.notes {
+    for note in &report.analysis.notes {
         let _ = writeln!(out, "note: {note}");
     }
     out
@@ -239,7 +246,7 @@ pub fn render_profile_csv(report: &ProfileReport) -> String {
          scattering_fraction,extinction_per_cm,mean_free_path_cm,tau_shell,tau_from_surface,\
          time_s,cumulative_time_s,time_share,residence_share\n",
     );
-    for s in &report.shells {
+    for s in &report.analysis.shells {
         let fields = [
             s.index.to_string(),
             csv_field(&s.layer),

@@ -2,7 +2,8 @@
 
 use std::fmt::Write;
 
-use super::run_report::{RunReport, TimeSummary};
+use super::run_document::RunReport;
+use crate::analysis::{DecayFit, TimeSummary};
 use crate::medium::Geometry;
 use crate::units::{format_duration, format_significant};
 
@@ -54,7 +55,7 @@ pub fn render_run_report(report: &RunReport) -> String {
     } else {
         report.model.name.clone()
     };
-    let geometry = match report.geometry {
+    let geometry = match report.analysis.geometry {
         Geometry::Sphere => "sphere",
         Geometry::Slab => "slab",
     };
@@ -64,14 +65,14 @@ pub fn render_run_report(report: &RunReport) -> String {
         "  model {} · {geometry}, {} layer(s) · {} photons · seed {} · method {} · {:.2} s",
         report.model.file,
         report.model.layers,
-        report.photons,
-        report.seed,
-        report.method,
+        report.analysis.photons,
+        report.analysis.seed,
+        report.analysis.method,
         report.elapsed_s
     );
     let _ = writeln!(out);
     let _ = writeln!(out, "Outcome (fraction of photons launched, ± 1σ)");
-    let o = &report.outcome;
+    let o = &report.analysis.outcome;
     if let (Some(v), Some(e)) = (o.escaped, o.stderr.escaped) {
         let _ = writeln!(out, "  escaped      {}", fraction(v, e));
     }
@@ -104,14 +105,14 @@ pub fn render_run_report(report: &RunReport) -> String {
     );
     let _ = writeln!(out);
     let _ = writeln!(out, "Time in the medium (photons that left it)");
-    time_rows(&mut out, "all escapes", &report.escape_time);
-    if let Some(summary) = &report.reflected_time {
+    time_rows(&mut out, "all escapes", &report.analysis.escape_time);
+    if let Some(summary) = &report.analysis.reflected_time {
         time_rows(&mut out, "reflected", summary);
     }
-    if let Some(summary) = &report.transmitted_time {
+    if let Some(summary) = &report.analysis.transmitted_time {
         time_rows(&mut out, "transmitted", summary);
     }
-    let s = &report.scatterings;
+    let s = &report.analysis.scatterings;
     let _ = writeln!(
         out,
         "  scatterings  mean {} ± {}   median {}   5–95 % {} – {}",
@@ -122,12 +123,20 @@ pub fn render_run_report(report: &RunReport) -> String {
         number(s.p95)
     );
     let _ = writeln!(out);
-    let d = &report.diffusion;
-    let path = match report.geometry {
+    let d = &report.analysis.diffusion;
+    let path = match report.analysis.geometry {
         Geometry::Sphere => "source → surface",
         Geometry::Slab => "total thickness",
     };
-    let _ = writeln!(out, "Diffusion theory on this model");
+    let c = &report.analysis.comparison;
+    if c.times_comparable {
+        let _ = writeln!(out, "Diffusion theory on this model");
+    } else {
+        let _ = writeln!(
+            out,
+            "Diffusion theory on this model (conservative: no photon is lost to absorption)"
+        );
+    }
     let _ = writeln!(
         out,
         "  optical depth ({path})           {}",
@@ -139,52 +148,30 @@ pub fn render_run_report(report: &RunReport) -> String {
         format_significant(d.mean_free_path_min_cm, 4),
         format_significant(d.mean_free_path_max_cm, 4)
     );
-    let rows = [
-        (
-            "rule of thumb N ≈ τ², t ≈ τ·L/c",
-            d.naive_scatterings,
-            d.naive_time_s,
-        ),
-        (
-            "steady diffusion, surface at boundary",
-            d.mean_scatterings,
-            d.mean_time_s,
-        ),
-        (
-            "same, Milne extrapolated boundary",
-            d.mean_scatterings_extrapolated,
-            d.mean_time_extrapolated_s,
-        ),
-    ];
+    let mut rows = vec![(
+        "rule of thumb N ≈ τ², t ≈ τ·L/c",
+        d.naive_scatterings,
+        d.naive_time_s,
+    )];
+    if let (Some(n), Some(t)) = (d.mean_scatterings, d.mean_time_s) {
+        rows.push(("steady diffusion, surface at boundary", n, t));
+    }
+    if let (Some(n), Some(t)) = (d.mean_scatterings_extrapolated, d.mean_time_extrapolated_s) {
+        rows.push(("same, Milne extrapolated boundary", n, t));
+    }
     scattering_time_rows(&mut out, &rows, 39);
-    let _ = writeln!(out);
-    let c = &report.comparison;
-    let _ = writeln!(out, "Monte Carlo / diffusion");
-    let _ = writeln!(
-        out,
-        "  mean time / extrapolated diffusion       {} ± {} (1σ)",
-        number(c.time_ratio),
-        number(c.time_ratio_stderr)
-    );
-    let _ = writeln!(
-        out,
-        "  mean time / diffusion (no extrapolation) {}",
-        number(c.time_ratio_plain)
-    );
-    let _ = writeln!(
-        out,
-        "  mean time / rule of thumb                {}",
-        number(c.naive_time_ratio)
-    );
-    if let Some(ks) = c.ks_distance {
+    let e = &d.escape_time;
+    if let (Some(median), Some(p05), Some(p95)) = (e.median_s, e.p05_s, e.p95_s) {
         let _ = writeln!(
             out,
-            "  KS distance to the diffusion first-passage distribution   {}",
-            format_significant(ks, 3)
+            "  escape time, first-passage law          median {}   5–95 % {} – {}",
+            format_duration(median),
+            format_duration(p05),
+            format_duration(p95)
         );
     }
     let _ = writeln!(out);
-    if let Some(slab) = &report.slab_diffusion {
+    if let Some(slab) = &report.analysis.slab_diffusion {
         let _ = writeln!(
             out,
             "Slab against diffusion theory (μa = {} /cm, μs′ = {} /cm, z_e = {} cm)",
@@ -213,14 +200,50 @@ pub fn render_run_report(report: &RunReport) -> String {
         }
         let _ = writeln!(out);
     }
-    if let Some(resolved) = &report.resolved {
+    let _ = writeln!(out, "Monte Carlo / diffusion");
+    if let (Some(ratio), Some(stderr)) = (c.time_ratio, c.time_ratio_stderr) {
+        let _ = writeln!(
+            out,
+            "  mean time / extrapolated diffusion       {} ± {} (1σ)",
+            format_significant(ratio, 4),
+            format_significant(stderr, 4)
+        );
+    }
+    if let Some(ratio) = c.time_ratio_plain {
+        let _ = writeln!(
+            out,
+            "  mean time / diffusion (no extrapolation) {}",
+            format_significant(ratio, 4)
+        );
+    }
+    if let Some(ratio) = c.naive_time_ratio {
+        let _ = writeln!(
+            out,
+            "  mean time / rule of thumb                {}",
+            format_significant(ratio, 4)
+        );
+    }
+    if let (Some(ks), Some(p)) = (c.ks_distance, c.ks_p_value) {
+        let _ = writeln!(
+            out,
+            "  KS distance to the diffusion first-passage distribution   {} (p = {})",
+            format_significant(ks, 3),
+            format_significant(p, 2)
+        );
+    }
+    let _ = writeln!(out, "  verdict: {}", c.verdict.reason);
+    for note in &c.notes {
+        let _ = writeln!(out, "  note: {note}");
+    }
+    let _ = writeln!(out);
+    if let Some(resolved) = &report.analysis.resolved {
         let _ = writeln!(
             out,
             "Time-resolved ({} bins of {}; curves in the JSON report)",
             resolved.time_s.len(),
             format_duration(resolved.time_bin_s)
         );
-        let rate = |fit: &Option<super::slab_optics::DecayFit>| match fit {
+        let rate = |fit: &Option<DecayFit>| match fit {
             Some(fit) => format!(
                 "{} ± {} /ns over {} – {} (diffusion, same window: {} /ns)",
                 format_significant(fit.rate_per_s * 1e-9, 4),
@@ -286,7 +309,7 @@ pub fn render_run_report(report: &RunReport) -> String {
         );
         let _ = writeln!(out);
     }
-    let w = &report.walk;
+    let w = &report.analysis.walk;
     if let (Some(gamma), Some(epsilon)) = (w.gamma, w.epsilon) {
         let _ = writeln!(
             out,
@@ -305,7 +328,7 @@ pub fn render_run_report(report: &RunReport) -> String {
         );
     }
     let _ = writeln!(out);
-    for note in &report.notes {
+    for note in &report.analysis.notes {
         let _ = writeln!(out, "note: {note}");
     }
     out

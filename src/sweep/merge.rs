@@ -4,14 +4,18 @@
 //! A sweep shard (`sojourn sweep SPEC --shard K/N`) ends by writing a bundle
 //! `OUT/shard-K-of-N.json`: [`SweepShardInfo`] (spec hash, shard, and the resolved spec with
 //! the base model inlined) and one [`PointRecord`] per point with the tally of its photon
-//! range. [`merge_sweep_shards`] needs nothing else.
+//! range. [`merge_sweep_shards`] needs nothing else. [`read_shard_file`] reads a shard file of
+//! either kind (a run's or a sweep's).
 
 use serde::{Deserialize, Serialize};
+use serde_json::Value;
 
 use super::runner::{PointRecord, results_from_tallies};
 use super::spec::{ResolvedSpec, SpecError};
 use super::{PointResult, Sweep};
-use crate::shard::{MergeError, SHARD_FORMAT, Shard, check_coverage, same};
+use crate::shard::{
+    MergeError, RunShard, SHARD_FORMAT, Shard, check_coverage, read_run_shard, same,
+};
 use crate::tally::Tally;
 
 /// What a sweep shard bundle says about itself.
@@ -189,4 +193,34 @@ pub fn merge_sweep_shards(mut shards: Vec<SweepShard>) -> Result<MergedSweep, Me
     }
     let results = results_from_tallies(&sweep, merged);
     Ok(MergedSweep { sweep, results })
+}
+
+/// A shard file of either kind (a run's or a sweep's); reading one is the first step of
+/// `sojourn merge`, which belongs above both runs and sweeps.
+#[derive(Debug, Clone)]
+pub enum ShardFile {
+    /// A shard of a run (`sojourn run --shard K/N --json PATH`).
+    Run(Box<RunShard>),
+    /// A shard bundle of a sweep (`sojourn sweep SPEC --shard K/N`).
+    Sweep(SweepShard),
+}
+
+/// Reads a shard file of either kind.
+///
+/// # Errors
+/// [`MergeError::Read`], [`MergeError::NotAShard`] or [`MergeError::Damaged`].
+pub fn read_shard_file(path: &std::path::Path) -> Result<ShardFile, MergeError> {
+    let file = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|source| MergeError::Read {
+        file: file.clone(),
+        cause: source,
+    })?;
+    let is_sweep = serde_json::from_str::<Value>(&text)
+        .ok()
+        .is_some_and(|v| v.get("sweep_shard").is_some());
+    if is_sweep {
+        read_sweep_shard(&text, &file).map(ShardFile::Sweep)
+    } else {
+        read_run_shard(&text, &file).map(|shard| ShardFile::Run(Box::new(shard)))
+    }
 }

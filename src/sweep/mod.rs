@@ -21,7 +21,7 @@
 //! let results = sweep.run();
 //! assert_eq!(results.len(), 3);
 //! // Thicker slabs reflect more of a conservative beam.
-//! let reflected = |k: usize| results[k].report.outcome.reflected.unwrap();
+//! let reflected = |k: usize| results[k].analysis.outcome.reflected.unwrap();
 //! assert!(reflected(2) > reflected(0));
 //! ```
 //!
@@ -40,8 +40,8 @@ pub use table::SweepRow;
 
 use serde_json::Value;
 
+use crate::analysis::RunAnalysis;
 use crate::medium::Medium;
-use crate::report::RunReport;
 use crate::shard::Shard;
 use crate::simulation::{Method, RunConfig, RunResult, run_with_progress};
 use crate::transport::WalkLimits;
@@ -106,10 +106,16 @@ impl Sweep {
         self
     }
 
-    /// Sets the model label shown in each point's report (`model.file`).
+    /// Sets the model label (the spec file, or what the points were built from), shown in
+    /// reports and figures of the sweep.
     pub fn model_label(mut self, label: &str) -> Self {
         self.label = label.to_string();
         self
+    }
+
+    /// The model label (see [`Sweep::model_label`]).
+    pub fn label(&self) -> &str {
+        &self.label
     }
 
     /// Adds a point with numeric parameters `(name, value)` and its medium.
@@ -188,7 +194,8 @@ impl Sweep {
         PointResult {
             index,
             parameters: point.parameters.clone(),
-            report: RunReport::new(&point.medium, &self.label, &config, result),
+            analysis: RunAnalysis::new(&point.medium, &config, &result.tally),
+            elapsed_s: result.elapsed_s,
         }
     }
 
@@ -208,15 +215,17 @@ impl Sweep {
     }
 }
 
-/// The outcome of one point: its parameters and its full run report.
+/// The outcome of one point: its parameters and the analysis of its run.
 #[derive(Debug, Clone)]
 pub struct PointResult {
     /// Point index (= its random stream).
     pub index: u64,
     /// Its parameter values, `(name, value)`.
     pub parameters: Vec<(String, Value)>,
-    /// The run report of the point.
-    pub report: RunReport,
+    /// The analysis of the point's run.
+    pub analysis: RunAnalysis,
+    /// Wall-clock time of the point's photons, s (summed over shards after a merge).
+    pub elapsed_s: f64,
 }
 
 impl PointResult {

@@ -99,7 +99,7 @@ pub struct SweepRow {
 impl SweepRow {
     /// The row of a point's result.
     pub fn from_result(result: &PointResult) -> Self {
-        let r = &result.report;
+        let r = &result.analysis;
         let mut columns = vec![("point".to_string(), json!(result.index))];
         columns.extend(result.parameters.iter().cloned());
         let o = &r.outcome;
@@ -222,7 +222,9 @@ pub fn jsonl_text(rows: &[SweepRow]) -> String {
 
 /// A compact table of the results for a terminal: parameters, optical depth, the fraction
 /// that left the medium (any face), mean time in the medium, the extrapolated diffusion
-/// time, and the ratios of the mean time to diffusion theory and to the rule of thumb.
+/// time, and the ratios of the mean time to diffusion theory and to the rule of thumb. Where
+/// the medium absorbs, the (conservative) diffusion time is marked `*` and no ratio is
+/// given.
 pub fn render_text(results: &[PointResult]) -> String {
     let mut out = String::new();
     let Some(first) = results.first() else {
@@ -240,8 +242,9 @@ pub fn render_text(results: &[PointResult]) -> String {
         "τ", "escaped", "mean time ± 1σ", "diffusion", "MC/diffusion", "MC/rule"
     );
     let number = |v: Option<f64>| v.map_or("-".to_string(), |v| format_significant(v, 4));
+    let mut conservative_only = false;
     for result in results {
-        let r = &result.report;
+        let r = &result.analysis;
         let _ = write!(out, "{:>5}", result.index);
         for ((_, value), width) in result.parameters.iter().zip(&widths) {
             let shown = match value.as_f64() {
@@ -267,13 +270,27 @@ pub fn render_text(results: &[PointResult]) -> String {
             ),
             (x, _) => number(x),
         };
+        let mut diffusion = r
+            .diffusion
+            .mean_time_extrapolated_s
+            .map_or_else(|| "-".to_string(), format_duration);
+        if !r.comparison.times_comparable {
+            diffusion.push('*');
+            conservative_only = true;
+        }
         let _ = writeln!(
             out,
-            "  {:>9}  {:>9.5}  {time:>22}  {:>11}  {ratio:>17}  {:>9}",
+            "  {:>9}  {:>9.5}  {time:>22}  {diffusion:>11}  {ratio:>17}  {:>9}",
             format_significant(r.optical_depth, 4),
             escaped,
-            format_duration(r.diffusion.mean_time_extrapolated_s),
             number(r.comparison.naive_time_ratio),
+        );
+    }
+    if conservative_only {
+        let _ = writeln!(
+            out,
+            "* the medium absorbs: conservative diffusion, not compared with the Monte Carlo \
+             time"
         );
     }
     out

@@ -5,6 +5,7 @@ mod bad_profiles;
 mod checkpoints;
 mod cluster_scripts;
 mod import_command;
+mod json_keys;
 mod plots;
 mod profile_command;
 mod run_command;

@@ -193,3 +193,58 @@ fn resolve_is_refused_for_spheres() {
     assert!(!output.status.success());
     assert!(String::from_utf8_lossy(&output.stderr).contains("--resolve is for slabs"));
 }
+
+#[test]
+fn an_absorbing_slab_compares_no_time_with_conservative_diffusion() {
+    // The two-layer phantom absorbs (albedo 0.996): its diffusion times are conservative, so
+    // neither the text nor the JSON may put a Monte Carlo time beside them as a ratio.
+    let directory = tempfile::tempdir().unwrap();
+    let path = directory.path().join("phantom.json");
+    let output = sojourn()
+        .args([
+            "run",
+            "models/tissue-phantom-two-layer.json",
+            "--photons",
+            "1000",
+            "--json",
+        ])
+        .arg(&path)
+        .output()
+        .unwrap();
+    assert!(output.status.success());
+    let text = String::from_utf8(output.stdout).unwrap();
+    for line in text.lines() {
+        assert!(
+            !line.contains("mean time /") && !line.contains("KS distance"),
+            "a ratio of an absorbing Monte Carlo time to conservative diffusion: {line}"
+        );
+    }
+    assert!(text.contains("(conservative: no photon is lost to absorption)"));
+    assert!(text.contains("verdict: "));
+    let report: Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+    let comparison = &report["comparison"];
+    for key in [
+        "time_ratio",
+        "time_ratio_stderr",
+        "time_ratio_plain",
+        "naive_time_ratio",
+        "scatterings_ratio",
+        "ks_distance",
+        "ks_p_value",
+    ] {
+        assert!(
+            comparison[key].is_null(),
+            "comparison.{key} = {}",
+            comparison[key]
+        );
+    }
+    assert_eq!(comparison["times_comparable"], false);
+    let notes = comparison["notes"].as_array().unwrap();
+    assert!(
+        notes
+            .iter()
+            .any(|n| n.as_str().unwrap().contains("the medium absorbs"))
+    );
+    assert!(report["diffusion"]["escape_time"]["mean_s"].is_null());
+    assert!(report["diffusion"]["mean_time_extrapolated_s"].is_number());
+}

@@ -243,7 +243,7 @@ fn sun_like_polytrope_matches_the_profile_diffusion_time() {
     // measured +0.3 %).
     let path = std::path::Path::new("models/veyra-n3-sun-like.json");
     let medium = sojourn::medium::model_file::load_model(path).unwrap();
-    let profile = sojourn::report::profile_report::ProfileReport::new(&medium, "veyra").unwrap();
+    let profile = sojourn::analysis::ProfileAnalysis::new(&medium).unwrap();
     let reference = profile.diffusion.mean_time_s;
     let tally = run_method(&medium, 10_000, 69, Method::Auto).tally;
     let escapes = tally.escaped();

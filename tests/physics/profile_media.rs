@@ -3,11 +3,11 @@
 
 use serde_json::json;
 
+use sojourn::analysis::ProfileAnalysis;
 use sojourn::diffusion::estimate;
 use sojourn::medium::Medium;
 use sojourn::medium::model_file::model_from_value;
 use sojourn::opacity::OpacitySpec;
-use sojourn::report::ProfileReport;
 use sojourn::star::builder::{PolytropeStar, interior_opacity};
 use sojourn::units::{SOLAR_MASS_G, SPEED_OF_LIGHT_CM_S};
 
@@ -51,7 +51,7 @@ fn uniform_sphere_through_the_profile_path_is_r_squared_over_2lc() {
     }));
     let l = 1.0 / (rho * kappa);
     let expected = radius * radius / (2.0 * l * SPEED_OF_LIGHT_CM_S);
-    let report = ProfileReport::new(&medium, "test").unwrap();
+    let report = ProfileAnalysis::new(&medium).unwrap();
     assert!(
         (report.diffusion.mean_time_s / expected - 1.0).abs() < 1e-12,
         "{} vs {expected}",
@@ -80,7 +80,7 @@ fn two_zone_sphere_through_the_profile_path_is_the_piecewise_integral() {
         ]
     }));
     let expected = (sigma1 * a * a / 2.0 + sigma2 * (r * r - a * a) / 2.0) / SPEED_OF_LIGHT_CM_S;
-    let report = ProfileReport::new(&medium, "test").unwrap();
+    let report = ProfileAnalysis::new(&medium).unwrap();
     assert!((report.diffusion.mean_time_s / expected - 1.0).abs() < 1e-12);
     let core_share: f64 = report
         .shells
@@ -108,7 +108,7 @@ fn profile_followed_by_a_plain_layer() {
         ]
     }));
     let expected = (20.0 * 0.5 + 2.0 * (9.0 - 1.0) / 2.0) / SPEED_OF_LIGHT_CM_S;
-    let report = ProfileReport::new(&medium, "test").unwrap();
+    let report = ProfileAnalysis::new(&medium).unwrap();
     assert!((report.diffusion.mean_time_s / expected - 1.0).abs() < 1e-12);
     assert_eq!(
         report.mean_density_g_cm3, None,
@@ -118,7 +118,7 @@ fn profile_followed_by_a_plain_layer() {
 
 /// Checks the representation of a built star: τ error, tolerance between neighbours,
 /// smooth internal divisions, and the photosphere definition.
-fn check_representation(star: PolytropeStar) -> (Medium, ProfileReport) {
+fn check_representation(star: PolytropeStar) -> (Medium, ProfileAnalysis) {
     let built = star.build().unwrap();
     let medium = load(built.model_json);
     let summary = &medium.profiles()[0];
@@ -155,7 +155,7 @@ fn check_representation(star: PolytropeStar) -> (Medium, ProfileReport) {
     }
     assert_eq!(unrefined, summary.unrefined_divisions);
     assert!(medium.is_sharp_boundary(layers.len() - 1));
-    let report = ProfileReport::new(&medium, "test").unwrap();
+    let report = ProfileAnalysis::new(&medium).unwrap();
     // τ from the surface to the photosphere is 2/3.
     let photosphere = report.photosphere_radius_cm.unwrap();
     let tau_above: f64 = (0..layers.len())

@@ -11,9 +11,9 @@
 //! measured here (seed 7, 10⁵ photons) as +0.58 ± 0.14 % at τ = 30, +0.38 ± 0.15 % at τ = 50
 //! and +0.29 ± 0.16 % at τ = 100, so the test allows 1 % beyond 4σ.
 
+use sojourn::analysis::ProfileAnalysis;
 use sojourn::medium::model_file::model_from_value;
 use sojourn::opacity::OpacitySpec;
-use sojourn::report::ProfileReport;
 use sojourn::star::builder::PolytropeStar;
 
 use crate::support::{assert_within, run_photons};
@@ -41,7 +41,7 @@ fn profile_star_mean_escape_time_matches_extrapolated_diffusion() {
     // Acceptance: the representation's τ error is below 0.1 %.
     assert!(summary.tau_error_relative < 1e-3);
 
-    let report = ProfileReport::new(&medium, "tau 50").unwrap();
+    let report = ProfileAnalysis::new(&medium).unwrap();
     let plain = report.diffusion.mean_time_s;
     let extrapolated = report.diffusion.mean_time_extrapolated_s;
     let correction = extrapolated / plain - 1.0;

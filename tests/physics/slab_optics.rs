@@ -1,7 +1,8 @@
 //! Slab optics: refractive faces, energy balance, limb darkening and time-resolved decay.
 
+use sojourn::analysis::resolved_layout;
+use sojourn::analysis::slab_optics::resolved_summary;
 use sojourn::medium::{Layer, Medium, Source};
-use sojourn::report::slab_optics::{resolved_layout, resolved_summary};
 use sojourn::simulation::{Method, RunConfig, run};
 use sojourn::tally::Tally;
 use sojourn::transport::PhaseFunction;

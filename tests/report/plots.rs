@@ -1,5 +1,6 @@
 //! Every chart kind and every panel of a run, drawn for small runs and read back.
 
+use sojourn::analysis::resolved_layout;
 use sojourn::medium::{Layer, Medium, Source};
 use sojourn::report::html::render_html_report;
 use sojourn::report::plots::absorption_depth::AbsorptionDepthPanel;
@@ -9,7 +10,7 @@ use sojourn::report::plots::limb_darkening::LimbDarkeningPanel;
 use sojourn::report::plots::optical_structure::OpticalStructurePanel;
 use sojourn::report::plots::profile_budget::ProfileTimeBudgetPanel;
 use sojourn::report::plots::scatterings::scatterings_panel;
-use sojourn::report::plots::sweep_escape_time::SweepPanel;
+use sojourn::report::plots::sweep_escape_time::{StudyPoint, SweepPanel};
 use sojourn::report::plots::time_budget::TimeBudgetPanel;
 use sojourn::report::plots::time_resolved::TimeResolvedPanel;
 use sojourn::report::plots::{
@@ -18,10 +19,9 @@ use sojourn::report::plots::{
     run_figures, run_panels, ticks::transform,
 };
 use sojourn::report::plots::{Orientation, profile_panels, sweep_panels};
-use sojourn::report::slab_optics::resolved_layout;
 use sojourn::report::{ProfileReport, RunReport};
 use sojourn::simulation::{RunConfig, RunResult, run};
-use sojourn::sweep::Sweep;
+use sojourn::sweep::{PointResult, Sweep};
 use sojourn::transport::PhaseFunction;
 
 use super::svg::{self, Svg, label_width};
@@ -296,6 +296,17 @@ fn run_figures_cover_each_geometry() {
     }
     let panel = escape_time_panel(&slab.inputs()).unwrap();
     check_distribution(&panel, false);
+    // The slab absorbs: no conservative diffusion time is drawn beside its escape times.
+    assert!(
+        panel
+            .marks
+            .iter()
+            .all(|m| !m.label.contains("diffusion") && !m.label.contains("rule of thumb")),
+        "{:?}",
+        panel.marks.iter().map(|m| &m.label).collect::<Vec<_>>()
+    );
+    assert!(panel.theory.is_none());
+    assert!(panel.notes.iter().any(|n| n.contains("the medium absorbs")));
     let html = render_html_report("slab", "sub", "report <text>", &figures);
     assert_eq!(html.matches("<svg").count(), 2);
     assert!(html.contains("report &lt;text&gt;"));
@@ -470,7 +481,7 @@ fn profile_panels_show_structure_photosphere_and_budget() {
     assert_eq!(structure.mean_free_path.len(), 4);
     assert!((structure.optical_depth[0].1 - 14.8).abs() < 1e-12);
     assert_eq!(*structure.optical_depth.last().unwrap(), (1.0, 0.0));
-    let photosphere = report.photosphere_radius_cm.unwrap();
+    let photosphere = report.analysis.photosphere_radius_cm.unwrap();
     assert!((photosphere - (1.0 - (2.0 / 3.0) / 4.0)).abs() < 1e-12);
     assert!(spec.reference_lines.iter().any(|l| {
         l.orientation == Orientation::Vertical
@@ -486,7 +497,7 @@ fn profile_panels_show_structure_photosphere_and_budget() {
     // The accrual curve ends at 100 % and passes the report's half-time radius at 50 %.
     let accrual = &budget.accrual;
     assert!((accrual.last().unwrap().1 - 1.0).abs() < 1e-12);
-    let half = report.time_budget.radius_50_percent_cm;
+    let half = report.analysis.time_budget.radius_50_percent_cm;
     let below = accrual.iter().rfind(|(r, _)| *r <= half).unwrap();
     let above = accrual.iter().find(|(r, _)| *r > half).unwrap();
     assert!(below.1 <= 0.5 + 1e-12 && above.1 >= 0.5 - 1e-12);
@@ -560,7 +571,7 @@ fn resolved_slab_has_time_absorption_and_angle_panels() {
         ]
     );
     // Monte Carlo points: one per non-empty bin, on the tally's bins, per display unit.
-    let resolved = run.report.resolved.as_ref().unwrap();
+    let resolved = run.report.analysis.resolved.as_ref().unwrap();
     let reflected = &spec.series[3];
     assert_eq!(
         reflected.points.len(),
@@ -596,7 +607,10 @@ fn resolved_slab_has_time_absorption_and_angle_panels() {
         .zip(spec.bars.edges.windows(2))
         .map(|(h, e)| h * (e[1] - e[0]))
         .sum();
-    assert!((area - run.report.outcome.absorbed).abs() < 1e-9, "{area}");
+    assert!(
+        (area - run.report.analysis.outcome.absorbed).abs() < 1e-9,
+        "{area}"
+    );
     assert_eq!(spec.chart.reference_lines.len(), 1, "one interface");
     check_ranges(&spec.chart, Some(&spec.bars));
     let svg = svg::parse(&absorption.render().unwrap().svg);
@@ -623,6 +637,18 @@ fn resolved_slab_has_time_absorption_and_angle_panels() {
     assert_eq!(svg.circles, 10 + 1);
 }
 
+/// The figure's view of a sweep's results.
+fn study_points(results: &[PointResult]) -> Vec<StudyPoint<'_>> {
+    results
+        .iter()
+        .map(|r| StudyPoint {
+            index: r.index,
+            parameters: &r.parameters,
+            analysis: &r.analysis,
+        })
+        .collect()
+}
+
 #[test]
 fn sweep_panel_draws_means_with_errors_and_both_estimates() {
     let mut sweep = Sweep::new(400, 9);
@@ -630,9 +656,10 @@ fn sweep_panel_draws_means_with_errors_and_both_estimates() {
         sweep = sweep.point([("optical radius", tau)], uniform_sphere(tau));
     }
     let results = sweep.run();
-    let panels = sweep_panels(&results, "in code");
+    let points = study_points(&results);
+    let panels = sweep_panels(&points, "", "in code");
     assert_eq!(panels.len(), 1);
-    let panel = SweepPanel::from_results(&results, "in code").unwrap();
+    let panel = SweepPanel::from_points(&points, "", "in code").unwrap();
     let spec = panel.spec();
     assert_eq!(spec.x_axis.scale, Scale::Log, "τ spans 1.5 decades");
     assert_eq!(spec.x_axis.label, "optical radius");
@@ -659,11 +686,38 @@ fn sweep_panel_draws_means_with_errors_and_both_estimates() {
         }
     }
     let results = sweep.run();
-    let panel = SweepPanel::from_results(&results, "grid").unwrap();
+    let panel = SweepPanel::from_points(&study_points(&results), "", "grid").unwrap();
     assert_eq!(panel.groups.len(), 2);
     let spec = panel.spec();
     assert_eq!(spec.x_axis.scale, Scale::Linear);
     assert_eq!(spec.series.len(), 6);
     assert!(labels(&spec).contains(&"Monte Carlo mean ± 1σ (g = 0.5000)"));
     check_line_panel(&spec, &panel.render().unwrap().svg);
+}
+
+#[test]
+fn sweep_panel_draws_no_diffusion_line_through_absorbing_points() {
+    let absorbing = |albedo: f64| {
+        Medium::sphere(
+            vec![(1.0, layer(4.0, albedo, PhaseFunction::Isotropic))],
+            Source::centre(),
+        )
+        .unwrap()
+    };
+    let sweep = Sweep::new(200, 9)
+        .point([("albedo", 0.9)], absorbing(0.9))
+        .point([("albedo", 1.0)], absorbing(1.0));
+    let results = sweep.run();
+    let panel = SweepPanel::from_points(&study_points(&results), "", "albedo").unwrap();
+    let spec = panel.spec();
+    let line = |label: &str| {
+        spec.series
+            .iter()
+            .find(|s| s.label.starts_with(label))
+            .map_or(0, |s| s.points.len())
+    };
+    assert_eq!(line("diffusion"), 1, "only the conservative point");
+    assert_eq!(line("rule of thumb"), 1);
+    assert_eq!(line("Monte Carlo"), 2);
+    assert!(spec.notes.iter().any(|n| n.contains("the medium absorbs")));
 }

@@ -92,9 +92,9 @@ fn a_sweep_built_in_code_gives_one_result_per_point_with_its_parameters() {
     let results = sweep.run();
     assert_eq!(results.len(), 3);
     assert_eq!(results[2].parameter("g"), Some(0.8));
-    assert_eq!(results[1].report.optical_depth, 2.0);
+    assert_eq!(results[1].analysis.optical_depth, 2.0);
     // Forward scattering lets more of the beam through a slab of the same optical depth.
-    let transmitted = |k: usize| results[k].report.outcome.transmitted.unwrap();
+    let transmitted = |k: usize| results[k].analysis.outcome.transmitted.unwrap();
     assert!(transmitted(2) > transmitted(1));
     assert!(transmitted(0) > transmitted(1));
     let row = results[0].row();
@@ -110,7 +110,7 @@ fn each_point_has_its_own_random_stream() {
         .point([("copy", 0.0)], medium.clone())
         .point([("copy", 1.0)], medium)
         .run();
-    let mean = |k: usize| results[k].report.escape_time.mean_s.unwrap();
+    let mean = |k: usize| results[k].analysis.escape_time.mean_s.unwrap();
     assert_ne!(
         mean(0),
         mean(1),

@@ -38,7 +38,7 @@ impl AbsorptionDepthPanel {
     /// The panel of a run with resolved slab tallies (`None` without them or if nothing
     /// was absorbed).
     pub fn for_run(inputs: &RunInputs) -> Option<Self> {
-        let resolved = inputs.report.resolved.as_ref()?;
+        let resolved = inputs.report.analysis.resolved.as_ref()?;
         if !resolved.absorbed_per_cm.iter().any(|&a| a > 0.0) {
             return None;
         }

@@ -5,13 +5,18 @@
 //! first-passage density of diffusion out of the sphere, with the surface moved out to the
 //! Milne extrapolated radius ([`crate::diffusion::equivalent_sphere`]); its mean and median
 //! are marked. Otherwise the diffusion mean exit times (surface at the boundary, and
-//! extrapolated) are marked. The rule of thumb t ≈ τ L / c is marked in every case.
+//! extrapolated) are marked, with the rule of thumb t ≈ τ L / c. Where the medium absorbs,
+//! neither is drawn: they are conservative, and absorption shortens the Monte Carlo times.
 
 use super::display_unit::DisplayUnit;
 use super::distribution::{DistributionPanel, Mark, TheoryCurve};
 use super::run_inputs::{RunInputs, group_digits};
 use super::style::{Colour, Dash, LineStyle};
 use crate::diffusion::{equivalent_sphere, first_passage};
+
+/// The note under a run's distribution panels where the medium absorbs.
+pub const ABSORBING_NOTE: &str = "the medium absorbs: diffusion times here are conservative, \
+                                  so neither they nor the rule of thumb are drawn";
 
 /// Stroke of a theory density.
 pub const THEORY: LineStyle = LineStyle::new(Colour::Indigo, 3.0, Dash::Solid);
@@ -49,9 +54,11 @@ pub fn escape_time_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
     if escapes.count() == 0 {
         return None;
     }
-    let report = inputs.report;
+    let report = &inputs.report.analysis;
     let summary = &report.escape_time;
-    let unit = DisplayUnit::time_for(summary.median_s.unwrap_or(report.diffusion.mean_time_s));
+    let comparable = report.comparison.times_comparable;
+    let d = &report.diffusion;
+    let unit = DisplayUnit::time_for(summary.median_s.or(d.mean_time_s).unwrap_or(d.naive_time_s));
     let mut marks = Vec::new();
     if let Some(mean) = summary.mean_s {
         marks.push(Mark {
@@ -87,34 +94,32 @@ pub fn escape_time_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
             style: THEORY,
         }
     });
-    if theory.is_none() {
-        let d = &report.diffusion;
-        marks.push(Mark {
-            label: format!(
-                "diffusion mean, extrapolated surface {}",
-                unit.format(d.mean_time_extrapolated_s)
-            ),
-            value: d.mean_time_extrapolated_s,
-            style: THEORY_MEAN,
-        });
-        marks.push(Mark {
-            label: format!(
-                "diffusion mean, surface at boundary {}",
-                unit.format(d.mean_time_s)
-            ),
-            value: d.mean_time_s,
-            style: THEORY_MEDIAN,
-        });
+    if theory.is_none() && comparable {
+        if let Some(mean) = d.mean_time_extrapolated_s {
+            marks.push(Mark {
+                label: format!("diffusion mean, extrapolated surface {}", unit.format(mean)),
+                value: mean,
+                style: THEORY_MEAN,
+            });
+        }
+        if let Some(mean) = d.mean_time_s {
+            marks.push(Mark {
+                label: format!("diffusion mean, surface at boundary {}", unit.format(mean)),
+                value: mean,
+                style: THEORY_MEDIAN,
+            });
+        }
     }
-    marks.push(Mark {
-        label: format!(
-            "rule of thumb t ≈ τL/c = {}",
-            unit.format(report.diffusion.naive_time_s)
-        ),
-        value: report.diffusion.naive_time_s,
-        style: RULE_OF_THUMB,
-    });
     let mut notes = Vec::new();
+    if comparable {
+        marks.push(Mark {
+            label: format!("rule of thumb t ≈ τL/c = {}", unit.format(d.naive_time_s)),
+            value: d.naive_time_s,
+            style: RULE_OF_THUMB,
+        });
+    } else {
+        notes.push(ABSORBING_NOTE.to_string());
+    }
     if let Some(ks) = report.comparison.ks_distance {
         notes.push(format!(
             "Kolmogorov–Smirnov distance to the first-passage law: {}",

@@ -37,7 +37,7 @@ impl LimbDarkeningPanel {
     /// The panel of a run with resolved slab tallies (`None` without them or if no photon
     /// was reflected).
     pub fn for_run(inputs: &RunInputs) -> Option<Self> {
-        let resolved = inputs.report.resolved.as_ref()?;
+        let resolved = inputs.report.analysis.resolved.as_ref()?;
         let reflected = inputs.tally.reflected().count();
         if reflected == 0 {
             return None;

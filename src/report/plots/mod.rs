@@ -62,7 +62,6 @@ pub use canvas::{Frame, fit};
 
 use crate::medium::Medium;
 use crate::report::ProfileReport;
-use crate::sweep::PointResult;
 pub use display_unit::DisplayUnit;
 pub use error::PlotError;
 pub use histogram_chart::histogram_chart;
@@ -137,10 +136,14 @@ pub fn profile_panels(medium: &Medium, report: &ProfileReport) -> Vec<Box<dyn Pa
 }
 
 /// The panels of a finished sweep: the mean escape time against the first parameter.
-/// `label` names the spec.
-pub fn sweep_panels(results: &[PointResult], label: &str) -> Vec<Box<dyn Panel>> {
+/// `model` is the model's name, `label` names the spec.
+pub fn sweep_panels(
+    points: &[sweep_escape_time::StudyPoint],
+    model: &str,
+    label: &str,
+) -> Vec<Box<dyn Panel>> {
     let mut panels: Vec<Box<dyn Panel>> = Vec::new();
-    if let Some(panel) = sweep_escape_time::SweepPanel::from_results(results, label) {
+    if let Some(panel) = sweep_escape_time::SweepPanel::from_points(points, model, label) {
         panels.push(Box::new(panel));
     }
     panels

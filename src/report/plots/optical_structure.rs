@@ -11,9 +11,9 @@ use super::error::PlotError;
 use super::spec::{Axis, ChartSpec, ReferenceLine, Series};
 use super::style::{Colour, Dash, LineStyle, SeriesStyle};
 use super::{Figure, Panel};
+use crate::analysis::profile::PHOTOSPHERE_OPTICAL_DEPTH;
 use crate::medium::Medium;
 use crate::report::ProfileReport;
-use crate::report::profile_report::PHOTOSPHERE_OPTICAL_DEPTH;
 use crate::units::format_significant;
 
 /// Everything the optical-structure figure shows, as plain data.
@@ -47,8 +47,8 @@ const POINTS_PER_SHELL: usize = 24;
 impl OpticalStructurePanel {
     /// The panel of the profile report of `medium` (`None` if no shell interacts).
     pub fn from_profile(medium: &Medium, report: &ProfileReport) -> Option<Self> {
-        let shells = &report.shells;
-        if shells.is_empty() || report.optical_depth <= 0.0 {
+        let shells = &report.analysis.shells;
+        if shells.is_empty() || report.analysis.optical_depth <= 0.0 {
             return None;
         }
         let stride = shells.len().div_ceil(MAX_POINTS / 2).max(1);
@@ -98,8 +98,8 @@ impl OpticalStructurePanel {
             unit,
             mean_free_path,
             optical_depth,
-            photosphere_cm: report.photosphere_radius_cm,
-            total_optical_depth: report.optical_depth,
+            photosphere_cm: report.analysis.photosphere_radius_cm,
+            total_optical_depth: report.analysis.optical_depth,
         })
     }
 

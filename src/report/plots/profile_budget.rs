@@ -30,8 +30,8 @@ const MAX_POINTS: usize = 3000;
 impl ProfileTimeBudgetPanel {
     /// The panel of the profile report of `medium` (`None` if it has no diffusion time).
     pub fn from_profile(medium: &Medium, report: &ProfileReport) -> Option<Self> {
-        let total = report.diffusion.mean_time_s;
-        if total.is_nan() || total <= 0.0 || report.shells.is_empty() {
+        let total = report.analysis.diffusion.mean_time_s;
+        if total.is_nan() || total <= 0.0 || report.analysis.shells.is_empty() {
             return None;
         }
         let centred = medium.with_sphere_source(0.0).ok()?;
@@ -45,12 +45,12 @@ impl ProfileTimeBudgetPanel {
             format!("Where the diffusion time goes · {name}"),
             format!(
                 "{} shells · source at the centre · no Monte Carlo · {}",
-                report.shells.len(),
+                report.analysis.shells.len(),
                 report.model.file
             ),
         )?;
         budget.name = "time-budget".into();
-        let shells = &report.shells;
+        let shells = &report.analysis.shells;
         let few = shells.len() * POINTS_PER_SHELL <= MAX_POINTS;
         let stride = shells.len().div_ceil(MAX_POINTS).max(1);
         let mut accrual = vec![(0.0, 0.0)];
@@ -72,7 +72,7 @@ impl ProfileTimeBudgetPanel {
             }
             accrual.push((b, shell.cumulative_time_s / total));
         }
-        let t = &report.time_budget;
+        let t = &report.analysis.time_budget;
         Some(Self {
             budget,
             accrual,

@@ -12,7 +12,7 @@ pub struct RunInputs<'a> {
     pub medium: &'a Medium,
     /// The merged tally (histograms of times and scatterings).
     pub tally: &'a Tally,
-    /// The run report (summaries and diffusion estimates).
+    /// The run report (the run's analysis, with the model's label).
     pub report: &'a RunReport,
 }
 
@@ -50,9 +50,9 @@ impl RunInputs<'_> {
         let r = self.report;
         format!(
             "{} photons · seed {} · {} walk · {}",
-            group_digits(r.photons),
-            r.seed,
-            r.method,
+            group_digits(r.analysis.photons),
+            r.analysis.seed,
+            r.analysis.method,
             r.model.file
         )
     }

@@ -10,7 +10,7 @@
 use super::display_unit::DisplayUnit;
 use super::distribution::{DistributionPanel, Mark, TheoryCurve};
 use super::escape_time::{
-    RULE_OF_THUMB, SAMPLE_MEAN, SAMPLE_MEDIAN, THEORY, THEORY_MEAN, THEORY_MEDIAN,
+    ABSORBING_NOTE, RULE_OF_THUMB, SAMPLE_MEAN, SAMPLE_MEDIAN, THEORY, THEORY_MEAN, THEORY_MEDIAN,
     first_passage_points,
 };
 use super::run_inputs::{RunInputs, group_digits};
@@ -27,7 +27,7 @@ pub fn scatterings_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
     if escapes.count() == 0 {
         return None;
     }
-    let report = inputs.report;
+    let report = &inputs.report.analysis;
     let summary = &report.scatterings;
     let mut marks = Vec::new();
     if let Some(mean) = summary.mean {
@@ -66,33 +66,34 @@ pub fn scatterings_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
             style: THEORY,
         }
     });
-    if theory.is_none() {
-        let d = &report.diffusion;
-        marks.push(Mark {
-            label: format!(
-                "diffusion mean, extrapolated surface {}",
-                count(d.mean_scatterings_extrapolated)
-            ),
-            value: d.mean_scatterings_extrapolated,
-            style: THEORY_MEAN,
-        });
-        marks.push(Mark {
-            label: format!(
-                "diffusion mean, surface at boundary {}",
-                count(d.mean_scatterings)
-            ),
-            value: d.mean_scatterings,
-            style: THEORY_MEDIAN,
-        });
+    let comparable = report.comparison.times_comparable;
+    let d = &report.diffusion;
+    if theory.is_none() && comparable {
+        if let Some(mean) = d.mean_scatterings_extrapolated {
+            marks.push(Mark {
+                label: format!("diffusion mean, extrapolated surface {}", count(mean)),
+                value: mean,
+                style: THEORY_MEAN,
+            });
+        }
+        if let Some(mean) = d.mean_scatterings {
+            marks.push(Mark {
+                label: format!("diffusion mean, surface at boundary {}", count(mean)),
+                value: mean,
+                style: THEORY_MEDIAN,
+            });
+        }
     }
-    marks.push(Mark {
-        label: format!(
-            "rule of thumb N ≈ τ² = {}",
-            count(report.diffusion.naive_scatterings)
-        ),
-        value: report.diffusion.naive_scatterings,
-        style: RULE_OF_THUMB,
-    });
+    let mut notes = Vec::new();
+    if comparable {
+        marks.push(Mark {
+            label: format!("rule of thumb N ≈ τ² = {}", count(d.naive_scatterings)),
+            value: d.naive_scatterings,
+            style: RULE_OF_THUMB,
+        });
+    } else {
+        notes.push(ABSORBING_NOTE.to_string());
+    }
     Some(DistributionPanel {
         name: "scatterings".into(),
         title: inputs.title("Scatterings before escape"),
@@ -108,7 +109,7 @@ pub fn scatterings_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
         whole_numbers: true,
         theory,
         marks,
-        notes: Vec::new(),
+        notes,
         caption: "Monte Carlo histogram of the number of scatterings before escape, as a \
                   probability density, with diffusion theory (time converted at the scattering \
                   rate); vertical lines mark the means, the medians and N ≈ τ²."

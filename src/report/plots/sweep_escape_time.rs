@@ -1,7 +1,8 @@
 //! The panel of a parameter study (`sojourn sweep --plot`): the Monte Carlo mean escape
 //! time of every point with its 1σ error bar against the first swept parameter, with the
 //! steady-diffusion mean exit time (Milne extrapolated boundary) and the rule of thumb
-//! t ≈ τL/c of each point as lines.
+//! t ≈ τL/c of each point as lines. Points where the medium absorbs get neither: their
+//! diffusion times are conservative, not comparable with the Monte Carlo time.
 //!
 //! The x axis is logarithmic when the parameter's values are positive and span more than a
 //! decade, the y axis likewise for the times. With more than one parameter the points are
@@ -16,7 +17,19 @@ use super::run_inputs::group_digits;
 use super::spec::{Axis, ChartSpec, Series};
 use super::style::{Colour, Dash, LineStyle, MarkerShape, SeriesStyle};
 use super::{Figure, Panel};
-use crate::sweep::PointResult;
+use crate::analysis::RunAnalysis;
+
+/// One point of a parameter study as the figure takes it (a `sweep::PointResult` lends
+/// its fields).
+#[derive(Debug, Clone, Copy)]
+pub struct StudyPoint<'a> {
+    /// Point index.
+    pub index: u64,
+    /// Parameter values `(name, value)`, in column order.
+    pub parameters: &'a [(String, Value)],
+    /// The analysis of the point's run.
+    pub analysis: &'a RunAnalysis,
+}
 
 /// Groups (combinations of the other parameters) drawn at most.
 pub const MAX_GROUPS: usize = 4;
@@ -30,10 +43,12 @@ pub struct SweepPoint {
     pub mean_s: Option<f64>,
     /// Its standard error, s.
     pub stderr_s: Option<f64>,
-    /// Steady-diffusion mean exit time, extrapolated boundary, s.
-    pub diffusion_s: f64,
-    /// Rule of thumb t ≈ τL/c, s.
-    pub naive_s: f64,
+    /// Steady-diffusion mean exit time, extrapolated boundary, s (`None` where it is not
+    /// comparable with the Monte Carlo time: an absorbing medium, a slab thinner than
+    /// 1/μs′).
+    pub diffusion_s: Option<f64>,
+    /// Rule of thumb t ≈ τL/c, s (`None` where the medium absorbs).
+    pub naive_s: Option<f64>,
 }
 
 /// The points that share the values of every parameter but the first.
@@ -73,9 +88,9 @@ fn value_text(value: &Value) -> String {
 }
 
 impl SweepPanel {
-    /// The panel of a finished sweep (`None` without points or parameters). `label` names
-    /// the spec (shown in the subtitle).
-    pub fn from_results(results: &[PointResult], label: &str) -> Option<Self> {
+    /// The panel of a finished sweep (`None` without points or parameters). `model` is the
+    /// model's name (shown in the title), `label` names the spec (shown in the subtitle).
+    pub fn from_points(results: &[StudyPoint], model: &str, label: &str) -> Option<Self> {
         let first = results.first()?;
         let (parameter, _) = first.parameters.first()?;
         let numeric = results
@@ -88,7 +103,7 @@ impl SweepPanel {
                 .map(|(name, value)| format!("{name} = {}", value_text(value)))
                 .collect();
             let key = others.join(", ");
-            let r = &result.report;
+            let r = result.analysis;
             let point = SweepPoint {
                 x: if numeric {
                     result.parameters[0].1.as_f64().expect("checked numeric")
@@ -97,8 +112,11 @@ impl SweepPanel {
                 },
                 mean_s: r.escape_time.mean_s,
                 stderr_s: r.escape_time.stderr_s,
-                diffusion_s: r.diffusion.mean_time_extrapolated_s,
-                naive_s: r.diffusion.naive_time_s,
+                diffusion_s: r
+                    .diffusion
+                    .mean_time_extrapolated_s
+                    .filter(|_| r.comparison.times_comparable),
+                naive_s: Some(r.diffusion.naive_time_s).filter(|_| r.comparison.times_comparable),
             };
             match groups.iter_mut().find(|g| g.label == key) {
                 Some(group) => group.points.push(point),
@@ -111,11 +129,10 @@ impl SweepPanel {
         for group in &mut groups {
             group.points.sort_by(|a, b| a.x.total_cmp(&b.x));
         }
-        let model = &first.report.model.name;
         let model = if model.is_empty() {
             "(unnamed model)"
         } else {
-            model.as_str()
+            model
         };
         let parameter = if numeric {
             parameter.clone()
@@ -128,8 +145,8 @@ impl SweepPanel {
             subtitle: format!(
                 "{} points × {} photons · seed {} · {label}",
                 results.len(),
-                group_digits(first.report.photons),
-                first.report.seed
+                group_digits(first.analysis.photons),
+                first.analysis.seed
             ),
             parameter,
             groups,
@@ -142,7 +159,7 @@ impl SweepPanel {
         let all: Vec<&SweepPoint> = drawn.iter().flat_map(|g| &g.points).collect();
         let mut times: Vec<f64> = all
             .iter()
-            .flat_map(|p| [p.mean_s, Some(p.diffusion_s), Some(p.naive_s)])
+            .flat_map(|p| [p.mean_s, p.diffusion_s, p.naive_s])
             .flatten()
             .filter(|t| t.is_finite() && *t > 0.0)
             .collect();
@@ -185,27 +202,33 @@ impl SweepPanel {
             } else {
                 format!(" ({})", group.label)
             };
-            let show = |f: &dyn Fn(&SweepPoint) -> f64| -> Vec<(f64, f64)> {
+            let show = |f: &dyn Fn(&SweepPoint) -> Option<f64>| -> Vec<(f64, f64)> {
                 group
                     .points
                     .iter()
-                    .map(|p| (p.x, unit.show(f(p))))
+                    .filter_map(|p| f(p).map(|v| (p.x, unit.show(v))))
                     .collect()
             };
-            series.push(Series::new(
-                format!("diffusion, extrapolated boundary{suffix}"),
-                show(&|p| p.diffusion_s),
-                SeriesStyle {
-                    line: Some(LineStyle::new(Colour::Indigo, 3.0, DASHES[k].0)),
-                    marker: MarkerShape::None,
-                    colour: Colour::Indigo,
-                },
-            ));
-            series.push(Series::new(
-                format!("rule of thumb t ≈ τL/c{suffix}"),
-                show(&|p| p.naive_s),
-                SeriesStyle::line(Colour::Ochre, 3.0, DASHES[k].1),
-            ));
+            let diffusion = show(&|p| p.diffusion_s);
+            if !diffusion.is_empty() {
+                series.push(Series::new(
+                    format!("diffusion, extrapolated boundary{suffix}"),
+                    diffusion,
+                    SeriesStyle {
+                        line: Some(LineStyle::new(Colour::Indigo, 3.0, DASHES[k].0)),
+                        marker: MarkerShape::None,
+                        colour: Colour::Indigo,
+                    },
+                ));
+            }
+            let naive = show(&|p| p.naive_s);
+            if !naive.is_empty() {
+                series.push(Series::new(
+                    format!("rule of thumb t ≈ τL/c{suffix}"),
+                    naive,
+                    SeriesStyle::line(Colour::Ochre, 3.0, DASHES[k].1),
+                ));
+            }
             let measured: Vec<&SweepPoint> =
                 group.points.iter().filter(|p| p.mean_s.is_some()).collect();
             if !measured.is_empty() {
@@ -233,6 +256,13 @@ impl SweepPanel {
                 "{} of {} combinations of the other parameters drawn",
                 drawn.len(),
                 self.groups.len()
+            ));
+        }
+        let without_theory = all.iter().filter(|p| p.diffusion_s.is_none()).count();
+        if without_theory > 0 {
+            notes.push(format!(
+                "{without_theory} point(s) without a diffusion line: the medium absorbs (the \
+                 diffusion times are conservative) or the slab is thinner than 1/μs′"
             ));
         }
         let missing = all.iter().filter(|p| p.mean_s.is_none()).count();

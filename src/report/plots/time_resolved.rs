@@ -13,7 +13,7 @@ use super::run_inputs::RunInputs;
 use super::spec::{Axis, ChartSpec, Series};
 use super::style::{Colour, Dash, MarkerShape, SeriesStyle};
 use super::{Figure, Panel};
-use crate::report::slab_optics::DecayFit;
+use crate::analysis::DecayFit;
 use crate::units::format_significant;
 
 /// Everything the time-resolved figure shows, as plain data (rates per launched photon
@@ -50,7 +50,7 @@ impl TimeResolvedPanel {
     /// The panel of a run with resolved slab tallies (`None` without them or if no photon
     /// left within the bins).
     pub fn for_run(inputs: &RunInputs) -> Option<Self> {
-        let resolved = inputs.report.resolved.as_ref()?;
+        let resolved = inputs.report.analysis.resolved.as_ref()?;
         let any = |v: &[f64]| v.iter().any(|&x| x > 0.0);
         if !any(&resolved.reflectance_per_s) && !any(&resolved.transmittance_per_s) {
             return None;

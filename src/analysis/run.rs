@@ -1,29 +1,18 @@
-//! The run report: everything a user reads from a run, as one serialisable structure whose
-//! JSON keys are documented in the README.
+//! The analysis of one run: outcome fractions, escape-time and scattering distributions,
+//! the walk's cost, diffusion theory on the model and the comparison of the two, as one
+//! serialisable structure ([`RunAnalysis`]) with no formatting. The report layer adds the
+//! model's label and the wall-clock time and renders it; its JSON keys are documented in
+//! the README.
 
 use serde::Serialize;
 
-use crate::diffusion::{self, DiffusionEstimate};
 use crate::medium::{Geometry, Medium};
-use crate::simulation::{Method, RunConfig, RunResult};
+use crate::simulation::{Method, RunConfig};
 use crate::tally::{PathStats, Tally};
 
+use super::comparison::{Comparison, compare};
 use super::slab_optics::{ResolvedSummary, SlabDiffusion, resolved_summary, slab_diffusion};
-
-/// Where the model came from and what it is.
-#[derive(Debug, Clone, Serialize)]
-pub struct ModelSummary {
-    /// Name given in the model file.
-    pub name: String,
-    /// File the model was read from (or the embedded demo label).
-    pub file: String,
-    /// Number of layers.
-    pub layers: usize,
-    /// Outer radius (sphere) or thickness (slab), cm.
-    pub size_cm: f64,
-    /// Length unit the model file used.
-    pub length_unit: String,
-}
+use super::theory::DiffusionSummary;
 
 /// Fractions of launched photons by outcome (null where the geometry has no such outcome).
 #[derive(Debug, Clone, Serialize)]
@@ -92,11 +81,13 @@ pub struct DistributionSummary {
 }
 
 impl DistributionSummary {
-    fn of_time(stats: &PathStats) -> Self {
+    /// The escape times of `stats`, s (serialise with [`Self::seconds`]).
+    pub fn of_time(stats: &PathStats) -> Self {
         Self::build(stats.count(), &stats.time_s, &stats.time_histogram)
     }
 
-    fn of_scatterings(stats: &PathStats) -> Self {
+    /// The scattering counts of `stats`.
+    pub fn of_scatterings(stats: &PathStats) -> Self {
         Self::build(
             stats.count(),
             &stats.scatterings,
@@ -125,7 +116,7 @@ impl DistributionSummary {
     }
 
     /// The same summary serialised with `_s` suffixes (times in seconds).
-    fn seconds(&self) -> TimeSummary {
+    pub fn seconds(&self) -> TimeSummary {
         TimeSummary {
             count: self.count,
             mean_s: self.mean,
@@ -169,68 +160,6 @@ pub struct TimeSummary {
     pub p95_s: Option<f64>,
 }
 
-/// Diffusion-theory values for the model (see [`crate::diffusion::estimate`]).
-#[derive(Debug, Clone, Serialize)]
-pub struct DiffusionSummary {
-    /// Optical depth source → surface (sphere) or total thickness (slab).
-    pub optical_depth: f64,
-    /// Smallest mean free path, cm.
-    pub mean_free_path_min_cm: f64,
-    /// Largest mean free path, cm.
-    pub mean_free_path_max_cm: f64,
-    /// Rule of thumb N ≈ τ².
-    pub naive_scatterings: f64,
-    /// Rule of thumb t ≈ τ L n̄ / c, s.
-    pub naive_time_s: f64,
-    /// Mean exit time of steady diffusion, surface at the boundary, s.
-    pub mean_time_s: f64,
-    /// Mean exit time with the Milne extrapolated boundary (q∞ = 0.7104 l_tr), s.
-    pub mean_time_extrapolated_s: f64,
-    /// Scatterings implied by `mean_time_s`.
-    pub mean_scatterings: f64,
-    /// Scatterings implied by `mean_time_extrapolated_s`.
-    pub mean_scatterings_extrapolated: f64,
-    /// Residence time of diffusion in each layer, s (sums to `mean_time_s`).
-    pub layer_residence_s: Vec<f64>,
-}
-
-impl From<&DiffusionEstimate> for DiffusionSummary {
-    fn from(estimate: &DiffusionEstimate) -> Self {
-        Self {
-            optical_depth: estimate.optical_depth,
-            mean_free_path_min_cm: estimate.mean_free_path_min_cm,
-            mean_free_path_max_cm: estimate.mean_free_path_max_cm,
-            naive_scatterings: estimate.naive_scatterings,
-            naive_time_s: estimate.naive_time_s,
-            mean_time_s: estimate.mean_time_s,
-            mean_time_extrapolated_s: estimate.mean_time_extrapolated_s,
-            mean_scatterings: estimate.mean_scatterings,
-            mean_scatterings_extrapolated: estimate.mean_scatterings_extrapolated,
-            layer_residence_s: estimate.layer_residence_s.clone(),
-        }
-    }
-}
-
-/// Monte Carlo against diffusion theory.
-#[derive(Debug, Clone, Serialize)]
-pub struct Comparison {
-    /// Monte Carlo mean escape time / diffusion mean exit time with the extrapolated
-    /// boundary.
-    pub time_ratio: Option<f64>,
-    /// 1σ uncertainty of `time_ratio` (from the Monte Carlo standard error).
-    pub time_ratio_stderr: Option<f64>,
-    /// Monte Carlo mean escape time / diffusion mean exit time without extrapolation.
-    pub time_ratio_plain: Option<f64>,
-    /// Monte Carlo mean escape time / the rule of thumb's time.
-    pub naive_time_ratio: Option<f64>,
-    /// Monte Carlo mean scatterings / diffusion (extrapolated) scatterings.
-    pub scatterings_ratio: Option<f64>,
-    /// Kolmogorov–Smirnov distance between the Monte Carlo escape times and the exact
-    /// first-passage distribution of diffusion out of the extrapolated sphere (uniform,
-    /// conservative sphere with a centred source only; null otherwise).
-    pub ks_distance: Option<f64>,
-}
-
 /// How the walk went: method, absorption treatment and cost.
 #[derive(Debug, Clone, Serialize)]
 pub struct WalkSummary {
@@ -250,13 +179,11 @@ pub struct WalkSummary {
     pub max_steps: u64,
 }
 
-/// The full report of one run; its serde form is the JSON report.
+/// Everything one run tells about its medium, as plain data; its serde form is the body of
+/// the JSON report (the report adds the version, the model's label and the wall-clock
+/// time).
 #[derive(Debug, Clone, Serialize)]
-pub struct RunReport {
-    /// sojourn version that made the report.
-    pub sojourn_version: String,
-    /// The model.
-    pub model: ModelSummary,
+pub struct RunAnalysis {
     /// Sphere or slab.
     pub geometry: Geometry,
     /// Walk method.
@@ -292,24 +219,27 @@ pub struct RunReport {
     pub resolved: Option<ResolvedSummary>,
     /// One-line caveats for the reader.
     pub notes: Vec<String>,
-    /// Wall-clock time of the run, s (varies run to run).
-    pub elapsed_s: f64,
 }
 
-impl RunReport {
-    /// Builds the report of `result`, a run of `config` on `medium` read from `file`.
-    pub fn new(medium: &Medium, file: &str, config: &RunConfig, result: &RunResult) -> Self {
-        let tally = &result.tally;
-        let estimate = diffusion::estimate(medium);
+impl RunAnalysis {
+    /// The analysis of `tally`, the photons of a run of `config` on `medium`.
+    pub fn new(medium: &Medium, config: &RunConfig, tally: &Tally) -> Self {
         let escapes = tally.all_escapes();
         let escape_time = DistributionSummary::of_time(&escapes);
         let scatterings = DistributionSummary::of_scatterings(&escapes);
         let is_slab = medium.geometry() == Geometry::Slab;
-        let comparison = compare(medium, tally, &escapes, &estimate);
         let launched = tally.launched().max(1) as f64;
-        let walk = tally.walk();
-        let total_time = walk.total_time_s.value();
-        let accelerated = config.method != Method::Direct;
+        let entering = 1.0 - tally.specular().count() as f64 / launched;
+        let slab = slab_diffusion(medium, tally);
+        let (diffusion, theory_notes) = DiffusionSummary::new(medium, slab.as_ref(), entering);
+        let comparison = compare(
+            medium,
+            tally,
+            &escapes,
+            &diffusion,
+            theory_notes,
+            slab.as_ref(),
+        );
         let mut notes = vec!["absorption is analog: an absorbed photon ends its walk".to_string()];
         if medium.geometry() == Geometry::Sphere {
             notes.push(
@@ -318,15 +248,7 @@ impl RunReport {
                     .to_string(),
             );
         }
-        if medium.layers().iter().any(|layer| layer.albedo() < 1.0) {
-            notes.push(
-                "the medium absorbs: the diffusion mean times are those of conservative \
-                 diffusion, while absorption removes long paths from the Monte Carlo escape \
-                 times, so the time ratios fall below 1"
-                    .to_string(),
-            );
-        }
-        notes.extend(super::profile_report::profile_notes(medium));
+        notes.extend(super::profile::profile_notes(medium));
         if tally.censored().count() > 0 {
             notes.push(format!(
                 "{} photons hit the step cap ({}) and are counted as censored; raise \
@@ -336,20 +258,12 @@ impl RunReport {
             ));
         }
         Self {
-            sojourn_version: env!("CARGO_PKG_VERSION").to_string(),
-            model: ModelSummary {
-                name: medium.name().to_string(),
-                file: file.to_string(),
-                layers: medium.layers().len(),
-                size_cm: medium.size_cm(),
-                length_unit: medium.display_unit().symbol().to_string(),
-            },
             geometry: medium.geometry(),
             method: config.method.name().to_string(),
             absorption: "analog".to_string(),
             photons: tally.launched(),
             seed: config.seed,
-            optical_depth: estimate.optical_depth,
+            optical_depth: diffusion.optical_depth,
             outcome: outcome_fractions(tally, is_slab),
             escape_time: escape_time.seconds(),
             scatterings,
@@ -357,25 +271,36 @@ impl RunReport {
                 .then(|| DistributionSummary::of_time(tally.reflected()).seconds()),
             transmitted_time: is_slab
                 .then(|| DistributionSummary::of_time(tally.transmitted()).seconds()),
-            diffusion: DiffusionSummary::from(&estimate),
+            diffusion,
             comparison,
-            walk: WalkSummary {
-                gamma: accelerated.then_some(config.acceleration.gamma),
-                epsilon: accelerated.then_some(config.acceleration.epsilon),
-                drift_correction: accelerated.then_some(config.acceleration.drift_correction),
-                jumps_per_photon: walk.jumps.value() / launched,
-                direct_steps_per_photon: walk.direct_steps.value() / launched,
-                jump_time_fraction: if total_time > 0.0 {
-                    walk.jump_time_s.value() / total_time
-                } else {
-                    0.0
-                },
-                max_steps: config.limits.max_steps,
-            },
-            slab_diffusion: slab_diffusion(medium, tally),
+            walk: WalkSummary::new(config, tally),
+            slab_diffusion: slab,
             resolved: resolved_summary(medium, tally),
             notes,
-            elapsed_s: result.elapsed_s,
+        }
+    }
+}
+
+impl WalkSummary {
+    /// The walk of `tally`'s photons, run with `config`. A new field goes into the struct
+    /// and here, nowhere else.
+    pub fn new(config: &RunConfig, tally: &Tally) -> Self {
+        let launched = tally.launched().max(1) as f64;
+        let walk = tally.walk();
+        let total_time = walk.total_time_s.value();
+        let accelerated = config.method != Method::Direct;
+        Self {
+            gamma: accelerated.then_some(config.acceleration.gamma),
+            epsilon: accelerated.then_some(config.acceleration.epsilon),
+            drift_correction: accelerated.then_some(config.acceleration.drift_correction),
+            jumps_per_photon: walk.jumps.value() / launched,
+            direct_steps_per_photon: walk.direct_steps.value() / launched,
+            jump_time_fraction: if total_time > 0.0 {
+                walk.jump_time_s.value() / total_time
+            } else {
+                0.0
+            },
+            max_steps: config.limits.max_steps,
         }
     }
 }
@@ -402,31 +327,5 @@ fn outcome_fractions(tally: &Tally, is_slab: bool) -> OutcomeFractions {
             absorbed: absorbed_err,
             censored: censored_err,
         },
-    }
-}
-
-fn compare(
-    medium: &Medium,
-    _tally: &Tally,
-    escapes: &PathStats,
-    estimate: &DiffusionEstimate,
-) -> Comparison {
-    let mean = escapes.time_s.mean();
-    let stderr = escapes.time_s.std_error();
-    let ratio = |reference: f64| mean.filter(|_| reference > 0.0).map(|m| m / reference);
-    let time_ratio = ratio(estimate.mean_time_extrapolated_s);
-    Comparison {
-        time_ratio,
-        time_ratio_stderr: stderr
-            .filter(|_| estimate.mean_time_extrapolated_s > 0.0)
-            .map(|s| s / estimate.mean_time_extrapolated_s),
-        time_ratio_plain: ratio(estimate.mean_time_s),
-        naive_time_ratio: ratio(estimate.naive_time_s),
-        scatterings_ratio: escapes
-            .scatterings
-            .mean()
-            .filter(|_| estimate.mean_scatterings_extrapolated > 0.0)
-            .map(|n| n / estimate.mean_scatterings_extrapolated),
-        ks_distance: diffusion::first_passage_ks_distance(medium, escapes),
     }
 }

@@ -1,9 +1,10 @@
-//! The profile report (`sojourn profile`): the optical structure of a sphere and where its
-//! diffusion time accrues, with no Monte Carlo.
+//! The profile analysis (`sojourn profile`): the optical structure of a sphere and where
+//! its diffusion time accrues, with no Monte Carlo.
 //!
 //! Per shell (every sub-shell of a tabulated profile, every plain layer): radius, density,
 //! temperature, opacity, mean free path l, optical depth from the surface, and the diffusion
-//! time from the centre, T = (1/c) ∫₀^R r / l_tr(r) dr (../shared/REFERENCES.md item 3),
+//! time from the centre, T = (1/c) ∫₀^R r / l_tr(r) dr (Krapivsky, Redner & Ben-Naim 2010,
+//! problem 2.21; docs/references.md),
 //! with each shell's part (1/c) ∫_shell r / l_tr dr and its share of T: the *time budget*.
 //! That share says how much each shell's opacity adds to the mean exit time (∂T/∂σ_tr(r) =
 //! r/c); where the radiation *resides* meanwhile is the Green's-function residence time of
@@ -11,6 +12,7 @@
 
 use serde::Serialize;
 
+use super::theory::{DiffusionSummary, EscapeTimeTheory};
 use crate::diffusion::{self, MILNE_EXTRAPOLATION_LENGTH};
 use crate::medium::profile::ProfileSummary;
 use crate::medium::{Geometry, Medium, MediumError};
@@ -77,6 +79,12 @@ pub struct ProfileDiffusion {
     pub mean_scatterings_extrapolated: f64,
     /// `naive_time_s` / `mean_time_s`: how far the rule of thumb is off.
     pub naive_over_diffusion: f64,
+    /// Fraction of the radiation that diffusion lets leave (1 for a conservative sphere;
+    /// null where a layer absorbs, see [`DiffusionSummary`]).
+    pub escape_probability: Option<f64>,
+    /// The escape time from the centre, conditional on escape, as in a run's
+    /// `diffusion.escape_time` ([`DiffusionSummary`]).
+    pub escape_time: EscapeTimeTheory,
 }
 
 /// Where the diffusion time accrues: radii inside which given fractions of
@@ -107,28 +115,10 @@ pub struct ProfileRepresentation {
     pub layers: Vec<ProfileSummary>,
 }
 
-/// The model the report describes.
+/// The analysis of a sphere's profile (`sojourn profile`); its serde form is the body of
+/// the JSON output (the report adds the version and the model's label).
 #[derive(Debug, Clone, Serialize)]
-pub struct ProfileModel {
-    /// Name given in the model file.
-    pub name: String,
-    /// File the model was read from.
-    pub file: String,
-    /// Shells (profile sub-shells count one each).
-    pub shells: usize,
-    /// Length unit the model file used.
-    pub length_unit: String,
-    /// Centimetres in one of that unit.
-    pub length_unit_cm: f64,
-}
-
-/// The full report of `sojourn profile`; its serde form is the JSON output.
-#[derive(Debug, Clone, Serialize)]
-pub struct ProfileReport {
-    /// sojourn version that made the report.
-    pub sojourn_version: String,
-    /// The model.
-    pub model: ProfileModel,
+pub struct ProfileAnalysis {
     /// Outer radius of the medium, cm.
     pub radius_cm: f64,
     /// Optical depth from the centre to the surface along a radius.
@@ -176,13 +166,13 @@ fn accrual_radius(shells: &[ShellRow], total: f64, fraction: f64) -> f64 {
     shells.last().map_or(0.0, |s| s.radius_cm)
 }
 
-impl ProfileReport {
-    /// The profile report of `medium` (a sphere), read from `file`. Diffusion times are
-    /// from the centre whatever the model's source.
+impl ProfileAnalysis {
+    /// The profile analysis of `medium` (a sphere). Diffusion times are from the centre
+    /// whatever the model's source.
     ///
     /// # Errors
     /// [`MediumError`] if the medium is not a sphere.
-    pub fn new(medium: &Medium, file: &str) -> Result<Self, MediumError> {
+    pub fn new(medium: &Medium) -> Result<Self, MediumError> {
         if medium.geometry() != Geometry::Sphere {
             return Err(MediumError::Invalid {
                 field: "geometry".into(),
@@ -191,6 +181,7 @@ impl ProfileReport {
         }
         let centred = medium.with_sphere_source(0.0)?;
         let estimate = diffusion::estimate(&centred);
+        let (theory, _) = DiffusionSummary::new(&centred, None, 1.0);
         let layers = medium.layers();
         let radius_cm = medium.size_cm();
 
@@ -330,14 +321,6 @@ impl ProfileReport {
         ));
 
         Ok(Self {
-            sojourn_version: env!("CARGO_PKG_VERSION").to_string(),
-            model: ProfileModel {
-                name: medium.name().to_string(),
-                file: file.to_string(),
-                shells: layers.len(),
-                length_unit: medium.display_unit().symbol().to_string(),
-                length_unit_cm: medium.display_unit().to_cm(),
-            },
             radius_cm,
             optical_depth,
             photosphere_radius_cm,
@@ -355,6 +338,8 @@ impl ProfileReport {
                 mean_scatterings: estimate.mean_scatterings,
                 mean_scatterings_extrapolated: estimate.mean_scatterings_extrapolated,
                 naive_over_diffusion: share(estimate.naive_time_s, estimate.mean_time_s),
+                escape_probability: theory.escape_probability,
+                escape_time: theory.escape_time,
             },
             time_budget,
             profile,
@@ -426,7 +411,7 @@ mod tests {
         let inner = Layer::new("core", 100.0, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
         let outer = Layer::new("envelope", 1.0, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
         let medium = Medium::sphere(vec![(0.5, inner), (2.0, outer)], Source::centre()).unwrap();
-        let report = ProfileReport::new(&medium, "test").unwrap();
+        let report = ProfileAnalysis::new(&medium).unwrap();
         // τ = 100·0.5 + 1·1.5 = 51.5; photosphere 2/3 cm below the surface.
         assert!((report.optical_depth - 51.5).abs() < 1e-12);
         assert!((report.photosphere_radius_cm.unwrap() - (2.0 - 2.0 / 3.0)).abs() < 1e-12);

@@ -1,18 +1,19 @@
-//! The slab-optics part of a report: steady and time-resolved diffusion theory beside the
-//! Monte Carlo result, resolved tallies turned into physical quantities, and the flags that
-//! say where diffusion theory should not be trusted.
+//! The slab-optics part of a run's analysis: steady and time-resolved diffusion theory
+//! beside the Monte Carlo result, resolved tallies turned into physical quantities, and the
+//! flags that say where diffusion theory should not be trusted.
 
 use serde::Serialize;
 
 use crate::diffusion::time_resolved::{Boundary, DiffusionSlab, SlabOptics};
-use crate::diffusion::{self};
 use crate::medium::{Geometry, Medium, Source};
-use crate::tally::{ResolvedLayout, ResolvedTally, Tally};
+use crate::tally::{ResolvedTally, Tally};
 use crate::transport::crossing::conservative_h;
+
+use super::decay_fit::{DecayFit, fit_late_decay};
 
 /// Thickness-weighted optical properties of a slab, the single-layer stand-in diffusion
 /// theory uses (exact for a single layer).
-fn equivalent_optics(medium: &Medium) -> SlabOptics {
+pub fn equivalent_optics(medium: &Medium) -> SlabOptics {
     let thickness = medium.size_cm();
     let mut absorption = 0.0;
     let mut reduced_scattering = 0.0;
@@ -31,44 +32,6 @@ fn equivalent_optics(medium: &Medium) -> SlabOptics {
         thickness_cm: thickness,
         n_medium: index,
         n_outside: medium.ambient_above(),
-    }
-}
-
-/// Default resolved-tally bins for a slab: 200 time bins over the longer of four diffusion
-/// mean times and eight diffusion decay times (extrapolated boundary), 100 depth bins,
-/// `cosine_bins` exit-cosine bins, 100 radial bins over 20 transport mean free paths of the
-/// top layer. `time_bin_s` overrides the time-bin width.
-pub fn resolved_layout(
-    medium: &Medium,
-    time_bin_s: Option<f64>,
-    time_bins: usize,
-    cosine_bins: usize,
-) -> ResolvedLayout {
-    let estimate = diffusion::estimate(medium);
-    let decay_time = DiffusionSlab::new(equivalent_optics(medium), Boundary::Extrapolated)
-        .map(|slab| 1.0 / slab.decay_rate_per_s())
-        .unwrap_or(0.0);
-    let span = (4.0 * estimate.mean_time_extrapolated_s).max(8.0 * decay_time);
-    let span = if span > 0.0 && span.is_finite() {
-        span
-    } else {
-        4.0 * estimate.naive_time_s.max(1e-15)
-    };
-    let top_transport = medium.layers()[0].transport_extinction_per_cm();
-    let radial_range = if top_transport > 0.0 {
-        20.0 / top_transport
-    } else {
-        medium.size_cm()
-    };
-    ResolvedLayout {
-        time_bin_s: time_bin_s.unwrap_or(span / time_bins as f64),
-        time_bins,
-        depth_bin_cm: medium.size_cm() / 100.0,
-        depth_bins: 100,
-        cosine_bins,
-        radial_bin_cm: radial_range / 100.0,
-        radial_bins: 100,
-        layers: medium.layers().len(),
     }
 }
 
@@ -159,83 +122,6 @@ pub fn slab_diffusion(medium: &Medium, tally: &Tally) -> Option<SlabDiffusion> {
         decay_rate_per_s: extrapolated.decay_rate_per_s(),
         decay_rate_zero_boundary_per_s: zero.decay_rate_per_s(),
         warnings,
-    })
-}
-
-/// A log-linear fit of the late-time tail of a time-of-flight histogram, with the
-/// diffusion curve fitted over the same bins with the same weights (so that both rates
-/// describe the same stretch of time).
-#[derive(Debug, Clone, Copy, Serialize)]
-pub struct DecayFit {
-    /// Fitted Monte Carlo decay rate, 1/s.
-    pub rate_per_s: f64,
-    /// Its standard error, 1/s.
-    pub stderr_per_s: f64,
-    /// Diffusion theory (extrapolated boundary) fitted over the same window, 1/s.
-    pub diffusion_rate_per_s: Option<f64>,
-    /// Start of the fitted window, s.
-    pub from_s: f64,
-    /// End of the fitted window, s.
-    pub to_s: f64,
-}
-
-/// Weighted least-squares slope of ln(value) against the bin centre over bins
-/// `start..=end`, weights `weights`; returns (slope, its standard error for Poisson counts).
-fn weighted_log_slope(
-    values: &[f64],
-    weights: &[f64],
-    start: usize,
-    end: usize,
-    bin_s: f64,
-) -> Option<(f64, f64)> {
-    let (mut sw, mut st, mut sy, mut stt, mut sty) = (0.0, 0.0, 0.0, 0.0, 0.0);
-    for i in start..=end {
-        let (value, w) = (values[i], weights[i]);
-        if value <= 0.0 || w <= 0.0 {
-            continue;
-        }
-        let t = (i as f64 + 0.5) * bin_s;
-        let y = value.ln();
-        sw += w;
-        st += w * t;
-        sy += w * y;
-        stt += w * t * t;
-        sty += w * t * y;
-    }
-    let denominator = sw * stt - st * st;
-    (denominator > 0.0).then(|| {
-        (
-            (sw * sty - st * sy) / denominator,
-            (sw / denominator).sqrt(),
-        )
-    })
-}
-
-/// Fits ln(count) = a − k t by weighted least squares (weights = counts, the inverse
-/// Poisson variance of ln count) over the late tail: from where the counts have fallen to
-/// 1/20 of the peak (past the early, non-exponential part), to the last bin with at least 25
-/// counts; fits `diffusion` (same bins) over the same window. `None` with fewer than 4
-/// usable bins.
-pub fn fit_late_decay(counts: &[u64], diffusion: &[f64], bin_s: f64) -> Option<DecayFit> {
-    let peak_index = (0..counts.len()).max_by_key(|&i| counts[i])?;
-    let peak = counts[peak_index];
-    let start = (peak_index..counts.len()).find(|&i| 20 * counts[i] <= peak)?;
-    let end = (start..counts.len()).rev().find(|&i| counts[i] >= 25)?;
-    if end < start + 3 {
-        return None;
-    }
-    let weights: Vec<f64> = counts.iter().map(|&c| c as f64).collect();
-    let (slope, stderr) = weighted_log_slope(&weights, &weights, start, end, bin_s)?;
-    let diffusion_rate_per_s = (diffusion.len() == counts.len())
-        .then(|| weighted_log_slope(diffusion, &weights, start, end, bin_s))
-        .flatten()
-        .map(|(slope, _)| -slope);
-    Some(DecayFit {
-        rate_per_s: -slope,
-        stderr_per_s: stderr,
-        diffusion_rate_per_s,
-        from_s: start as f64 * bin_s,
-        to_s: (end + 1) as f64 * bin_s,
     })
 }
 

@@ -1,0 +1,79 @@
+//! The run report: the run's analysis with the version, the model's label and the
+//! wall-clock time; its serde form is the JSON report, whose keys the README documents.
+
+use serde::Serialize;
+
+use crate::analysis::RunAnalysis;
+use crate::medium::Medium;
+use crate::simulation::{RunConfig, RunResult};
+
+/// Where the model came from and what it is.
+#[derive(Debug, Clone, Serialize)]
+pub struct ModelSummary {
+    /// Name given in the model file.
+    pub name: String,
+    /// File the model was read from (or the embedded demo label).
+    pub file: String,
+    /// Number of layers.
+    pub layers: usize,
+    /// Outer radius (sphere) or thickness (slab), cm.
+    pub size_cm: f64,
+    /// Length unit the model file used.
+    pub length_unit: String,
+}
+
+impl ModelSummary {
+    /// The summary of `medium`, read from `file`.
+    pub fn new(medium: &Medium, file: &str) -> Self {
+        Self {
+            name: medium.name().to_string(),
+            file: file.to_string(),
+            layers: medium.layers().len(),
+            size_cm: medium.size_cm(),
+            length_unit: medium.display_unit().symbol().to_string(),
+        }
+    }
+}
+
+/// The full report of one run; its serde form is the JSON report (the analysis's keys sit
+/// at the top level, between `model` and `elapsed_s`).
+#[derive(Debug, Clone, Serialize)]
+pub struct RunReport {
+    /// sojourn version that made the report.
+    pub sojourn_version: String,
+    /// The model.
+    pub model: ModelSummary,
+    /// Everything the run tells, as plain data.
+    #[serde(flatten)]
+    pub analysis: RunAnalysis,
+    /// Wall-clock time of the run, s (varies run to run).
+    pub elapsed_s: f64,
+}
+
+impl RunReport {
+    /// Builds the report of `result`, a run of `config` on `medium` read from `file`.
+    pub fn new(medium: &Medium, file: &str, config: &RunConfig, result: &RunResult) -> Self {
+        Self::from_analysis(
+            medium,
+            file,
+            RunAnalysis::new(medium, config, &result.tally),
+            result.elapsed_s,
+        )
+    }
+
+    /// The report of an `analysis` already made (a sweep point's, a merged run's) of
+    /// `medium` read from `file`, which took `elapsed_s` seconds.
+    pub fn from_analysis(
+        medium: &Medium,
+        file: &str,
+        analysis: RunAnalysis,
+        elapsed_s: f64,
+    ) -> Self {
+        Self {
+            sojourn_version: env!("CARGO_PKG_VERSION").to_string(),
+            model: ModelSummary::new(medium, file),
+            analysis,
+            elapsed_s,
+        }
+    }
+}

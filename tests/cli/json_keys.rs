@@ -1,0 +1,214 @@
+//! The JSON outputs keep every key they had before the analysis layer was split from the
+//! report: the key paths of fixed-seed runs of `run`, a shard file, `merge`, `profile` and
+//! a sweep's table are compared with the lists in `tests/cli/json_keys/`, recorded from the
+//! outputs of sojourn 0.1 before the split (the same commands). A key may be added only by
+//! listing it in [`ADDED`] (and documenting it in the README's JSON tables); none may
+//! disappear.
+
+use std::collections::BTreeSet;
+use std::path::Path;
+
+use serde_json::Value;
+
+use super::scale_support::{s, succeed};
+
+/// Keys added since the recorded lists, each documented in the README.
+const ADDED: &[&str] = &[
+    "comparison.ks_p_value",
+    "comparison.times_comparable",
+    "comparison.verdict",
+    "comparison.verdict.trustworthy",
+    "comparison.verdict.reason",
+    "comparison.notes",
+    "diffusion.source_depth_cm",
+    "diffusion.escape_probability",
+    "diffusion.escape_time",
+    "diffusion.escape_time.mean_s",
+    "diffusion.escape_time.median_s",
+    "diffusion.escape_time.p05_s",
+    "diffusion.escape_time.p95_s",
+    "diffusion.reflected",
+    "diffusion.transmitted",
+];
+
+/// Key paths of `value`: `a.b` for object keys, `a[]` for the elements of an array (the
+/// union over all elements).
+fn key_paths(value: &Value, prefix: &str, out: &mut BTreeSet<String>) {
+    match value {
+        Value::Object(map) => {
+            for (key, inner) in map {
+                let path = if prefix.is_empty() {
+                    key.clone()
+                } else {
+                    format!("{prefix}.{key}")
+                };
+                out.insert(path.clone());
+                key_paths(inner, &path, out);
+            }
+        }
+        Value::Array(items) => {
+            for item in items {
+                key_paths(item, &format!("{prefix}[]"), out);
+            }
+        }
+        _ => {}
+    }
+}
+
+fn keys_of(value: &Value) -> BTreeSet<String> {
+    let mut out = BTreeSet::new();
+    key_paths(value, "", &mut out);
+    out
+}
+
+/// A recorded list.
+fn recorded(name: &str) -> BTreeSet<String> {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/cli/json_keys")
+        .join(name);
+    std::fs::read_to_string(&path)
+        .unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+        .lines()
+        .map(str::trim)
+        .filter(|l| !l.is_empty())
+        .map(String::from)
+        .collect()
+}
+
+/// Asserts that `actual` holds every recorded key of `name` and nothing else but keys
+/// listed in [`ADDED`] whose parent path exists in `actual`.
+fn assert_same_keys(name: &str, actual: &BTreeSet<String>) {
+    let before = recorded(name);
+    let lost: Vec<&String> = before.difference(actual).collect();
+    assert!(lost.is_empty(), "{name}: keys lost: {lost:?}");
+    let new: Vec<&String> = actual
+        .difference(&before)
+        .filter(|k| !ADDED.contains(&k.as_str()))
+        .collect();
+    assert!(
+        new.is_empty(),
+        "{name}: new keys {new:?}: document them in the README and list them in ADDED"
+    );
+}
+
+fn model(name: &str) -> String {
+    format!("{}/models/{name}", env!("CARGO_MANIFEST_DIR"))
+}
+
+#[test]
+fn run_json_keeps_its_keys() {
+    let sphere = succeed(&[
+        "run",
+        &model("test-sphere-tau20.json"),
+        "--photons",
+        "300",
+        "--seed",
+        "7",
+        "--json",
+        "-",
+    ]);
+    assert_same_keys(
+        "run-sphere.keys",
+        &keys_of(&serde_json::from_str(&sphere).unwrap()),
+    );
+    let slab = succeed(&[
+        "run",
+        &model("opal-diffuser.json"),
+        "--photons",
+        "3000",
+        "--seed",
+        "7",
+        "--resolve",
+        "--json",
+        "-",
+    ]);
+    assert_same_keys(
+        "run-slab-resolved.keys",
+        &keys_of(&serde_json::from_str(&slab).unwrap()),
+    );
+}
+
+#[test]
+fn shard_and_merge_json_keep_their_keys() {
+    let dir = tempfile::tempdir().unwrap();
+    let opal = model("opal-diffuser.json");
+    let mut files = Vec::new();
+    for k in ["1/2", "2/2"] {
+        let file = dir.path().join(format!("shard-{}.json", &k[..1]));
+        succeed(&[
+            "run",
+            &opal,
+            "--photons",
+            "3000",
+            "--seed",
+            "7",
+            "--resolve",
+            "--shard",
+            k,
+            "--json",
+            s(&file),
+            "--quiet",
+        ]);
+        files.push(file);
+    }
+    let text = std::fs::read_to_string(&files[0]).unwrap();
+    let shard: BTreeSet<String> = keys_of(&serde_json::from_str(&text).unwrap())
+        .into_iter()
+        .filter(|k| !k.starts_with("tally.") && !k.starts_with("shard.model."))
+        .collect();
+    let extra = recorded("shard-extra.keys");
+    let lost: Vec<&String> = extra.difference(&shard).collect();
+    assert!(lost.is_empty(), "shard file: keys lost: {lost:?}");
+    // The rest is the run report of the shard's photons (a late-decay fit may be null
+    // with half the photons, so only a subset of the full run's keys is required).
+    let report = recorded("run-slab-resolved.keys");
+    let unknown: Vec<&String> = shard
+        .iter()
+        .filter(|k| !extra.contains(*k) && !report.contains(*k) && !ADDED.contains(&k.as_str()))
+        .collect();
+    assert!(unknown.is_empty(), "shard file: new keys {unknown:?}");
+    let merged = succeed(&["merge", s(&files[0]), s(&files[1]), "--json", "-"]);
+    assert_same_keys(
+        "run-slab-resolved.keys",
+        &keys_of(&serde_json::from_str(&merged).unwrap()),
+    );
+}
+
+#[test]
+fn profile_json_keeps_its_keys() {
+    let profile = succeed(&[
+        "profile",
+        &model("test-polytrope-n3-tau50.json"),
+        "--json",
+        "-",
+    ]);
+    assert_same_keys(
+        "profile.keys",
+        &keys_of(&serde_json::from_str(&profile).unwrap()),
+    );
+}
+
+#[test]
+fn sweep_rows_keep_their_columns() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("spec.json");
+    std::fs::write(
+        &spec,
+        format!(
+            r#"{{ "model": {:?}, "photons": 200, "seed": 7,
+                 "parameters": [ {{ "path": "layers[0].extinction_coefficient", "values": [2, 5] }} ],
+                 "combine": "grid" }}"#,
+            model("test-sphere-tau20.json")
+        ),
+    )
+    .unwrap();
+    let out = dir.path().join("out");
+    succeed(&["sweep", s(&spec), "--out", s(&out), "--quiet"]);
+    let table = std::fs::read_to_string(out.join("sweep.jsonl")).unwrap();
+    for line in table.lines() {
+        assert_same_keys(
+            "sweep-row.keys",
+            &keys_of(&serde_json::from_str(line).unwrap()),
+        );
+    }
+}
