@@ -159,7 +159,10 @@ mod tests {
         for n_rel in [0.6, 0.9, 1.1, 1.33, 1.4, 2.0, 3.9, 4.0, 10.0] {
             let (a, b) = fresnel_moments(n_rel);
             let (c, d) = moments_by_midpoint(n_rel);
-            assert!((a - c).abs() < 1e-6 && (b - d).abs() < 1e-6, "{n_rel}: {a} {c} {b} {d}");
+            assert!(
+                (a - c).abs() < 1e-6 && (b - d).abs() < 1e-6,
+                "{n_rel}: {a} {c} {b} {d}"
+            );
         }
     }
 

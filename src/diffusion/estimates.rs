@@ -489,7 +489,8 @@ fn beam_average(medium: &Medium, layers: &[DiffusionLayer], mu0: f64) -> Residen
     for k in 0..layers.len() {
         sources_below -= above[k];
         average.per_layer_s.push(
-            sources_below.max(0.0) * green.w_integral[k] + sources_above * green.complement(k)
+            sources_below.max(0.0) * green.w_integral[k]
+                + sources_above * green.complement(k)
                 + own[k],
         );
         sources_above += below[k];
@@ -600,8 +601,7 @@ mod tests {
             Source::SlabPlane { depth_cm: 0.37 },
         ] {
             let one = Medium::slab(vec![(1.0, layer.clone())], 1.0, source).unwrap();
-            let many =
-                Medium::slab(vec![(1e-3, layer.clone()); 1000], 1.0, source).unwrap();
+            let many = Medium::slab(vec![(1e-3, layer.clone()); 1000], 1.0, source).unwrap();
             let (a, b) = (estimate(&one), estimate(&many));
             for (x, y) in [
                 (a.mean_time_s, b.mean_time_s),

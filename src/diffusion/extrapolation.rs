@@ -16,8 +16,6 @@ pub(crate) struct FaceExtension {
     pub transport_per_cm: f64,
     /// Scattering coefficient of the continuation, 1/cm.
     pub scattering_per_cm: f64,
-    /// Absorption coefficient of the continuation, 1/cm.
-    pub absorption_per_cm: f64,
     /// Refractive index of the continuation (that of the face layer).
     pub refractive_index: f64,
 }
@@ -30,8 +28,8 @@ pub(crate) struct FaceExtension {
 /// The length is q∞ l_tr at a matched face and (2/3) A l_tr at a refractive one
 /// ([`extrapolation_length_mfp`]). Where the face layer is one sub-shell of a smooth
 /// profile (its inner division marked smooth, [`Medium::is_sharp_boundary`]) and is thinner
-/// than q∞ transport optical depths, the continuation takes the mean transport extinction,
-/// scattering and absorption of the outermost q∞ transport optical depths of the profile
+/// than q∞ transport optical depths, the continuation takes the mean transport extinction
+/// and scattering of the outermost q∞ transport optical depths of the profile
 /// instead: the Milne condition is a statement in optical depth, and a tenuous outermost
 /// sub-shell (ρ → 0 at a stellar surface) would otherwise set an extrapolation length of
 /// its own mean free path. Layers bounded by sharp interfaces (every plain model) take
@@ -55,8 +53,7 @@ pub(crate) fn face_extension(
     };
     if own_depth < MILNE_EXTRAPOLATION_LENGTH && joined_to_next(index) {
         // Average over the outermost q∞ transport optical depths of the smooth run.
-        let (mut depth, mut length, mut scattering_length, mut absorption_length) =
-            (0.0, 0.0, 0.0, 0.0);
+        let (mut depth, mut length, mut scattering_length) = (0.0, 0.0, 0.0);
         let mut k = index;
         loop {
             let here = &medium.layers()[k];
@@ -71,7 +68,6 @@ pub(crate) fn face_extension(
             depth += sigma * piece;
             length += piece;
             scattering_length += here.scattering_per_cm() * piece;
-            absorption_length += here.absorption_per_cm() * piece;
             if depth >= MILNE_EXTRAPOLATION_LENGTH || !joined_to_next(k) {
                 break;
             }
@@ -85,7 +81,6 @@ pub(crate) fn face_extension(
             length_cm: MILNE_EXTRAPOLATION_LENGTH / mean_transport,
             transport_per_cm: mean_transport,
             scattering_per_cm: scattering_length / length,
-            absorption_per_cm: absorption_length / length,
             refractive_index: layer.refractive_index(),
         });
     }
@@ -97,7 +92,6 @@ pub(crate) fn face_extension(
         length_cm: extrapolation_length_mfp(relative_index) / transport,
         transport_per_cm: transport,
         scattering_per_cm: layer.scattering_per_cm(),
-        absorption_per_cm: layer.absorption_per_cm(),
         refractive_index: layer.refractive_index(),
     })
 }

@@ -1,5 +1,7 @@
 //! Diffusion theory: the rule of thumb, mean exit times on the model's own layers, the exact
-//! first-passage distribution of diffusion out of a sphere, time-resolved slab diffusion.
+//! first-passage distribution of diffusion out of a sphere, time-resolved slab diffusion,
+//! and the time-dependent diffusion solver on the model's own layers and profiles
+//! ([`transient`]).
 
 pub mod boundary;
 mod estimates;
@@ -9,6 +11,7 @@ pub mod ks;
 mod quadrature;
 mod sphere_check;
 pub mod time_resolved;
+pub mod transient;
 
 pub use boundary::MILNE_EXTRAPOLATION_LENGTH;
 pub use estimates::{DiffusionEstimate, estimate};

@@ -33,7 +33,6 @@ pub(crate) fn gauss_legendre_5(g: impl Fn(f64) -> f64, a: f64, b: f64, panels: u
 /// found as roots of P_n by Newton's method from Tricomi's starting values, the weights
 /// from `2 / ((1 − x²) P_n′(x)²)` (Abramowitz & Stegun 1964, eq. 25.4.29; the usual
 /// construction, e.g. Press et al., *Numerical Recipes*, 3rd ed., §4.6.1).
-#[allow(dead_code)]
 pub(crate) fn gauss_legendre_unit(n: usize) -> Vec<(f64, f64)> {
     let mut rule = Vec::with_capacity(n);
     for i in 0..n {
@@ -75,7 +74,10 @@ mod tests {
             assert!((total - 1.0).abs() < 1e-14, "{n}: {total}");
             for k in 0..(2 * n) as i32 {
                 let integral: f64 = rule.iter().map(|(x, w)| w * x.powi(k)).sum();
-                assert!((integral - 1.0 / (k + 1) as f64).abs() < 1e-13, "{n}, x^{k}");
+                assert!(
+                    (integral - 1.0 / (k + 1) as f64).abs() < 1e-13,
+                    "{n}, x^{k}"
+                );
             }
         }
     }

@@ -638,14 +638,8 @@ mod tests {
         // A denser outside medium is a valid face (A slightly above 1), and so is a large
         // index step, where total internal reflection makes A large but finite.
         for n_outside in [1.5, 0.35] {
-            let slab = DiffusionSlab::new(
-                SlabOptics {
-                    n_outside,
-                    ..good
-                },
-                Boundary::Extrapolated,
-            )
-            .unwrap();
+            let slab = DiffusionSlab::new(SlabOptics { n_outside, ..good }, Boundary::Extrapolated)
+                .unwrap();
             assert!(slab.extrapolation_length_cm() > 0.0);
             assert!(slab.steady_reflectance().is_finite());
         }
