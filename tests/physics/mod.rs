@@ -2,6 +2,7 @@
 //! (../shared/REFERENCES.md).
 
 mod accelerated;
+mod diffusion_solver;
 mod exact_stepping;
 mod h_function;
 mod phase_functions;

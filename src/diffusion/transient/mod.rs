@@ -53,15 +53,15 @@
 //! use sojourn::medium::{Layer, Medium, Source};
 //! use sojourn::transport::PhaseFunction;
 //!
-//! // A uniform conservative sphere of optical radius 30 with a centred source.
-//! let layer = Layer::new("", 30.0, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
+//! // A uniform conservative sphere of optical radius 100 with a centred source.
+//! let layer = Layer::new("", 100.0, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
 //! let medium = Medium::sphere(vec![(1.0, layer)], Source::centre()).unwrap();
 //! let solution = solve(&medium).unwrap();
 //! assert!((solution.escape_probability() - 1.0).abs() < 1e-9);
 //! let median = solution.escape_quantile_s(0.5).unwrap();
 //! assert!((solution.escape_cdf(median) - 0.5).abs() < 1e-9);
-//! // Mean exit time (τ + q∞)² l / (2c) with the extrapolated boundary.
-//! let expected = (30.0f64 + 0.7104461).powi(2) / 30.0 / (2.0 * 2.99792458e10);
+//! // Mean exit time close to (τ + q∞)² l / (2c) with the extrapolated boundary.
+//! let expected = (100.0f64 + 0.7104461).powi(2) / 100.0 / (2.0 * 2.99792458e10);
 //! assert!((solution.mean_escape_time_s().unwrap() / expected - 1.0).abs() < 1e-3);
 //! assert_eq!(solution.exit_probability(Exit::Top), 0.0);
 //! ```
