@@ -180,6 +180,11 @@ mod tests {
             let a = boundary_factor_a(n_rel);
             assert!(a.is_finite() && a > 40.0, "{n_rel}: {a}");
         }
+        // A(4) from the moments of the midpoint rule above: 49.047.
+        let (r_phi, r_j) = moments_by_midpoint(4.0);
+        let midpoint = (1.0 + r_j) / (1.0 - r_phi);
+        assert!((boundary_factor_a(4.0) / midpoint - 1.0).abs() < 1e-4);
+        assert!((boundary_factor_a(4.0) - 49.05).abs() < 0.01);
         // Below 1 nothing is totally reflected and A is close to 1.
         let a = boundary_factor_a(0.7);
         assert!(a > 1.0 && a < 1.3, "{a}");

@@ -382,8 +382,8 @@ fn convergence_is_second_order() {
         })
         .collect();
     for pair in errors.windows(2) {
-        for quantity in 0..3 {
-            let ratio = pair[0][quantity] / pair[1][quantity];
+        for (quantity, (coarse, fine)) in pair[0].iter().zip(&pair[1]).enumerate() {
+            let ratio = coarse / fine;
             assert!(
                 (3.3..4.7).contains(&ratio),
                 "quantity {quantity}: errors {errors:?}"

@@ -134,14 +134,16 @@ impl EscapeSolution {
 
     /// The late decay rate λ₁, s⁻¹: the smallest eigenvalue of the discretised diffusion
     /// operator (absorption included). Survival, escape rate and absorption rate all decay
-    /// as e^(−λ₁ t) at late times. Exact for the discrete operator (bisection on its inertia).
+    /// as e^(−λ₁ t) at late times. That of the discrete operator to rounding (bisection on
+    /// its inertia); it converges to the continuum value at second order.
     pub fn decay_rate_per_s(&self) -> f64 {
         self.decay_rate_per_s
     }
 
     /// Fraction of the launched photons still diffusing inside the medium at time `t_s`
-    /// (s): neither escaped nor absorbed. 0 before any photon is placed only if the source
-    /// places none.
+    /// (s): neither escaped nor absorbed. At t ≤ 0 it is the fraction the source puts into
+    /// the diffusing medium (less than 1 after a specular reflection, a collimated
+    /// transmission or absorption before the first isotropic scattering).
     pub fn survival(&self, t_s: f64) -> f64 {
         let h = &self.history;
         if t_s.is_nan() {

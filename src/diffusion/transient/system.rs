@@ -35,6 +35,8 @@ pub(super) struct System {
     /// Escape conductance through the start face (slab top; 0 for a sphere) at node 0, and
     /// through the end face at the last node, s⁻¹.
     pub escape: [f64; 2],
+    /// Diagonal of K (links, absorption and escape at each node), s⁻¹.
+    pub diagonal: Vec<f64>,
     /// Photons at each node at t = 0, per launched photon.
     pub initial: Vec<f64>,
     /// Capacity of each node by model layer: (node, layer, capacity part).
@@ -196,15 +198,18 @@ impl System {
                 (node < count).then_some((node, layer, part))
             })
             .collect();
-        System {
+        let mut system = System {
             capacity: nodes.iter().map(|n| n.capacity).collect(),
             link: links,
             absorption: nodes.iter().map(|n| n.absorption).collect(),
             escape: [start_escape, end_escape],
+            diagonal: Vec::new(),
             initial: nodes.iter().map(|n| n.initial).collect(),
             layer_parts,
             prompt,
-        }
+        };
+        system.diagonal = (0..count).map(|i| system.diagonal_sum(i)).collect();
+        system
     }
 
     /// Number of unknown nodes.
@@ -214,6 +219,11 @@ impl System {
 
     /// Diagonal of K at node `i`.
     pub fn stiffness_diagonal(&self, i: usize) -> f64 {
+        self.diagonal[i]
+    }
+
+    /// Diagonal of K at node `i` from its parts.
+    fn diagonal_sum(&self, i: usize) -> f64 {
         let mut d = self.absorption[i];
         if i > 0 {
             d += self.link[i - 1];
@@ -232,15 +242,13 @@ impl System {
 
     /// `K w` into `out`.
     pub fn apply_stiffness(&self, w: &[f64], out: &mut [f64]) {
-        for i in 0..self.len() {
-            let mut v = self.stiffness_diagonal(i) * w[i];
-            if i > 0 {
-                v -= self.link[i - 1] * w[i - 1];
-            }
-            if i < self.link.len() {
-                v -= self.link[i] * w[i + 1];
-            }
-            out[i] = v;
+        let n = self.len();
+        for i in 0..n {
+            out[i] = self.diagonal[i] * w[i];
+        }
+        for (i, &g) in self.link.iter().enumerate() {
+            out[i] -= g * w[i + 1];
+            out[i + 1] -= g * w[i];
         }
     }
 

@@ -8,7 +8,8 @@
 //! number of negative pivots of the LDLᵀ factorisation of `K − σC` is the number of
 //! eigenvalues below σ (Sylvester's law of inertia; the Sturm-sequence count of Golub & Van
 //! Loan, *Matrix Computations*, 4th ed., §8.4.1), so bisection on it gives λ₁ of the discrete
-//! operator to the last bits.
+//! operator to rounding: the factorisation is backward stable, so the relative error is
+//! about ε λ_max/λ₁ (4e−12 for a uniform chain of 200 nodes).
 
 use super::system::System;
 
@@ -23,14 +24,14 @@ pub(super) fn solve(
     scratch: &mut [f64],
 ) {
     let n = system.len();
-    let diagonal = |i: usize| alpha * system.capacity[i] + beta * system.stiffness_diagonal(i);
-    let off = |i: usize| -beta * system.link[i];
-    let mut pivot = diagonal(0);
-    out[0] = rhs[0] / pivot;
+    let (capacity, diagonal, link) = (&system.capacity, &system.diagonal, &system.link);
+    let mut inverse = 1.0 / (alpha * capacity[0] + beta * diagonal[0]);
+    out[0] = rhs[0] * inverse;
     for i in 1..n {
-        scratch[i - 1] = off(i - 1) / pivot;
-        pivot = diagonal(i) - off(i - 1) * scratch[i - 1];
-        out[i] = (rhs[i] - off(i - 1) * out[i - 1]) / pivot;
+        let off = -beta * link[i - 1];
+        scratch[i - 1] = off * inverse;
+        inverse = 1.0 / (alpha * capacity[i] + beta * diagonal[i] - off * scratch[i - 1]);
+        out[i] = (rhs[i] - off * out[i - 1]) * inverse;
     }
     for i in (0..n - 1).rev() {
         out[i] -= scratch[i] * out[i + 1];
@@ -142,4 +143,68 @@ pub(super) fn smallest_eigenpair(system: &System) -> (f64, Vec<f64>) {
         }
     }
     (lambda, x)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::f64::consts::PI;
+
+    /// A uniform chain of `n` nodes: capacity h, links D/h, held at zero beyond both ends.
+    /// Its pencil is (D/h) tridiag(−1, 2, −1) against h I, whose eigenvalues are
+    /// λ_k = (4D/h²) sin²(kπ / (2(n + 1))) with eigenvectors sin(jkπ/(n + 1)) (the discrete
+    /// Laplacian; e.g. Golub & Van Loan 2013, §4.8).
+    fn uniform_chain(n: usize, diffusion: f64) -> System {
+        let h = 1.0 / (n + 1) as f64;
+        let g = diffusion / h;
+        System {
+            capacity: vec![h; n],
+            link: vec![g; n - 1],
+            absorption: vec![0.0; n],
+            escape: [g, g],
+            diagonal: vec![2.0 * g; n],
+            initial: vec![0.0; n],
+            layer_parts: Vec::new(),
+            prompt: Vec::new(),
+        }
+    }
+
+    #[test]
+    fn smallest_eigenvalue_of_the_discrete_laplacian_is_exact() {
+        let (n, diffusion) = (200, 3.0);
+        let system = uniform_chain(n, diffusion);
+        let h = 1.0 / (n + 1) as f64;
+        let exact = |k: usize| {
+            4.0 * diffusion / (h * h) * (k as f64 * PI / (2.0 * (n + 1) as f64)).sin().powi(2)
+        };
+        let (lambda, mode) = smallest_eigenpair(&system);
+        // Rounding: ε λ_max/λ₁ ≈ 2.2e−16 × 1.6e4 = 3.6e−12.
+        assert!(
+            (lambda / exact(1) - 1.0).abs() < 1e-11,
+            "{lambda} vs {}",
+            exact(1)
+        );
+        // The eigenvector is the first sine, C-normalised: Σ h sin² = 1/2 → amplitude √2.
+        for (j, &x) in mode.iter().enumerate() {
+            let expected = 2f64.sqrt() * ((j + 1) as f64 * PI * h).sin();
+            assert!((x - expected).abs() < 1e-7, "node {j}: {x} vs {expected}");
+        }
+        // Inertia: two eigenvalues lie below the midpoint of λ₂ and λ₃.
+        assert_eq!(count_below(&system, 0.5 * (exact(2) + exact(3))), 2);
+        assert_eq!(count_below(&system, 0.999 * exact(1)), 0);
+    }
+
+    #[test]
+    fn thomas_solve_inverts_the_shifted_matrix() {
+        let system = uniform_chain(50, 0.7);
+        let rhs: Vec<f64> = (0..50).map(|i| (i as f64 * 0.37).sin() + 1.5).collect();
+        let (mut x, mut scratch, mut kx) = (vec![0.0; 50], vec![0.0; 50], vec![0.0; 50]);
+        let (alpha, beta) = (1.3, 0.02);
+        solve(&system, alpha, beta, &rhs, &mut x, &mut scratch);
+        system.apply_stiffness(&x, &mut kx);
+        for i in 0..50 {
+            let lhs = alpha * system.capacity[i] * x[i] + beta * kx[i];
+            assert!((lhs - rhs[i]).abs() < 1e-12 * rhs[i].abs(), "row {i}");
+        }
+    }
 }
