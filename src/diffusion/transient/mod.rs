@@ -36,7 +36,7 @@
 //!
 //! The scheme is second order: errors fall as `resolution⁻²` (element sizes and time steps
 //! both scale as 1/`resolution`), shown in `tests/physics/diffusion_solver.rs`. At the
-//! default resolution the first-passage quantiles of a uniform sphere are within 1e−4 of
+//! default resolution the first-passage quantiles of a uniform sphere are within 3e−4 of
 //! the series solution. The cost is linear in the number of layers: the grid has about
 //! 200 + (one per layer) + (a few dozen per refinement) nodes and the history a few hundred
 //! steps; `cargo run --release --example diffusion_solver_speed` times it.
