@@ -4,7 +4,7 @@
 //! (../shared/REFERENCES.md item 3), with the surface moved out to the Milne extrapolated
 //! radius R + q∞ l_tr.
 
-use super::estimates::MILNE_EXTRAPOLATION_LENGTH;
+use super::boundary::MILNE_EXTRAPOLATION_LENGTH;
 use super::{first_passage, ks};
 use crate::medium::{Geometry, Medium, Source};
 use crate::tally::PathStats;

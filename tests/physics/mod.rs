@@ -3,6 +3,7 @@
 
 mod accelerated;
 mod comparison;
+mod diffusion_solver;
 mod exact_stepping;
 mod h_function;
 mod phase_functions;
