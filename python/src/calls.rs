@@ -12,7 +12,8 @@ use std::str::FromStr;
 use std::time::Instant;
 
 use pyo3::prelude::*;
-use pyo3::types::PyDict;
+use pyo3::exceptions::PyTypeError;
+use pyo3::types::{PyBool, PyDict};
 use rayon::ThreadPool;
 use serde_json::Value;
 
@@ -44,21 +45,53 @@ fn whole(name: &str, value: i128, min: u64, max: u64) -> PyResult<u64> {
     if value >= i128::from(min) && value <= i128::from(max) {
         return Ok(value as u64);
     }
-    let range = if max == u64::MAX {
+    Err(out_of_range(name, &value.to_string(), min, max, value > 0))
+}
+
+/// The refusal of `name = value` outside `min..=max` (`too_large`: above it).
+fn out_of_range(name: &str, value: &str, min: u64, max: u64, too_large: bool) -> PyErr {
+    let range = if max == u64::MAX && !too_large {
         format!(">= {min}")
     } else {
         format!("from {min} to {max}")
     };
-    Err(refused(format!(
-        "{name} = {value}: expected a whole number {range}"
-    )))
+    refused(format!("{name} = {value}: expected a whole number {range}"))
+}
+
+/// A whole-number argument `name` in `min..=max`: an int (or anything with `__index__`,
+/// such as a NumPy integer), `default` when `None`. `TypeError` for other types (bool and
+/// float included), `SojournError` for a value out of range.
+fn whole_arg(
+    name: &str,
+    value: Option<&Bound<'_, PyAny>>,
+    default: u64,
+    min: u64,
+    max: u64,
+) -> PyResult<u64> {
+    let Some(value) = value.filter(|value| !value.is_none()) else {
+        return Ok(default);
+    };
+    if value.is_instance_of::<PyBool>() || !value.hasattr("__index__")? {
+        return Err(PyTypeError::new_err(format!(
+            "{name} = {}: expected a whole number (int), not {}",
+            value.repr()?,
+            crate::type_name(value)
+        )));
+    }
+    let Ok(number) = value.extract::<i128>() else {
+        // Beyond 128 bits: out of every range.
+        let too_large = value.gt(0)?;
+        return Err(out_of_range(name, &value.to_string(), min, max, too_large));
+    };
+    whole(name, number, min, max)
 }
 
 /// The worker threads: `threads` of them (1 to 1024), or one per core.
-fn thread_pool(threads: Option<i128>) -> PyResult<ThreadPool> {
+fn thread_pool(threads: Option<&Bound<'_, PyAny>>) -> PyResult<ThreadPool> {
     let mut builder = rayon::ThreadPoolBuilder::new();
-    if let Some(threads) = threads {
-        builder = builder.num_threads(whole("threads", threads, 1, 1024)? as usize);
+    let threads = whole_arg("threads", threads, 0, 1, 1024)?;
+    if threads > 0 {
+        builder = builder.num_threads(threads as usize);
     }
     builder
         .build()
@@ -160,34 +193,32 @@ impl RunOutput {
 /// `sojourn.run` for the arguments.
 #[pyfunction]
 #[pyo3(signature = (
-    model, *, photons=10_000, seed=1, threads=None, method="auto", absorption="analog",
-    max_steps=None, resolve=false, tof_bin_ps=None, tof_bins=200, cosine_bins=20
+    model, *, photons=None, seed=None, threads=None, method="auto", absorption="analog",
+    max_steps=None, resolve=false, tof_bin_ps=None, tof_bins=None, cosine_bins=None
 ))]
 #[allow(clippy::too_many_arguments)]
 pub fn run(
     py: Python<'_>,
     model: &Model,
-    photons: i128,
-    seed: i128,
-    threads: Option<i128>,
+    photons: Option<&Bound<'_, PyAny>>,
+    seed: Option<&Bound<'_, PyAny>>,
+    threads: Option<&Bound<'_, PyAny>>,
     method: &str,
     absorption: &str,
-    max_steps: Option<i128>,
+    max_steps: Option<&Bound<'_, PyAny>>,
     resolve: bool,
     tof_bin_ps: Option<f64>,
-    tof_bins: i128,
-    cosine_bins: i128,
+    tof_bins: Option<&Bound<'_, PyAny>>,
+    cosine_bins: Option<&Bound<'_, PyAny>>,
 ) -> PyResult<RunOutput> {
-    let photons = whole("photons", photons, 1, u64::MAX)?;
-    let seed = whole("seed", seed, 0, u64::MAX)?;
+    let photons = whole_arg("photons", photons, 10_000, 1, u64::MAX)?;
+    let seed = whole_arg("seed", seed, 1, 0, u64::MAX)?;
     let method = Method::from_str(method).map_err(refused)?;
     check_absorption(absorption)?;
-    let max_steps = match max_steps {
-        Some(steps) => whole("max_steps", steps, 1, u64::MAX)?,
-        None => WalkLimits::default().max_steps,
-    };
-    let tof_bins = whole("tof_bins", tof_bins, 1, 100_000)? as usize;
-    let cosine_bins = whole("cosine_bins", cosine_bins, 1, 10_000)? as usize;
+    let default_steps = WalkLimits::default().max_steps;
+    let max_steps = whole_arg("max_steps", max_steps, default_steps, 1, u64::MAX)?;
+    let tof_bins = whole_arg("tof_bins", tof_bins, 200, 1, 100_000)? as usize;
+    let cosine_bins = whole_arg("cosine_bins", cosine_bins, 20, 1, 10_000)? as usize;
     if let Some(width) = tof_bin_ps {
         if !(width.is_finite() && width > 0.0) {
             return Err(refused(format!(
@@ -272,19 +303,22 @@ fn resolve_spec(
     };
     let label = label.unwrap_or_else(|| SPEC_DICT_LABEL.to_string());
     let directory = base_dir.unwrap_or_default();
+    // A model given in the dict stands in for the file the spec would name.
+    let dict = dict.copy()?;
     let mut given = None;
-    let mut value = to_json(dict, &label, "")?;
     if let Some(entry) = dict.get_item("model")? {
         if let Ok(model) = entry.cast::<Model>() {
             let model = model.get();
             given = Some((model.value().clone(), model.label().to_string()));
         } else if entry.is_instance_of::<PyDict>() {
-            given = Some((to_json(&entry, &label, "model")?, crate::DICT_LABEL.to_string()));
+            let value = to_json(&entry, &label, "model")?;
+            given = Some((value, crate::DICT_LABEL.to_string()));
         }
-        if let (Some((_, model_label)), Value::Object(map)) = (&given, &mut value) {
-            map.insert("model".into(), Value::String(model_label.clone()));
+        if let Some((_, model_label)) = &given {
+            dict.set_item("model", model_label)?;
         }
     }
+    let value = to_json(&dict, &label, "")?;
     let resolved = ResolvedSpec::parse(&value.to_string(), &label, |name| match given {
         Some(model) => Ok(model),
         None => read_named_model(&directory, name),
@@ -302,7 +336,7 @@ pub fn sweep(
     spec: &Bound<'_, PyAny>,
     base_dir: Option<PathBuf>,
     label: Option<String>,
-    threads: Option<i128>,
+    threads: Option<&Bound<'_, PyAny>>,
 ) -> PyResult<String> {
     let (resolved, label) = resolve_spec(spec, base_dir, label)?;
     let sweep = resolved.build(&label).map_err(refused)?;

@@ -164,7 +164,7 @@ pub(crate) fn json_loads<'py>(py: Python<'py>, text: &str) -> PyResult<Bound<'py
 }
 
 /// The Python type name of `object`, for messages.
-fn type_name(object: &Bound<'_, PyAny>) -> String {
+pub(crate) fn type_name(object: &Bound<'_, PyAny>) -> String {
     object
         .get_type()
         .name()
