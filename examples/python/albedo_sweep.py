@@ -77,7 +77,7 @@ def print_table(rows: List[Dict[str, Any]]) -> None:
         ]
         print("  ".join(f"{cell:>12}" for cell in cells))
     try:
-        import pandas
+        import pandas  # type: ignore[import-untyped]
     except ImportError:
         return
     frame = pandas.DataFrame(rows)

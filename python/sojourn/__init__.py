@@ -93,7 +93,8 @@ class RunResult:
     def to_dict(self) -> Dict[str, Any]:
         """The report as a dict: the content of ``sojourn run --json`` for the same run
         (only ``elapsed_s``, the wall-clock time, differs). A fresh copy each call."""
-        return json.loads(self._output.json)
+        report: Dict[str, Any] = json.loads(self._output.json)
+        return report
 
     def to_json(self) -> str:
         """The report as JSON text, formatted as ``sojourn run --json`` writes it."""
@@ -119,7 +120,7 @@ class RunResult:
         return Histogram(np.array(edges, dtype=np.float64), np.array(counts, dtype=np.uint64))
 
     def _resolved(self) -> Mapping[str, Any]:
-        resolved = self._report.get("resolved")
+        resolved: Optional[Mapping[str, Any]] = self._report.get("resolved")
         if resolved is None:
             raise SojournError(
                 "this run kept no resolved tallies: run a slab with resolve=True"
@@ -235,7 +236,8 @@ class ProfileResult:
 
     def to_dict(self) -> Dict[str, Any]:
         """The report as a dict: the content of ``sojourn profile MODEL --json``."""
-        return json.loads(self._text)
+        report: Dict[str, Any] = json.loads(self._text)
+        return report
 
     def to_json(self) -> str:
         """The report as JSON text, as ``sojourn profile --json`` writes it."""

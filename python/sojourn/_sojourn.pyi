@@ -4,14 +4,16 @@ Use the package ``sojourn``, which wraps these in classes with NumPy arrays.
 """
 
 import os
-from typing import Any, Dict, Mapping, Optional, Tuple, Union
+from typing import Any, Dict, Mapping, Optional, Tuple, Union, final
 
+__all__ = ["Model", "RunOutput", "SojournError", "__version__", "profile", "run", "sweep"]
 __version__: str
 
 class SojournError(ValueError):
     """Input that sojourn refuses, with the command line's message (file or label, JSON
     path of the field, the value and what was expected)."""
 
+@final
 class Model:
     """A validated model (model-file format version 1)."""
 
@@ -24,11 +26,11 @@ class Model:
     def from_dict(
         model: Mapping[str, Any],
         *,
-        label: str = "<dict>",
+        label: Optional[str] = None,
         profile_tolerance: Optional[float] = None,
     ) -> "Model":
-        """Validates a model given as a dict in the model-file format; ``label`` stands
-        for the file name in errors and reports."""
+        """Validates a model given as a dict in the model-file format; ``label`` (default
+        ``"<dict>"``) stands for the file name in errors and reports."""
     def to_dict(self) -> Dict[str, Any]:
         """The model as a dict in the model-file format."""
     @property
@@ -44,6 +46,7 @@ class Model:
     def layers(self) -> int:
         """Number of layers the walkers see (a tabulated profile counts its sub-shells)."""
 
+@final
 class RunOutput:
     """What a run gives back: the JSON report and the escape-time histograms."""
 
@@ -57,18 +60,20 @@ class RunOutput:
 def run(
     model: Model,
     *,
-    photons: int = 10000,
-    seed: int = 1,
+    photons: Optional[int] = None,
+    seed: Optional[int] = None,
     threads: Optional[int] = None,
     method: str = "auto",
     absorption: str = "analog",
     max_steps: Optional[int] = None,
     resolve: bool = False,
     tof_bin_ps: Optional[float] = None,
-    tof_bins: int = 200,
-    cosine_bins: int = 20,
+    tof_bins: Optional[int] = None,
+    cosine_bins: Optional[int] = None,
 ) -> RunOutput:
-    """Runs photons through ``model`` as ``sojourn run MODEL --json`` does."""
+    """Runs photons through ``model`` as ``sojourn run MODEL --json`` does; ``None``
+    stands for the defaults of ``sojourn.run`` (10000 photons, seed 1, the default step
+    cap, 200 time bins, 20 cosine bins)."""
 
 def profile(model: Model) -> str:
     """The profile report of a sphere as JSON text (``sojourn profile --json``)."""

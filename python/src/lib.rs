@@ -94,17 +94,18 @@ impl Model {
     }
 
     /// Validates a model given as a dict in the model-file format (the same keys and
-    /// values as the JSON file; lists, tuples and NumPy arrays for arrays). `label` stands
-    /// for the file name in errors and reports. Raises `SojournError` with the message the
-    /// command line gives for the same content in a file named `label`, or `TypeError` for
-    /// a value JSON cannot hold.
+    /// values as the JSON file; lists, tuples and NumPy arrays for arrays). `label`
+    /// (default `"<dict>"`) stands for the file name in errors and reports. Raises
+    /// `SojournError` with the message the command line gives for the same content in a
+    /// file named `label`, or `TypeError` for a value JSON cannot hold.
     #[staticmethod]
-    #[pyo3(signature = (model, *, label=DICT_LABEL.to_string(), profile_tolerance=None))]
+    #[pyo3(signature = (model, *, label=None, profile_tolerance=None))]
     fn from_dict(
         model: &Bound<'_, PyAny>,
-        label: String,
+        label: Option<String>,
         profile_tolerance: Option<f64>,
     ) -> PyResult<Self> {
+        let label = label.unwrap_or_else(|| DICT_LABEL.to_string());
         if !model.is_instance_of::<PyDict>() {
             return Err(PyTypeError::new_err(format!(
                 "Model.from_dict takes a dict, not {}",

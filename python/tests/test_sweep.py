@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import json
 import pathlib
-from typing import Any, Dict, List
+from typing import Any, Dict, List, Tuple
 
 import pytest
 
@@ -71,7 +71,7 @@ def test_rows_are_ready_for_a_data_frame(tmp_path) -> None:
 
 
 # (change to the spec, what the message names)
-BAD_SPECS = {
+BAD_SPECS: Dict[str, Tuple[Dict[str, Any], str]] = {
     "unknown key": ({"photon": 5}, "photon"),
     "bad path": ({"parameters": [{"path": "layers[4].albedo", "values": [1.0]}]}, "parameters[0].path"),
     "invalid point": ({"parameters": [{"path": "layers[0].albedo", "values": [0.5, 1.5]}]}, "point 1"),
