@@ -11,7 +11,7 @@ use serde::{Deserialize, Serialize};
 use super::runner::{PointRecord, results_from_tallies};
 use super::spec::{ResolvedSpec, SpecError};
 use super::{PointResult, Sweep};
-use crate::shard::{MergeError, SHARD_FORMAT, Shard, check_coverage, same};
+use crate::shard::{MergeError, SHARD_FORMAT, Shard, check_coverage, format_problem, same};
 use crate::tally::Tally;
 
 /// What a sweep shard bundle says about itself.
@@ -71,6 +71,15 @@ pub struct MergedSweep {
 /// # Errors
 /// [`MergeError::NotAShard`] or [`MergeError::Damaged`].
 pub fn read_sweep_shard(text: &str, file: &str) -> Result<SweepShard, MergeError> {
+    if let Some(problem) = serde_json::from_str::<serde_json::Value>(text)
+        .ok()
+        .and_then(|value| format_problem(&value, "/sweep_shard/format", SHARD_FORMAT, "shard"))
+    {
+        return Err(MergeError::Damaged {
+            file: file.to_string(),
+            problem,
+        });
+    }
     let content: SweepShardFile = serde_json::from_str(text).map_err(|e| {
         if text.contains("\"sweep_shard\"") {
             MergeError::Damaged {
