@@ -514,6 +514,17 @@ impl LogHistogram {
     }
 
     fn to_repr(&self) -> HistogramRepr {
+        // Runs of consecutive occupied keys: (first key, counts, weight sums).
+        let mut runs: Vec<(u32, Vec<u64>, Vec<WeightSum>)> = Vec::new();
+        for (key, count, weight) in self.occupied() {
+            match runs.last_mut() {
+                Some((start, counts, weights)) if *start + counts.len() as u32 == key => {
+                    counts.push(count);
+                    weights.push(weight);
+                }
+                _ => runs.push((key, vec![count], vec![weight])),
+            }
+        }
         let entry = |bucket: Bucket| CountWeight {
             count: bucket.count,
             weight: (self.weighted && bucket.count > 0).then_some(bucket.weight),
@@ -528,14 +539,16 @@ impl LogHistogram {
             nan: entry(self.nan),
             positive_infinity: entry(self.positive_infinity),
             negative_infinity: entry(self.negative_infinity),
-            bins: self
-                .occupied()
-                .map(|(key, count, weight)| BinRepr {
-                    key,
-                    count,
-                    weight: self.weighted.then_some(weight),
+            bins: runs
+                .iter()
+                .map(|(start, counts, _)| RunRepr {
+                    start: *start,
+                    counts: counts.clone(),
                 })
                 .collect(),
+            bin_weights: self
+                .weighted
+                .then(|| runs.into_iter().map(|(_, _, weights)| weights).collect()),
         }
     }
 
@@ -555,8 +568,7 @@ impl LogHistogram {
             ("positive_infinity", &repr.positive_infinity),
             ("negative_infinity", &repr.negative_infinity),
         ];
-        let weighted = named.iter().any(|(_, b)| b.weight.is_some())
-            || repr.bins.iter().any(|b| b.weight.is_some());
+        let weighted = named.iter().any(|(_, b)| b.weight.is_some()) || repr.bin_weights.is_some();
         let mut histogram = LogHistogram::new();
         histogram.weighted = weighted;
         let check_weight = |field: String, count: u64, weight: Option<WeightSum>| match weight {
@@ -584,33 +596,62 @@ impl LogHistogram {
         let mut total = buckets
             .iter()
             .try_fold(0u64, |sum, b| sum.checked_add(b.count));
+        if let Some(weights) = &repr.bin_weights {
+            let shapes = |runs: &mut dyn Iterator<Item = usize>| runs.collect::<Vec<_>>();
+            let counts = shapes(&mut repr.bins.iter().map(|run| run.counts.len()));
+            if shapes(&mut weights.iter().map(Vec::len)) != counts {
+                return Err(TallyError::weights(
+                    "bin_weights",
+                    "not one weight sum per bin of `bins`",
+                ));
+            }
+        }
         let mut previous: Option<u32> = None;
-        for (index, bin) in repr.bins.iter().enumerate() {
-            let field = format!("bins[{index}]");
-            if !is_valid_key(bin.key) {
-                return Err(TallyError::OutOfRange {
-                    field,
-                    value: format!("bin key {}", bin.key),
-                    allowed: format!(
-                        "the keys of the f64 bin layout ({MIN_KEY}..={MAX_KEY}, see the docs)"
-                    ),
-                });
+        for (run_index, run) in repr.bins.iter().enumerate() {
+            if run.counts.is_empty() {
+                return Err(TallyError::malformed(
+                    format!("bins[{run_index}]"),
+                    "a run of bins without counts",
+                ));
             }
-            if previous.is_some_and(|p| p >= bin.key) {
-                return Err(TallyError::malformed(field, "bin keys must increase"));
+            if previous.is_some_and(|p| run.start == p.wrapping_add(1)) {
+                return Err(TallyError::malformed(
+                    format!("bins[{run_index}]"),
+                    "a run that continues the one before (runs are separated by empty bins)",
+                ));
             }
-            previous = Some(bin.key);
-            if bin.count == 0 {
-                return Err(TallyError::malformed(field, "an empty bin is listed"));
+            for (offset, &count) in run.counts.iter().enumerate() {
+                let field = format!("bins[{run_index}][{}]", offset + 1);
+                let key = run.start.checked_add(offset as u32).unwrap_or(u32::MAX);
+                if !is_valid_key(key) {
+                    return Err(TallyError::OutOfRange {
+                        field,
+                        value: format!("bin key {key}"),
+                        allowed: format!(
+                            "the keys of the f64 bin layout ({MIN_KEY}..={MAX_KEY}, see the docs)"
+                        ),
+                    });
+                }
+                if previous.is_some_and(|p| p >= key) {
+                    return Err(TallyError::malformed(field, "bin keys must increase"));
+                }
+                previous = Some(key);
+                if count == 0 {
+                    return Err(TallyError::malformed(field, "an empty bin is listed"));
+                }
+                let given = repr
+                    .bin_weights
+                    .as_ref()
+                    .map(|weights| weights[run_index][offset]);
+                let weight = check_weight(field, count, given)?;
+                let page = histogram.page_mut(key >> PAGE_BITS, weighted);
+                let slot = key as usize & (PAGE_BINS - 1);
+                page.counts[slot] = count;
+                if let Some(weights) = &mut page.weights {
+                    weights[slot] = weight;
+                }
+                total = total.and_then(|t| t.checked_add(count));
             }
-            let weight = check_weight(field, bin.count, bin.weight)?;
-            let page = histogram.page_mut(bin.key >> PAGE_BITS, weighted);
-            let slot = bin.key as usize & (PAGE_BINS - 1);
-            page.counts[slot] = bin.count;
-            if let Some(weights) = &mut page.weights {
-                weights[slot] = weight;
-            }
-            total = total.and_then(|t| t.checked_add(bin.count));
         }
         let Some(total) = total else {
             return Err(TallyError::OutOfRange {
@@ -801,49 +842,44 @@ impl<'de> Deserialize<'de> for CountWeight {
     }
 }
 
-/// One occupied bin: `[key, count]`, or `[key, count, "weight"]` when weighted.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub(crate) struct BinRepr {
-    key: u32,
-    count: u64,
-    weight: Option<WeightSum>,
+/// A run of consecutive occupied bins: `[first key, count, count, ...]`.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct RunRepr {
+    start: u32,
+    counts: Vec<u64>,
 }
 
-impl Serialize for BinRepr {
+impl Serialize for RunRepr {
     fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
-        let mut tuple = serializer.serialize_tuple(2 + self.weight.is_some() as usize)?;
-        tuple.serialize_element(&self.key)?;
-        tuple.serialize_element(&self.count)?;
-        if let Some(weight) = &self.weight {
-            tuple.serialize_element(weight)?;
+        let mut tuple = serializer.serialize_tuple(1 + self.counts.len())?;
+        tuple.serialize_element(&self.start)?;
+        for count in &self.counts {
+            tuple.serialize_element(count)?;
         }
         tuple.end()
     }
 }
 
-impl<'de> Deserialize<'de> for BinRepr {
+impl<'de> Deserialize<'de> for RunRepr {
     fn deserialize<D: Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
-        struct BinVisitor;
-        impl<'de> Visitor<'de> for BinVisitor {
-            type Value = BinRepr;
+        struct RunVisitor;
+        impl<'de> Visitor<'de> for RunVisitor {
+            type Value = RunRepr;
             fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
-                f.write_str("a bin [key, count] or [key, count, \"weight sum\"]")
+                f.write_str("a run of bins [first key, count, count, ...]")
             }
-            fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<BinRepr, A::Error> {
-                let key = seq
+            fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<RunRepr, A::Error> {
+                let start = seq
                     .next_element()?
                     .ok_or_else(|| de::Error::invalid_length(0, &self))?;
-                let count = seq
-                    .next_element()?
-                    .ok_or_else(|| de::Error::invalid_length(1, &self))?;
-                let weight = seq.next_element()?;
-                if seq.next_element::<de::IgnoredAny>()?.is_some() {
-                    return Err(de::Error::invalid_length(4, &self));
+                let mut counts = Vec::new();
+                while let Some(count) = seq.next_element()? {
+                    counts.push(count);
                 }
-                Ok(BinRepr { key, count, weight })
+                Ok(RunRepr { start, counts })
             }
         }
-        deserializer.deserialize_seq(BinVisitor)
+        deserializer.deserialize_seq(RunVisitor)
     }
 }
 
@@ -868,7 +904,11 @@ pub(crate) struct HistogramRepr {
     positive_infinity: CountWeight,
     #[serde(default, skip_serializing_if = "CountWeight::is_empty")]
     negative_infinity: CountWeight,
-    bins: Vec<BinRepr>,
+    /// Runs of consecutive occupied bins, `[first key, count, ...]`.
+    bins: Vec<RunRepr>,
+    /// Weight sums of the bins of `bins`, run by run (weighted histograms only).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    bin_weights: Option<Vec<Vec<WeightSum>>>,
 }
 
 impl Serialize for LogHistogram {
@@ -1070,8 +1110,12 @@ mod tests {
             "resolution_bits",
         );
         refuse(
-            &|v| v["bins"][0] = serde_json::json!([v["bins"][0][0], 1, "9223372036854775809"]),
+            &|v| v["bin_weights"] = serde_json::json!([["9223372036854775809"], ["0"]]),
             "exceeds",
+        );
+        refuse(
+            &|v| v["bin_weights"] = serde_json::json!([["0"]]),
+            "not one weight sum per bin",
         );
         refuse(
             &|v| v["bins"][0][1] = serde_json::json!(u64::MAX),

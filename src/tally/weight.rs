@@ -49,12 +49,6 @@ impl Weight {
         self.0 as f64 * (1.0 / ONE as f64)
     }
 
-    /// The weight's square, rounded once to the same grid (round half up).
-    pub fn squared(self) -> Weight {
-        let product = self.0 as u128 * self.0 as u128;
-        Weight(((product + (1u128 << (WEIGHT_FRACTION_BITS - 1))) >> WEIGHT_FRACTION_BITS) as u64)
-    }
-
     /// The fixed-point integer, round(w · 2⁶³).
     pub fn raw(self) -> u64 {
         self.0
@@ -160,17 +154,6 @@ mod tests {
         let tiny = 1e-15;
         let rounded = Weight::new(tiny).unwrap().value();
         assert!((rounded - tiny).abs() <= 2f64.powi(-64));
-    }
-
-    #[test]
-    fn squares_stay_below_the_weight() {
-        for w in [1.0, 0.75, 1e-3, 1e-12, 0.0] {
-            let weight = Weight::new(w).unwrap();
-            let square = weight.squared();
-            assert!(square <= weight);
-            assert!((square.value() - w * w).abs() <= 2f64.powi(-62));
-        }
-        assert_eq!(Weight::ONE.squared(), Weight::ONE);
     }
 
     #[test]
