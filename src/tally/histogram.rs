@@ -622,7 +622,7 @@ impl LogHistogram {
             }
             for (offset, &count) in run.counts.iter().enumerate() {
                 let field = format!("bins[{run_index}][{}]", offset + 1);
-                let key = run.start.checked_add(offset as u32).unwrap_or(u32::MAX);
+                let key = run.start.saturating_add(offset as u32);
                 if !is_valid_key(key) {
                     return Err(TallyError::OutOfRange {
                         field,
