@@ -115,12 +115,12 @@ pub enum CheckpointError {
         problem: String,
     },
     /// The checkpoint's tally contradicts itself (edited or damaged).
-    #[error("{file}: not a usable checkpoint: {source}")]
+    #[error("{file}: not a usable checkpoint: {problem}")]
     InvalidTally {
         /// The file.
         file: String,
         /// What is inconsistent, with the path of the field inside the file.
-        source: TallyError,
+        problem: TallyError,
     },
     /// The checkpoint belongs to another run.
     #[error(
@@ -298,7 +298,7 @@ fn load(
     let head: Head = serde_json::from_value(value).map_err(|e| damaged(e.to_string()))?;
     let tally = Tally::from_json(tally).map_err(|e| CheckpointError::InvalidTally {
         file: file.clone(),
-        source: e.within("tally"),
+        problem: e.within("tally"),
     })?;
     let state = Checkpoint {
         format: head.format,

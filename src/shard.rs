@@ -299,12 +299,12 @@ pub enum MergeError {
         problem: String,
     },
     /// A shard file whose tally contradicts itself (edited or damaged).
-    #[error("{file}: damaged shard file: {source}")]
+    #[error("{file}: damaged shard file: {problem}")]
     InvalidTally {
         /// The file.
         file: String,
         /// What is inconsistent, with the path of the field inside the file.
-        source: TallyError,
+        problem: TallyError,
     },
     /// Two shards of different runs (or sweeps).
     #[error("{0}")]
@@ -395,7 +395,7 @@ pub fn read_run_shard(text: &str, file: &str) -> Result<RunShard, MergeError> {
     let parsed: RunShardFile = serde_json::from_value(value).map_err(|e| damaged(e.to_string()))?;
     let tally = Tally::from_json(parsed.tally).map_err(|e| MergeError::InvalidTally {
         file: file.to_string(),
-        source: e.within("tally"),
+        problem: e.within("tally"),
     })?;
     let shard = RunShard {
         info: parsed.shard,
