@@ -6,7 +6,8 @@
 //!
 //! Weighted photons (weights wᵢ ∈ [0, 1]): the mean is the ratio estimator
 //! m = Σwx / Σw. Its variance is estimated by the linearised (delta-method) formula of the
-//! ratio estimator (Cochran 1977, *Sampling Techniques*, 3rd ed., §6.3, eq. 6.9 with no
+//! ratio estimator (Cochran 1977, *Sampling Techniques*, 3rd ed., ch. 6: the sample
+//! estimate of the variance of a ratio under simple random sampling, with no
 //! finite-population correction):
 //!
 //! var(m) ≈ n/(n − 1) · Σ wᵢ² (xᵢ − m)² / (Σw)²,
