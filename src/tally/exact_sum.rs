@@ -37,6 +37,19 @@ const MAX_LIMB_INDEX: u32 = 68;
 const ADDS_BEFORE_NORMALISE: u32 = 1 << 30;
 
 /// Exact sum of finite `f64` values (non-finite values poison the sum to NaN).
+///
+/// # Examples
+/// ```
+/// use sojourn::tally::ExactSum;
+/// // One accumulator per layer: an empty one takes 32 bytes and no heap memory.
+/// let mut path_by_layer = vec![ExactSum::new(); 2_500];
+/// for path_cm in [0.1, 0.2, 0.3] {
+///     path_by_layer[7].add(path_cm);
+/// }
+/// // The exact sum, correctly rounded, where left-to-right addition gives 0.6000000000000001.
+/// assert_eq!(path_by_layer[7].value(), 0.6);
+/// assert_ne!(0.1 + 0.2 + 0.3, 0.6);
+/// ```
 #[derive(Debug, Clone, Default)]
 pub struct ExactSum {
     /// Index of `limbs[0]`: limb `k` carries bits `32 k .. 32 k + 31` of the integer.

@@ -191,7 +191,7 @@ impl LogHistogram {
         let value = value + 0.0; // −0 → +0, so that min and max never depend on order
         self.min = self.min.min(value);
         self.max = self.max.max(value);
-        self.integral &= value == value.trunc();
+        self.integral &= is_whole(value);
     }
 
     /// Adds another histogram (exact; any order of merges gives the same state).
@@ -774,6 +774,13 @@ impl LogHistogram {
         self.max = max;
         Ok(())
     }
+}
+
+/// Whether a finite `value` is a whole number (without a libm call: every `f64` of
+/// magnitude ≥ 2⁵² is one, and below that the conversion to `i64` is exact).
+#[inline]
+fn is_whole(value: f64) -> bool {
+    value.abs() >= 4_503_599_627_370_496.0 || (value as i64) as f64 == value
 }
 
 /// Where a positive value's bin starts (used to snap plot edges onto the fine bins).

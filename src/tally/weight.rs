@@ -31,7 +31,11 @@ impl Weight {
     pub const ONE: Weight = Weight(ONE);
 
     /// Rounds `w` to the fixed-point grid. `None` unless 0 ≤ w ≤ 1 (NaN included).
+    #[inline]
     pub fn new(w: f64) -> Option<Weight> {
+        if w == 1.0 {
+            return Some(Weight::ONE);
+        }
         if !(0.0..=1.0).contains(&w) {
             return None;
         }
