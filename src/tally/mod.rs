@@ -122,17 +122,14 @@ pub struct WalkCounters {
 pub struct Tally {
     launched: u64,
     weighted: bool,
-    escaped: PathStats,
-    reflected: PathStats,
-    specular: PathStats,
-    transmitted: PathStats,
-    absorbed: PathStats,
-    censored: PathStats,
+    /// One per outcome, in the order of [`OUTCOME_NAMES`]; on the heap, so that a tally
+    /// moves cheaply through the parallel fold of the photon loop.
+    paths: Box<[PathStats; 6]>,
     walk: WalkCounters,
-    resolved: Option<ResolvedTally>,
+    resolved: Option<Box<ResolvedTally>>,
 }
 
-/// Names of the outcomes in the order of [`Tally::path_stats`].
+/// Names of the outcomes, in the order of a tally's outcome array.
 const OUTCOME_NAMES: [&str; 6] = [
     "escaped",
     "reflected",
@@ -151,14 +148,14 @@ impl Tally {
     /// An empty tally that also keeps resolved slab counts on `layout` (if given).
     pub fn with_resolved(layout: Option<ResolvedLayout>) -> Self {
         Self {
-            resolved: layout.map(ResolvedTally::new),
+            resolved: layout.map(|l| Box::new(ResolvedTally::new(l))),
             ..Self::default()
         }
     }
 
     /// Resolved slab counts, if this tally keeps them.
     pub fn resolved(&self) -> Option<&ResolvedTally> {
-        self.resolved.as_ref()
+        self.resolved.as_deref()
     }
 
     /// Counts one photon.
@@ -191,54 +188,26 @@ impl Tally {
     }
 
     fn stats_mut(&mut self, outcome: Outcome) -> &mut PathStats {
-        match outcome {
-            Outcome::Escaped => &mut self.escaped,
-            Outcome::Reflected => &mut self.reflected,
-            Outcome::Specular => &mut self.specular,
-            Outcome::Transmitted => &mut self.transmitted,
-            Outcome::Absorbed => &mut self.absorbed,
-            Outcome::Censored => &mut self.censored,
-        }
+        &mut self.paths[outcome_index(outcome)]
     }
 
     fn stats(&self, outcome: Outcome) -> &PathStats {
-        match outcome {
-            Outcome::Escaped => &self.escaped,
-            Outcome::Reflected => &self.reflected,
-            Outcome::Specular => &self.specular,
-            Outcome::Transmitted => &self.transmitted,
-            Outcome::Absorbed => &self.absorbed,
-            Outcome::Censored => &self.censored,
-        }
+        &self.paths[outcome_index(outcome)]
     }
 
-    fn path_stats_mut(&mut self) -> [&mut PathStats; 6] {
-        [
-            &mut self.escaped,
-            &mut self.reflected,
-            &mut self.specular,
-            &mut self.transmitted,
-            &mut self.absorbed,
-            &mut self.censored,
-        ]
+    fn path_stats_mut(&mut self) -> &mut [PathStats; 6] {
+        &mut self.paths
     }
 
-    fn path_stats(&self) -> [&PathStats; 6] {
-        [
-            &self.escaped,
-            &self.reflected,
-            &self.specular,
-            &self.transmitted,
-            &self.absorbed,
-            &self.censored,
-        ]
+    fn path_stats(&self) -> &[PathStats; 6] {
+        &self.paths
     }
 
     /// Keeps weights from now on (every photon so far has weight 1).
     fn make_weighted(&mut self) {
         self.weighted = true;
         self.path_stats_mut()
-            .into_iter()
+            .iter_mut()
             .for_each(PathStats::make_weighted);
         if let Some(resolved) = &mut self.resolved {
             resolved.make_weighted();
@@ -255,7 +224,7 @@ impl Tally {
             self.make_weighted();
         }
         self.launched += other.launched;
-        for (mine, theirs) in self.path_stats_mut().into_iter().zip(other.path_stats()) {
+        for (mine, theirs) in self.paths.iter_mut().zip(other.paths.iter()) {
             mine.merge(theirs);
         }
         self.walk.jumps.merge(&other.walk.jumps);
@@ -323,39 +292,39 @@ impl Tally {
 
     /// Photons that left a sphere.
     pub fn escaped(&self) -> &PathStats {
-        &self.escaped
+        self.stats(Outcome::Escaped)
     }
 
     /// Photons that left a slab through the top face.
     pub fn reflected(&self) -> &PathStats {
-        &self.reflected
+        self.stats(Outcome::Reflected)
     }
 
     /// Photons reflected by the top face before entering (specular reflection).
     pub fn specular(&self) -> &PathStats {
-        &self.specular
+        self.stats(Outcome::Specular)
     }
 
     /// Photons that left a slab through the bottom face.
     pub fn transmitted(&self) -> &PathStats {
-        &self.transmitted
+        self.stats(Outcome::Transmitted)
     }
 
     /// Photons absorbed.
     pub fn absorbed(&self) -> &PathStats {
-        &self.absorbed
+        self.stats(Outcome::Absorbed)
     }
 
     /// Photons stopped by the step cap.
     pub fn censored(&self) -> &PathStats {
-        &self.censored
+        self.stats(Outcome::Censored)
     }
 
     /// Every photon that left the medium, whichever way (sphere surface or either slab face).
     pub fn all_escapes(&self) -> PathStats {
-        let mut all = self.escaped.clone();
-        all.merge(&self.reflected);
-        all.merge(&self.transmitted);
+        let mut all = self.escaped().clone();
+        all.merge(self.reflected());
+        all.merge(self.transmitted());
         all
     }
 
@@ -444,7 +413,7 @@ impl Tally {
             if resolved.is_weighted() && !repr.weighted {
                 return Err(mode_error("resolved", false));
             }
-            tally.resolved = Some(resolved);
+            tally.resolved = Some(Box::new(resolved));
             tally.check_resolved()?;
         }
         if tally.weighted {
@@ -484,27 +453,32 @@ impl Tally {
             }
         }
         let (count, weight) = resolved.absorbed_by_layer_totals();
-        if count > self.absorbed.count() || weight > self.absorbed.weight_sum() {
+        if count > self.absorbed().count() || weight > self.absorbed().weight_sum() {
             return Err(TallyError::mismatch(
                 "resolved.absorbed_by_layer",
                 "photons in the bins, against the absorbed photons",
                 count,
-                format!("at most {}", self.absorbed.count()),
+                format!("at most {}", self.absorbed().count()),
             ));
         }
         Ok(())
     }
 }
 
-fn outcome_name(outcome: Outcome) -> &'static str {
+/// Where `outcome` sits in [`OUTCOME_NAMES`] and in a tally's outcome array.
+fn outcome_index(outcome: Outcome) -> usize {
     match outcome {
-        Outcome::Escaped => "escaped",
-        Outcome::Reflected => "reflected",
-        Outcome::Specular => "specular",
-        Outcome::Transmitted => "transmitted",
-        Outcome::Absorbed => "absorbed",
-        Outcome::Censored => "censored",
+        Outcome::Escaped => 0,
+        Outcome::Reflected => 1,
+        Outcome::Specular => 2,
+        Outcome::Transmitted => 3,
+        Outcome::Absorbed => 4,
+        Outcome::Censored => 5,
     }
+}
+
+fn outcome_name(outcome: Outcome) -> &'static str {
+    OUTCOME_NAMES[outcome_index(outcome)]
 }
 
 fn mode_error(name: &str, weighted: bool) -> TallyError {
@@ -637,14 +611,14 @@ impl Serialize for Tally {
         TallyOut {
             launched: self.launched,
             weighted: self.weighted,
-            escaped: &self.escaped,
-            reflected: &self.reflected,
-            specular: &self.specular,
-            transmitted: &self.transmitted,
-            absorbed: &self.absorbed,
-            censored: &self.censored,
+            escaped: self.escaped(),
+            reflected: self.reflected(),
+            specular: self.specular(),
+            transmitted: self.transmitted(),
+            absorbed: self.absorbed(),
+            censored: self.censored(),
             walk: &self.walk,
-            resolved: self.resolved.as_ref(),
+            resolved: self.resolved.as_deref(),
         }
         .serialize(serializer)
     }

@@ -317,3 +317,13 @@ proptest! {
         prop_assert_eq!(&back, &whole);
     }
 }
+
+#[test]
+fn a_tally_is_small_to_move() {
+    // The photon loop moves a tally through rayon's fold once per photon.
+    assert!(
+        std::mem::size_of::<Tally>() <= 256,
+        "{}",
+        std::mem::size_of::<Tally>()
+    );
+}
