@@ -195,10 +195,6 @@ impl Tally {
         &self.paths[outcome_index(outcome)]
     }
 
-    fn path_stats_mut(&mut self) -> &mut [PathStats; 6] {
-        &mut self.paths
-    }
-
     fn path_stats(&self) -> &[PathStats; 6] {
         &self.paths
     }
@@ -206,9 +202,7 @@ impl Tally {
     /// Keeps weights from now on (every photon so far has weight 1).
     fn make_weighted(&mut self) {
         self.weighted = true;
-        self.path_stats_mut()
-            .iter_mut()
-            .for_each(PathStats::make_weighted);
+        self.paths.iter_mut().for_each(PathStats::make_weighted);
         if let Some(resolved) = &mut self.resolved {
             resolved.make_weighted();
         }
@@ -386,12 +380,7 @@ impl Tally {
             repr.censored,
         ];
         let mut counted = Some(0u64);
-        for ((slot, name), stats) in tally
-            .path_stats_mut()
-            .into_iter()
-            .zip(OUTCOME_NAMES)
-            .zip(given)
-        {
+        for ((slot, name), stats) in tally.paths.iter_mut().zip(OUTCOME_NAMES).zip(given) {
             let stats = PathStats::from_repr(stats).map_err(|e| e.within(name))?;
             if stats.count() > 0 && stats.is_weighted() != repr.weighted {
                 return Err(mode_error(name, repr.weighted));
