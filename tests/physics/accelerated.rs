@@ -118,7 +118,7 @@ fn very_deep_uniform_spheres_follow_diffusion() {
     // τ = 1e4 and 1e6, centred source: mean scatterings (τ + q∞)²/2 (REFERENCES item 3,
     // extrapolated boundary), and the 5/50/95 % quantiles of the escape time within 2 % of
     // the first-passage law with R + q∞ l and D = c l / 3 (REFERENCES item 3). Tolerances:
-    // the mean within 4σ and within 1 %; quantiles 2 % (histogram resolution 0.6 %, sampling
+    // the mean within 4σ and within 1 %; quantiles 2 % (histogram resolution 0.1 %, sampling
     // error of a quantile with 10⁵ photons ≈ 0.3 %).
     for tau in [1e4, 1e6] {
         let medium = uniform_sphere(tau);
