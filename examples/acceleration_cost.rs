@@ -42,8 +42,8 @@ fn main() {
             "| 1e{exponent} | {:.2} | {:.2} | {:.4} | {:.4} | {seconds:.3} |",
             walk.jumps.value() / photons as f64,
             walk.direct_steps.value() / photons as f64,
-            escapes.time_s.mean().unwrap() / reference,
-            escapes.time_s.std_error().unwrap() / reference,
+            escapes.time_s().mean().unwrap() / reference,
+            escapes.time_s().std_error().unwrap() / reference,
         );
     }
 }

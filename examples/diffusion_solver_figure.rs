@@ -58,10 +58,9 @@ fn main() {
     let tally = run(&medium, &config).tally;
     let solution = solve(&medium).expect("the laminate solves");
     let escapes = tally.all_escapes();
-    let histogram = &escapes.time_histogram;
-    let edges = histogram.layout().edges();
-    let counts: Vec<f64> = histogram.bin_counts().iter().map(|&c| c as f64).collect();
-    let (below, above) = histogram.out_of_range();
+    let histogram = escapes.time_histogram();
+    let bins = histogram.contiguous().expect("photons escaped");
+    let (edges, counts, below, above) = (bins.edges, bins.weights, bins.below, bins.above);
     let ks = binned_ks_test(
         &BinnedSample {
             edges: &edges,
@@ -73,8 +72,8 @@ fn main() {
         &solution.escape_cdf_at(&edges),
     )
     .expect("a valid histogram");
-    let mean_mc = escapes.time_s.mean().expect("photons escaped");
-    let sigma_mc = escapes.time_s.std_error().expect("photons escaped");
+    let mean_mc = escapes.time_s().mean().expect("photons escaped");
+    let sigma_mc = escapes.time_s().std_error().expect("photons escaped");
     let mean_theory = solution.mean_escape_time_s().expect("photons escape");
     let escaped_mc = escapes.count() as f64 / tally.launched() as f64;
     println!(

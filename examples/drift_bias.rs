@@ -42,8 +42,8 @@ fn main() {
             };
             let result = run(&medium, &config);
             let escapes = result.tally.escaped();
-            let mean = escapes.time_s.mean().unwrap();
-            let sigma = escapes.time_s.std_error().unwrap();
+            let mean = escapes.time_s().mean().unwrap();
+            let sigma = escapes.time_s().std_error().unwrap();
             let walk = result.tally.walk();
             println!(
                 "| {epsilon} | {} | {:.4} | {:.4} | {:.0} | {:.0} |",

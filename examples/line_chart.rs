@@ -30,8 +30,8 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             ..RunConfig::default()
         };
         let escapes = run(&medium, &config).tally.all_escapes();
-        let mean = escapes.scatterings.mean().unwrap_or(f64::NAN);
-        let stderr = escapes.scatterings.std_error().unwrap_or(0.0);
+        let mean = escapes.scatterings().mean().unwrap_or(f64::NAN);
+        let stderr = escapes.scatterings().std_error().unwrap_or(0.0);
         println!("tau {tau:>5}: mean scatterings {mean:.2} ± {stderr:.2}");
         points.push((tau, mean));
         errors.push(stderr);

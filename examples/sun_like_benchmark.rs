@@ -30,8 +30,8 @@ fn main() {
     );
     let seconds = started.elapsed().as_secs_f64();
     let escapes = result.tally.escaped();
-    let mean = escapes.time_s.mean().expect("photons escaped");
-    let sigma = escapes.time_s.std_error().expect("photons escaped");
+    let mean = escapes.time_s().mean().expect("photons escaped");
+    let sigma = escapes.time_s().std_error().expect("photons escaped");
     let walk = result.tally.walk();
     println!(
         "Veyra (n = 3, τ = {:.3e}), {photons} photons, {} threads",
@@ -62,7 +62,10 @@ fn main() {
         sigma / reference.mean_time_s
     );
     for p in [0.05, 0.5, 0.95] {
-        let q = escapes.time_histogram.quantile(p).expect("photons escaped");
+        let q = escapes
+            .time_histogram()
+            .quantile(p)
+            .expect("photons escaped");
         println!(
             "quantile {:>3.0} %        {:.4e} yr",
             100.0 * p,

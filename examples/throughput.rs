@@ -37,7 +37,7 @@ fn main() {
         let started = Instant::now();
         let result = pool.install(|| run(&medium, &config));
         let seconds = started.elapsed().as_secs_f64();
-        let scatterings = result.tally.escaped().scatterings.sum();
+        let scatterings = result.tally.escaped().scatterings().sum();
         println!(
             "{threads:>8} {scatterings:>14.4e} {seconds:>12.3} {:>22.4e}",
             scatterings / seconds

@@ -94,19 +94,19 @@ fn main() {
         let (direct, direct_steps) = escapes(&medium, Method::Direct, photons, 1, acceleration);
         let (fast, fast_steps) = escapes(&medium, Method::Accelerated, photons, 2, acceleration);
         let (m1, e1) = (
-            direct.time_s.mean().unwrap(),
-            direct.time_s.std_error().unwrap(),
+            direct.time_s().mean().unwrap(),
+            direct.time_s().std_error().unwrap(),
         );
         let (m2, e2) = (
-            fast.time_s.mean().unwrap(),
-            fast.time_s.std_error().unwrap(),
+            fast.time_s().mean().unwrap(),
+            fast.time_s().std_error().unwrap(),
         );
         let ratio = m2 / m1;
         let ratio_sigma = ratio * ((e1 / m1).powi(2) + (e2 / m2).powi(2)).sqrt();
-        let d = two_sample_ks_binned(
-            &direct.time_histogram.bin_counts(),
-            &fast.time_histogram.bin_counts(),
-        );
+        let (counts_direct, counts_fast) = direct
+            .time_histogram()
+            .aligned_counts(fast.time_histogram());
+        let d = two_sample_ks_binned(&counts_direct, &counts_fast);
         let (n1, n2) = (direct.count() as f64, fast.count() as f64);
         let p = kolmogorov_p_value(d, n1 * n2 / (n1 + n2));
         let unit = sojourn::units::SPEED_OF_LIGHT_CM_S * medium.layers()[0].extinction_per_cm();

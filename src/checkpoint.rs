@@ -15,12 +15,14 @@ use serde::{Deserialize, Serialize};
 use thiserror::Error;
 
 use crate::atomic_write::write_atomically;
+use crate::file_format::format_problem;
 use crate::medium::Medium;
 use crate::simulation::{RunConfig, RunResult, run_with_progress};
-use crate::tally::Tally;
+use crate::tally::{Tally, TallyError};
 
-/// Version of the checkpoint layout.
-pub const CHECKPOINT_FORMAT: u32 = 1;
+/// Version of the checkpoint layout. Format 2: tallies with weights, histograms keyed on
+/// the bits of the value, checked as they are read.
+pub const CHECKPOINT_FORMAT: u32 = 2;
 
 /// What a checkpoint belongs to: resuming requires every field to match.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
@@ -112,6 +114,14 @@ pub enum CheckpointError {
         /// What is wrong.
         problem: String,
     },
+    /// The checkpoint's tally contradicts itself (edited or damaged).
+    #[error("{file}: not a usable checkpoint: {problem}")]
+    InvalidTally {
+        /// The file.
+        file: String,
+        /// What is inconsistent, with the path of the field inside the file.
+        problem: TallyError,
+    },
     /// The checkpoint belongs to another run.
     #[error(
         "{file}: the checkpoint belongs to another run ({field} is {saved} there, {wanted} here): use the same model and options, or remove the checkpoint to start afresh"
@@ -157,7 +167,19 @@ impl<'a> CheckpointedRun<'a> {
     ) -> Result<Self, CheckpointError> {
         let identity = CheckpointIdentity::new(config, model_hash, method);
         let state = match std::fs::read_to_string(path) {
-            Ok(text) => load(&text, path, &identity)?,
+            Ok(text) => {
+                let state = load(&text, path, &identity)?;
+                let kept = state.tally.resolved().map(|r| r.layout());
+                if kept != config.resolved {
+                    return Err(CheckpointError::Mismatch {
+                        file: path.display().to_string(),
+                        field: "resolved",
+                        saved: format!("{kept:?}"),
+                        wanted: format!("{:?}", config.resolved),
+                    });
+                }
+                state
+            }
             Err(error) if error.kind() == std::io::ErrorKind::NotFound => Checkpoint {
                 format: CHECKPOINT_FORMAT,
                 identity,
@@ -255,7 +277,36 @@ fn load(
         file: file.clone(),
         problem,
     };
-    let mut state: Checkpoint = serde_json::from_str(text).map_err(|e| damaged(e.to_string()))?;
+    /// A checkpoint without its tally (read apart, for its typed errors).
+    #[derive(Deserialize)]
+    #[serde(deny_unknown_fields)]
+    struct Head {
+        format: u32,
+        identity: CheckpointIdentity,
+        photons_done: u64,
+        elapsed_s: f64,
+    }
+    let mut value: serde_json::Value =
+        serde_json::from_str(text).map_err(|e| damaged(e.to_string()))?;
+    if let Some(problem) = format_problem(&value, "/format", CHECKPOINT_FORMAT, "checkpoint") {
+        return Err(damaged(problem));
+    }
+    let tally = value
+        .as_object_mut()
+        .and_then(|object| object.remove("tally"))
+        .ok_or_else(|| damaged("no \"tally\" key".into()))?;
+    let head: Head = serde_json::from_value(value).map_err(|e| damaged(e.to_string()))?;
+    let tally = Tally::from_json(tally).map_err(|e| CheckpointError::InvalidTally {
+        file: file.clone(),
+        problem: e.within("tally"),
+    })?;
+    let state = Checkpoint {
+        format: head.format,
+        identity: head.identity,
+        photons_done: head.photons_done,
+        elapsed_s: head.elapsed_s,
+        tally,
+    };
     if state.format != CHECKPOINT_FORMAT {
         return Err(damaged(format!(
             "format {} (this sojourn reads format {CHECKPOINT_FORMAT})",
@@ -279,7 +330,7 @@ fn load(
             state.photons_done, identity.photons
         )));
     }
-    if !state.tally.repair_after_load() || state.tally.launched() != state.photons_done {
+    if state.tally.launched() != state.photons_done {
         return Err(damaged(format!(
             "the tally does not hold the {} photons done",
             state.photons_done

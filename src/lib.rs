@@ -48,6 +48,7 @@ pub mod analysis;
 pub mod atomic_write;
 pub mod checkpoint;
 pub mod diffusion;
+pub(crate) mod file_format;
 pub mod fingerprint;
 pub mod import;
 pub mod medium;

@@ -19,17 +19,18 @@ use serde_json::Value;
 use thiserror::Error;
 
 use crate::analysis::RunAnalysis;
+use crate::file_format::format_problem;
 use crate::fingerprint::{canonical_json, fingerprint};
 use crate::medium::Medium;
 use crate::medium::model_file::{ModelError, model_from_value};
 use crate::simulation::{RunConfig, RunResult};
-use crate::tally::ResolvedLayout;
-use crate::tally::Tally;
+use crate::tally::{ResolvedLayout, Tally, TallyError};
 use crate::transport::Acceleration;
 use crate::transport::WalkLimits;
 
-/// Version of the shard-file layout; merge refuses other versions.
-pub const SHARD_FORMAT: u32 = 1;
+/// Version of the shard-file layout; merge refuses other versions. Format 2: tallies with
+/// weights, histograms keyed on the bits of the value, checked as they are read.
+pub const SHARD_FORMAT: u32 = 2;
 
 /// Part K of N (1 ≤ K ≤ N) of a run or a sweep.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
@@ -239,7 +240,7 @@ pub struct RunShard {
 #[derive(Deserialize)]
 struct RunShardFile {
     shard: RunShardInfo,
-    tally: Tally,
+    tally: Value,
     #[serde(default)]
     elapsed_s: f64,
 }
@@ -274,6 +275,14 @@ pub enum MergeError {
         file: String,
         /// What is inconsistent.
         problem: String,
+    },
+    /// A shard file whose tally contradicts itself (edited or damaged).
+    #[error("{file}: damaged shard file: {problem}")]
+    InvalidTally {
+        /// The file.
+        file: String,
+        /// What is inconsistent, with the path of the field inside the file.
+        problem: TallyError,
     },
     /// Two shards of different runs (or sweeps).
     #[error("{0}")]
@@ -354,19 +363,23 @@ pub fn read_run_shard(text: &str, file: &str) -> Result<RunShard, MergeError> {
             problem: "no \"shard\" and \"tally\" keys; write shard files with `sojourn run MODEL --shard K/N --json PATH`".into(),
         });
     }
-    let parsed: RunShardFile = serde_json::from_value(value).map_err(|e| MergeError::Damaged {
-        file: file.to_string(),
-        problem: e.to_string(),
-    })?;
-    let mut shard = RunShard {
-        info: parsed.shard,
-        tally: parsed.tally,
-        elapsed_s: parsed.elapsed_s,
-        file: file.to_string(),
-    };
     let damaged = |problem: String| MergeError::Damaged {
         file: file.to_string(),
         problem,
+    };
+    if let Some(problem) = format_problem(&value, "/shard/format", SHARD_FORMAT, "shard") {
+        return Err(damaged(problem));
+    }
+    let parsed: RunShardFile = serde_json::from_value(value).map_err(|e| damaged(e.to_string()))?;
+    let tally = Tally::from_json(parsed.tally).map_err(|e| MergeError::InvalidTally {
+        file: file.to_string(),
+        problem: e.within("tally"),
+    })?;
+    let shard = RunShard {
+        info: parsed.shard,
+        tally,
+        elapsed_s: parsed.elapsed_s,
+        file: file.to_string(),
     };
     let info = &shard.info;
     if info.format != SHARD_FORMAT {
@@ -394,23 +407,24 @@ pub fn read_run_shard(text: &str, file: &str) -> Result<RunShard, MergeError> {
             expected.end
         )));
     }
-    check_tally(&mut shard.tally, info.photons, file)?;
+    check_tally(&shard.tally, info.photons, file)?;
+    let kept = shard.tally.resolved().map(|r| r.layout());
+    if kept != info.resolved {
+        return Err(damaged(format!(
+            "the tally keeps resolved bins {kept:?}, the shard says {:?}",
+            info.resolved
+        )));
+    }
     Ok(shard)
 }
 
-/// Checks a deserialised tally: consistent, and holding exactly `photons` photons.
-pub(crate) fn check_tally(tally: &mut Tally, photons: u64, file: &str) -> Result<(), MergeError> {
+/// Checks a tally read from a file (already consistent in itself, see
+/// [`Tally::from_json`]) against its file: it holds exactly `photons` photons.
+pub(crate) fn check_tally(tally: &Tally, photons: u64, file: &str) -> Result<(), MergeError> {
     let damaged = |problem: String| MergeError::Damaged {
         file: file.to_string(),
         problem,
     };
-    let layout = tally.resolved().map(|r| r.layout);
-    if !tally.repair_after_load()
-        || !layout.is_none_or(|l| l.is_sane())
-        || !tally.compatible(&Tally::with_resolved(layout))
-    {
-        return Err(damaged("the tally is inconsistent".into()));
-    }
     if tally.launched() != photons {
         return Err(damaged(format!(
             "the tally holds {} photons, the shard {photons}",

@@ -64,8 +64,8 @@ pub fn compare(
     slab: Option<&SlabDiffusion>,
 ) -> Comparison {
     let times_comparable = !absorbs(medium);
-    let mean = escapes.time_s.mean();
-    let stderr = escapes.time_s.std_error();
+    let mean = escapes.time_s().mean();
+    let stderr = escapes.time_s().std_error();
     let against = |value: Option<f64>, reference: Option<f64>| {
         value
             .zip(reference)
@@ -162,7 +162,7 @@ pub fn compare(
         time_ratio_plain: against(mean, theory.mean_time_s),
         naive_time_ratio: against(mean, Some(theory.naive_time_s)),
         scatterings_ratio: against(
-            escapes.scatterings.mean(),
+            escapes.scatterings().mean(),
             theory.mean_scatterings_extrapolated,
         ),
         ks_distance,

@@ -26,11 +26,12 @@ pub struct OutcomeFractions {
     pub specular: Option<f64>,
     /// Left a slab through the bottom face (total transmittance, unscattered included).
     pub transmitted: Option<f64>,
-    /// Absorbed inside.
-    pub absorbed: f64,
-    /// Stopped by the step cap.
-    pub censored: f64,
-    /// Binomial standard errors of the fractions above, in the same order.
+    /// Absorbed inside (null when no photon was launched).
+    pub absorbed: Option<f64>,
+    /// Stopped by the step cap (null when no photon was launched).
+    pub censored: Option<f64>,
+    /// Standard errors of the fractions above, in the same order (binomial for analog
+    /// photons, from the weights otherwise: see [`crate::tally::Tally::fraction`]).
     pub stderr: OutcomeStderr,
 }
 
@@ -46,14 +47,15 @@ pub struct OutcomeStderr {
     /// Of `transmitted`.
     pub transmitted: Option<f64>,
     /// Of `absorbed`.
-    pub absorbed: f64,
+    pub absorbed: Option<f64>,
     /// Of `censored`.
-    pub censored: f64,
+    pub censored: Option<f64>,
 }
 
 /// Mean, spread and quantiles of a distribution. Keys carry the unit suffix given at
-/// construction (`_s` for times, none for counts). Quantiles come from the log-binned
-/// histogram (resolution ±0.6 %).
+/// construction (`_s` for times, none for counts). Quantiles come from the tally's
+/// histogram: inside the observed [min, max], within 0.1 % of the sample quantiles, whole
+/// numbers for whole-number data.
 #[derive(Debug, Clone, Default, Serialize)]
 pub struct DistributionSummary {
     /// Number of photons in the distribution.
@@ -83,15 +85,15 @@ pub struct DistributionSummary {
 impl DistributionSummary {
     /// The escape times of `stats`, s (serialise with [`Self::seconds`]).
     pub fn of_time(stats: &PathStats) -> Self {
-        Self::build(stats.count(), &stats.time_s, &stats.time_histogram)
+        Self::build(stats.count(), stats.time_s(), stats.time_histogram())
     }
 
     /// The scattering counts of `stats`.
     pub fn of_scatterings(stats: &PathStats) -> Self {
         Self::build(
             stats.count(),
-            &stats.scatterings,
-            &stats.scattering_histogram,
+            stats.scatterings(),
+            stats.scattering_histogram(),
         )
     }
 
@@ -192,6 +194,8 @@ pub struct RunAnalysis {
     pub absorption: String,
     /// Photons launched.
     pub photons: u64,
+    /// Kish's effective number of photons (Σw)²/Σw² (equal to `photons` for analog runs).
+    pub effective_photons: f64,
     /// Seed of the random streams.
     pub seed: u64,
     /// Optical depth source → surface (sphere) or total thickness (slab).
@@ -249,6 +253,19 @@ impl RunAnalysis {
             );
         }
         notes.extend(super::profile::profile_notes(medium));
+        if tally.launched() == 0 {
+            notes.push(
+                "no photons were launched: fractions, times and quantiles are undefined"
+                    .to_string(),
+            );
+        }
+        let not_finite = escapes.time_s().non_finite() + escapes.scatterings().non_finite();
+        if not_finite > 0 {
+            notes.push(format!(
+                "{not_finite} escape times or scattering counts were not finite (NaN or \
+                 infinite): they are counted, but left out of the means and extremes"
+            ));
+        }
         if tally.censored().count() > 0 {
             notes.push(format!(
                 "{} photons hit the step cap ({}) and are counted as censored; raise \
@@ -262,6 +279,7 @@ impl RunAnalysis {
             method: config.method.name().to_string(),
             absorption: "analog".to_string(),
             photons: tally.launched(),
+            effective_photons: tally.effective_photons(),
             seed: config.seed,
             optical_depth: diffusion.optical_depth,
             outcome: outcome_fractions(tally, is_slab),
@@ -306,24 +324,28 @@ impl WalkSummary {
 }
 
 fn outcome_fractions(tally: &Tally, is_slab: bool) -> OutcomeFractions {
-    let (escaped, escaped_err) = tally.fraction(tally.escaped());
-    let (reflected, reflected_err) = tally.fraction(tally.reflected());
-    let (specular, specular_err) = tally.fraction(tally.specular());
-    let (transmitted, transmitted_err) = tally.fraction(tally.transmitted());
-    let (absorbed, absorbed_err) = tally.fraction(tally.absorbed());
-    let (censored, censored_err) = tally.fraction(tally.censored());
+    let split = |stats| {
+        let estimate = tally.fraction(stats);
+        (estimate.map(|e| e.value), estimate.map(|e| e.stderr))
+    };
+    let (escaped, escaped_err) = split(tally.escaped());
+    let (reflected, reflected_err) = split(tally.reflected());
+    let (specular, specular_err) = split(tally.specular());
+    let (transmitted, transmitted_err) = split(tally.transmitted());
+    let (absorbed, absorbed_err) = split(tally.absorbed());
+    let (censored, censored_err) = split(tally.censored());
     OutcomeFractions {
-        escaped: (!is_slab).then_some(escaped),
-        reflected: is_slab.then_some(reflected),
-        specular: is_slab.then_some(specular),
-        transmitted: is_slab.then_some(transmitted),
+        escaped: escaped.filter(|_| !is_slab),
+        reflected: reflected.filter(|_| is_slab),
+        specular: specular.filter(|_| is_slab),
+        transmitted: transmitted.filter(|_| is_slab),
         absorbed,
         censored,
         stderr: OutcomeStderr {
-            escaped: (!is_slab).then_some(escaped_err),
-            reflected: is_slab.then_some(reflected_err),
-            specular: is_slab.then_some(specular_err),
-            transmitted: is_slab.then_some(transmitted_err),
+            escaped: escaped_err.filter(|_| !is_slab),
+            reflected: reflected_err.filter(|_| is_slab),
+            specular: specular_err.filter(|_| is_slab),
+            transmitted: transmitted_err.filter(|_| is_slab),
             absorbed: absorbed_err,
             censored: censored_err,
         },

@@ -79,8 +79,8 @@ pub fn slab_diffusion(medium: &Medium, tally: &Tally) -> Option<SlabDiffusion> {
     let extrapolated = DiffusionSlab::new(optics, Boundary::Extrapolated).ok()?;
     let zero = DiffusionSlab::new(optics, Boundary::Zero).ok()?;
     let launched = tally.launched().max(1) as f64;
-    let entering = 1.0 - tally.specular().count() as f64 / launched;
-    let unscattered = tally.transmitted().scattering_histogram.zero_count() as f64;
+    let entering = 1.0 - tally.specular().weight() / launched;
+    let unscattered = tally.transmitted().scattering_histogram().zero_weight();
     let mut warnings = Vec::new();
     if medium.layers().len() > 1 {
         warnings.push(
@@ -116,9 +116,8 @@ pub fn slab_diffusion(medium: &Medium, tally: &Tally) -> Option<SlabDiffusion> {
         transmittance: entering * extrapolated.steady_transmittance(),
         reflectance_zero_boundary: entering * zero.steady_reflectance(),
         transmittance_zero_boundary: entering * zero.steady_transmittance(),
-        monte_carlo_reflectance: tally.reflected().count() as f64 / launched,
-        monte_carlo_diffuse_transmittance: (tally.transmitted().count() as f64 - unscattered)
-            / launched,
+        monte_carlo_reflectance: tally.reflected().weight() / launched,
+        monte_carlo_diffuse_transmittance: (tally.transmitted().weight() - unscattered) / launched,
         decay_rate_per_s: extrapolated.decay_rate_per_s(),
         decay_rate_zero_boundary_per_s: zero.decay_rate_per_s(),
         warnings,
@@ -213,20 +212,20 @@ fn limb_darkening(edges: &[f64], radiance: &[f64]) -> LimbDarkening {
 /// Resolved results of `tally` on `medium`, if the tally kept them.
 pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummary> {
     let resolved: &ResolvedTally = tally.resolved()?;
-    let layout = resolved.layout;
+    let layout = resolved.layout();
     let launched = tally.launched().max(1) as f64;
     let bins = layout.time_bins;
     let time_s: Vec<f64> = (0..bins)
         .map(|i| (i as f64 + 0.5) * layout.time_bin_s)
         .collect();
-    let per_second = |counts: &[u64]| -> Vec<f64> {
-        counts[..bins]
+    let per_second = |weights: &[f64]| -> Vec<f64> {
+        weights[..bins]
             .iter()
-            .map(|&c| c as f64 / launched / layout.time_bin_s)
+            .map(|&w| w / launched / layout.time_bin_s)
             .collect()
     };
     let optics = equivalent_optics(medium);
-    let entering = 1.0 - tally.specular().count() as f64 / launched;
+    let entering = 1.0 - tally.specular().weight() / launched;
     let with_beam = matches!(medium.source(), Source::Beam { .. } | Source::Diffuse);
     let extrapolated = with_beam
         .then(|| DiffusionSlab::new(optics, Boundary::Extrapolated).ok())
@@ -262,19 +261,22 @@ pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummar
     let cosine_edges: Vec<f64> = (0..=cosine_bins)
         .map(|i| i as f64 / cosine_bins as f64)
         .collect();
-    let radiance = |counts: &[u64]| -> Vec<f64> {
-        counts
+    let radiance = |weights: &[f64]| -> Vec<f64> {
+        weights
             .iter()
             .enumerate()
             .map(|(i, &c)| {
                 let (a, b) = (cosine_edges[i], cosine_edges[i + 1]);
                 // ∫ 2π μ dμ over the bin = π (b² − a²).
-                c as f64 / launched / (std::f64::consts::PI * (b * b - a * a))
+                c / launched / (std::f64::consts::PI * (b * b - a * a))
             })
             .collect()
     };
-    let reflected_total: u64 = resolved.reflected_by_cosine.iter().sum();
-    let radial: Vec<f64> = resolved.reflected_by_radius[..layout.radial_bins]
+    let reflected_by_time = resolved.reflected_by_time().weights();
+    let transmitted_by_time = resolved.transmitted_by_time().weights();
+    let reflected_by_cosine = resolved.reflected_by_cosine().weights();
+    let reflected_total: f64 = reflected_by_cosine.iter().sum();
+    let radial: Vec<f64> = resolved.reflected_by_radius().weights()[..layout.radial_bins]
         .iter()
         .enumerate()
         .map(|(i, &c)| {
@@ -282,24 +284,24 @@ pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummar
                 i as f64 * layout.radial_bin_cm,
                 (i + 1) as f64 * layout.radial_bin_cm,
             );
-            c as f64 / launched / (std::f64::consts::PI * (b * b - a * a))
+            c / launched / (std::f64::consts::PI * (b * b - a * a))
         })
         .collect();
     let diffusion_reflectance = curve(&extrapolated, true);
     let diffusion_transmittance = curve(&extrapolated, false);
-    let reflected_radiance = radiance(&resolved.reflected_by_cosine);
+    let reflected_radiance = radiance(&reflected_by_cosine);
     Some(ResolvedSummary {
         limb_darkening: limb_darkening(&cosine_edges, &reflected_radiance),
         time_bin_s: layout.time_bin_s,
-        reflectance_per_s: per_second(&resolved.reflected_by_time),
-        transmittance_per_s: per_second(&resolved.transmitted_by_time),
+        reflectance_per_s: per_second(&reflected_by_time),
+        transmittance_per_s: per_second(&transmitted_by_time),
         reflectance_decay: fit_late_decay(
-            &resolved.reflected_by_time[..bins],
+            &resolved.reflected_by_time().counts()[..bins],
             &diffusion_reflectance,
             layout.time_bin_s,
         ),
         transmittance_decay: fit_late_decay(
-            &resolved.transmitted_by_time[..bins],
+            &resolved.transmitted_by_time().counts()[..bins],
             &diffusion_transmittance,
             layout.time_bin_s,
         ),
@@ -308,30 +310,37 @@ pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummar
         diffusion_reflectance_zero_boundary_per_s: curve(&zero, true),
         time_s,
         later_fraction: [
-            resolved.reflected_by_time[bins] as f64 / launched,
-            resolved.transmitted_by_time[bins] as f64 / launched,
+            reflected_by_time[bins] / launched,
+            transmitted_by_time[bins] / launched,
         ],
         diffusion_decay_rate_per_s: extrapolated
             .as_ref()
             .zip(zero.as_ref())
             .map(|(e, z)| [e.decay_rate_per_s(), z.decay_rate_per_s()]),
         absorbed_by_layer: resolved
-            .absorbed_by_layer
+            .absorbed_by_layer()
+            .weights()
             .iter()
-            .map(|&c| c as f64 / launched)
+            .map(|&w| w / launched)
             .collect(),
         depth_bin_cm: layout.depth_bin_cm,
         absorbed_per_cm: resolved
-            .absorbed_by_depth
+            .absorbed_by_depth()
+            .weights()
             .iter()
-            .map(|&c| c as f64 / launched / layout.depth_bin_cm)
+            .map(|&w| w / launched / layout.depth_bin_cm)
             .collect(),
         reflected_radiance_per_sr: reflected_radiance,
-        transmitted_radiance_per_sr: radiance(&resolved.transmitted_by_cosine),
-        reflected_cosine_fraction: resolved
-            .reflected_by_cosine
+        transmitted_radiance_per_sr: radiance(&resolved.transmitted_by_cosine().weights()),
+        reflected_cosine_fraction: reflected_by_cosine
             .iter()
-            .map(|&c| c as f64 / reflected_total.max(1) as f64)
+            .map(|&w| {
+                if reflected_total > 0.0 {
+                    w / reflected_total
+                } else {
+                    0.0
+                }
+            })
             .collect(),
         cosine_edges,
         radial_bin_cm: layout.radial_bin_cm,

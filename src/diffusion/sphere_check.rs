@@ -32,17 +32,27 @@ pub fn equivalent_sphere(medium: &Medium) -> Option<(f64, f64)> {
 
 /// KS distance between the escape-time histogram of `escapes` and the first-passage CDF of
 /// the equivalent diffusion sphere, evaluated at the histogram's bin edges (a lower bound of
-/// the unbinned statistic; bins are 1.2 % wide). `None` where no equivalent sphere exists.
+/// the unbinned statistic; bins are at most 0.1 % wide). `None` where no equivalent sphere
+/// exists or some time is zero, negative or not finite.
 pub fn first_passage_ks_distance(medium: &Medium, escapes: &PathStats) -> Option<f64> {
     let (radius, diffusion) = equivalent_sphere(medium)?;
-    let histogram = &escapes.time_histogram;
-    let (below, above) = histogram.out_of_range();
-    if histogram.total() == 0 || histogram.zero_count() > 0 || below > 0 || above > 0 {
+    let histogram = escapes.time_histogram();
+    let unbinned = histogram.zero_count() + histogram.negative_count();
+    if histogram.total() == 0 || unbinned > 0 || histogram.non_finite_count() > 0 {
         return None;
     }
-    let layout = histogram.layout();
-    let edges = layout.edges();
-    let counts = histogram.bin_counts();
+    // The occupied bins, with an empty bin standing for each gap between them.
+    let bins = histogram.bins();
+    let mut edges = vec![bins.first()?.low];
+    let mut counts = Vec::with_capacity(bins.len());
+    for bin in &bins {
+        if edges.last().is_some_and(|&edge| bin.low > edge) {
+            counts.push(0);
+            edges.push(bin.low);
+        }
+        counts.push(bin.count);
+        edges.push(bin.high);
+    }
     let cdf = |t: f64| first_passage::cdf(t * diffusion / (radius * radius));
     Some(ks::ks_distance_binned(
         &edges,

@@ -93,16 +93,15 @@ pub fn render_run_report(report: &RunReport) -> String {
             fraction(v, e)
         );
     }
-    let _ = writeln!(
-        out,
-        "  absorbed     {}",
-        fraction(o.absorbed, o.stderr.absorbed)
-    );
-    let _ = writeln!(
-        out,
-        "  censored     {}",
-        fraction(o.censored, o.stderr.censored)
-    );
+    if let (Some(v), Some(e)) = (o.absorbed, o.stderr.absorbed) {
+        let _ = writeln!(out, "  absorbed     {}", fraction(v, e));
+    }
+    if let (Some(v), Some(e)) = (o.censored, o.stderr.censored) {
+        let _ = writeln!(out, "  censored     {}", fraction(v, e));
+    }
+    if report.analysis.photons == 0 {
+        let _ = writeln!(out, "  no photons: fractions are undefined");
+    }
     let _ = writeln!(out);
     let _ = writeln!(out, "Time in the medium (photons that left it)");
     time_rows(&mut out, "all escapes", &report.analysis.escape_time);

@@ -13,6 +13,7 @@ use serde_json::Value;
 use super::runner::{PointRecord, results_from_tallies};
 use super::spec::{ResolvedSpec, SpecError};
 use super::{PointResult, Sweep};
+use crate::file_format::format_problem;
 use crate::shard::{
     MergeError, RunShard, SHARD_FORMAT, Shard, check_coverage, read_run_shard, same,
 };
@@ -75,6 +76,15 @@ pub struct MergedSweep {
 /// # Errors
 /// [`MergeError::NotAShard`] or [`MergeError::Damaged`].
 pub fn read_sweep_shard(text: &str, file: &str) -> Result<SweepShard, MergeError> {
+    if let Some(problem) = serde_json::from_str::<serde_json::Value>(text)
+        .ok()
+        .and_then(|value| format_problem(&value, "/sweep_shard/format", SHARD_FORMAT, "shard"))
+    {
+        return Err(MergeError::Damaged {
+            file: file.to_string(),
+            problem,
+        });
+    }
     let content: SweepShardFile = serde_json::from_str(text).map_err(|e| {
         if text.contains("\"sweep_shard\"") {
             MergeError::Damaged {

@@ -24,12 +24,13 @@ use super::spec::ResolvedSpec;
 use super::table::{SweepRow, csv_text, jsonl_text};
 use super::{PointResult, Sweep};
 use crate::atomic_write::{is_temporary, write_atomically};
+use crate::file_format::format_problem;
 use crate::shard::{MergeError, Shard, check_tally};
 use crate::simulation::RunResult;
 use crate::tally::Tally;
 
 /// Version of the point-file layout.
-pub const POINT_FORMAT: u32 = 1;
+pub const POINT_FORMAT: u32 = 2;
 
 /// A sweep that cannot run, resume or be assembled.
 #[derive(Debug, Error)]
@@ -150,7 +151,7 @@ impl PointRecord {
         if self.parameters != expected {
             return Err("its parameter values are not this point's".into());
         }
-        check_tally(&mut self.tally, self.photons, file).map_err(|e| match e {
+        check_tally(&self.tally, self.photons, file).map_err(|e| match e {
             MergeError::Damaged { problem, .. } => problem,
             other => other.to_string(),
         })
@@ -367,8 +368,13 @@ impl<'a> SweepRunner<'a> {
             file: file.clone(),
             problem,
         };
-        let mut record: PointRecord =
+        let value: serde_json::Value =
             serde_json::from_str(text).map_err(|e| damaged(e.to_string()))?;
+        if let Some(problem) = format_problem(&value, "/format", POINT_FORMAT, "point") {
+            return Err(damaged(problem));
+        }
+        let mut record: PointRecord =
+            serde_json::from_value(value).map_err(|e| damaged(e.to_string()))?;
         if record.spec_hash != self.hash {
             return Err(SweepError::Foreign {
                 file: file.clone(),

@@ -50,7 +50,7 @@ pub const COLUMNS: &[(&str, &str)] = &[
     ),
     ("escape_time_stderr_s", "its standard error"),
     ("escape_time_std_dev_s", "standard deviation of that time"),
-    ("escape_time_median_s", "median (histogram, ±0.6 %)"),
+    ("escape_time_median_s", "median (histogram, within 0.1 %)"),
     ("escape_time_p05_s", "5 % quantile"),
     ("escape_time_p95_s", "95 % quantile"),
     ("scatterings_mean", "mean scatterings of photons that left"),

@@ -1,22 +1,53 @@
-//! Per-photon outcomes and their mergeable summary.
+//! Per-photon outcomes and their mergeable, weighted summary.
 //!
 //! A [`Tally`] holds, for each way a photon can end (escaped a sphere, reflected or
-//! transmitted by a slab, absorbed, censored by the step cap), the count and the moments and
-//! log-binned histograms of its time in the medium and its number of scatterings. Memory does
-//! not grow with the number of photons, and merging two tallies is exact and
-//! order-independent, so a run gives the same bits whatever the thread count or shard split.
+//! transmitted by a slab, absorbed, censored by the step cap), the count, the sum of the
+//! photons' weights, and the moments and histograms of their time in the medium and number
+//! of scatterings. Memory does not grow with the number of photons, and merging two tallies
+//! is exact and order-independent, so a run gives the same bits whatever the thread count
+//! or shard split.
+//!
+//! **Weights.** Every photon carries a weight w ∈ [0, 1] ([`PhotonRecord::weight`]): 1 for
+//! analog photons, less after implicit capture or absorption rescaling. Each weight is
+//! rounded once to a multiple of 2⁻⁶³ ([`Weight`]) and summed as an integer, so weighted
+//! sums merge exactly too. A tally starts *analog* (every weight exactly 1, and no weight
+//! sums are stored: analog results are exactly as before); the first photon with another
+//! weight makes it *weighted*, and every later figure uses the weights.
+//!
+//! **Estimates.** The fraction of photons ending one way is f = Σw / N (N launched), with
+//! standard error √((Σw²/N − f²)/N): the standard error of the mean of the per-photon
+//! scores wᵢ·1[outcome] (for analog photons the binomial √(p(1 − p)/N)). Means and their
+//! errors are in [`Moments`]; quantiles in [`LogHistogram`]. Kish's effective number of
+//! photons (Σw)²/Σw² says how many analog photons the weighted ones are worth.
+//!
+//! **Soundness.** A `Tally` read with serde (shards, checkpoints, sweep points) is checked
+//! as it is read ([`Tally::from_json`] gives the typed [`TallyError`]): counts that add up,
+//! bins that exist, sums that fit their extremes and weights that photons of weight ≤ 1
+//! can carry. A tally that passes is as sound as one recorded in memory.
 
+mod bin_key;
+mod error;
 mod exact_sum;
 mod histogram;
 mod moments;
+mod path_stats;
 mod resolved;
+mod weight;
 
+pub use bin_key::{RELATIVE_BIN_WIDTH, RESOLUTION_BITS};
+pub use error::TallyError;
 pub use exact_sum::ExactSum;
-pub use histogram::{LogHistogram, LogLayout};
+pub use histogram::{HistogramBin, LogHistogram, Regrouped, fine_bin_floor};
 pub use moments::Moments;
-pub use resolved::{ResolvedLayout, ResolvedTally};
+pub use path_stats::PathStats;
+pub use resolved::{BinSeries, ResolvedLayout, ResolvedTally};
+pub use weight::{WEIGHT_FRACTION_BITS, Weight, WeightSum};
 
 use serde::{Deserialize, Serialize};
+
+use exact_sum::ExactSumRepr;
+use path_stats::PathStatsRepr;
+use resolved::ResolvedRepr;
 
 /// How one photon's walk ended.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
@@ -59,67 +90,22 @@ pub struct PhotonRecord {
     pub direction: [f64; 3],
     /// Layer holding the photon at the end (for absorbed photons: where it was absorbed).
     pub layer: usize,
+    /// Statistical weight the photon carries into its outcome, in [0, 1] (1 for analog
+    /// photons).
+    pub weight: f64,
 }
 
-/// Time and scattering statistics of the photons that ended one way.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct PathStats {
-    /// Time in the medium, s.
-    pub time_s: Moments,
-    /// Number of scatterings.
-    pub scatterings: Moments,
-    /// Histogram of time in the medium, s.
-    pub time_histogram: LogHistogram,
-    /// Histogram of the number of scatterings.
-    pub scattering_histogram: LogHistogram,
+/// An estimate and its 1σ standard error.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Estimate {
+    /// The value.
+    pub value: f64,
+    /// Its standard error.
+    pub stderr: f64,
 }
 
-impl Default for PathStats {
-    fn default() -> Self {
-        Self {
-            time_s: Moments::new(),
-            scatterings: Moments::new(),
-            time_histogram: LogHistogram::new(LogLayout::TIME_S),
-            scattering_histogram: LogHistogram::new(LogLayout::SCATTERINGS),
-        }
-    }
-}
-
-impl PathStats {
-    /// Number of photons counted.
-    pub fn count(&self) -> u64 {
-        self.time_s.count()
-    }
-
-    fn add(&mut self, time_s: f64, scatterings: f64) {
-        self.time_s.add(time_s);
-        self.scatterings.add(scatterings);
-        self.time_histogram.add(time_s);
-        self.scattering_histogram.add(scatterings);
-    }
-
-    /// Adds another set of statistics.
-    pub fn merge(&mut self, other: &PathStats) {
-        self.time_s.merge(&other.time_s);
-        self.scatterings.merge(&other.scatterings);
-        self.time_histogram.merge(&other.time_histogram);
-        self.scattering_histogram.merge(&other.scattering_histogram);
-    }
-
-    fn compatible(&self, other: &PathStats) -> bool {
-        self.time_histogram.compatible(&other.time_histogram)
-            && self
-                .scattering_histogram
-                .compatible(&other.scattering_histogram)
-    }
-
-    fn repair_after_load(&mut self) -> bool {
-        self.time_histogram.repair_after_load() && self.scattering_histogram.repair_after_load()
-    }
-}
-
-/// Walk-cost counters summed over photons (f64: exact below 2^53 per photon batch).
-#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+/// Walk-cost counters summed over photons (unweighted).
+#[derive(Debug, Clone, Default, PartialEq)]
 pub struct WalkCounters {
     /// Total diffusion jumps.
     pub jumps: ExactSum,
@@ -127,25 +113,31 @@ pub struct WalkCounters {
     pub direct_steps: ExactSum,
     /// Total time covered by jumps, s.
     pub jump_time_s: ExactSum,
-    /// Total time of all photons, s.
+    /// Total time of all photons with a finite time, s.
     pub total_time_s: ExactSum,
 }
 
-/// The mergeable summary of a set of photons.
-#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+/// The mergeable summary of a set of photons (see the module docs).
+#[derive(Debug, Clone, Default, PartialEq)]
 pub struct Tally {
     launched: u64,
-    escaped: PathStats,
-    reflected: PathStats,
-    #[serde(default)]
-    specular: PathStats,
-    transmitted: PathStats,
-    absorbed: PathStats,
-    censored: PathStats,
+    weighted: bool,
+    /// One per outcome, in the order of [`OUTCOME_NAMES`]; on the heap, so that a tally
+    /// moves cheaply through the parallel fold of the photon loop.
+    paths: Box<[PathStats; 6]>,
     walk: WalkCounters,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    resolved: Option<ResolvedTally>,
+    resolved: Option<Box<ResolvedTally>>,
 }
+
+/// Names of the outcomes, in the order of a tally's outcome array.
+const OUTCOME_NAMES: [&str; 6] = [
+    "escaped",
+    "reflected",
+    "specular",
+    "transmitted",
+    "absorbed",
+    "censored",
+];
 
 impl Tally {
     /// An empty tally.
@@ -156,99 +148,111 @@ impl Tally {
     /// An empty tally that also keeps resolved slab counts on `layout` (if given).
     pub fn with_resolved(layout: Option<ResolvedLayout>) -> Self {
         Self {
-            resolved: layout.map(ResolvedTally::new),
+            resolved: layout.map(|l| Box::new(ResolvedTally::new(l))),
             ..Self::default()
         }
     }
 
     /// Resolved slab counts, if this tally keeps them.
     pub fn resolved(&self) -> Option<&ResolvedTally> {
-        self.resolved.as_ref()
+        self.resolved.as_deref()
     }
 
     /// Counts one photon.
+    ///
+    /// # Panics
+    /// If `record.weight` is not in [0, 1] (a walker bug, not a user input).
+    #[inline]
     pub fn record(&mut self, record: &PhotonRecord) {
+        let weight = Weight::new(record.weight).unwrap_or_else(|| {
+            panic!(
+                "photon weight {} outside [0, 1]: the walker must keep weights in range",
+                record.weight
+            )
+        });
+        if !weight.is_one() && !self.weighted {
+            self.make_weighted();
+        }
         self.launched += 1;
         if let Some(resolved) = &mut self.resolved {
-            resolved.record(record);
+            resolved.record(record, weight);
         }
-        let stats = match record.outcome {
-            Outcome::Escaped => &mut self.escaped,
-            Outcome::Reflected => &mut self.reflected,
-            Outcome::Specular => &mut self.specular,
-            Outcome::Transmitted => &mut self.transmitted,
-            Outcome::Absorbed => &mut self.absorbed,
-            Outcome::Censored => &mut self.censored,
-        };
-        stats.add(record.time_s, record.scatterings);
+        self.stats_mut(record.outcome)
+            .add(record.time_s, record.scatterings, weight);
         self.walk.jumps.add(record.jumps);
         self.walk.direct_steps.add(record.direct_steps);
         self.walk.jump_time_s.add(record.jump_time_s);
-        self.walk.total_time_s.add(record.time_s);
+        if record.time_s.is_finite() {
+            self.walk.total_time_s.add(record.time_s);
+        }
+    }
+
+    fn stats_mut(&mut self, outcome: Outcome) -> &mut PathStats {
+        &mut self.paths[outcome_index(outcome)]
+    }
+
+    fn stats(&self, outcome: Outcome) -> &PathStats {
+        &self.paths[outcome_index(outcome)]
+    }
+
+    fn path_stats(&self) -> &[PathStats; 6] {
+        &self.paths
+    }
+
+    /// Keeps weights from now on (every photon so far has weight 1).
+    fn make_weighted(&mut self) {
+        self.weighted = true;
+        self.paths.iter_mut().for_each(PathStats::make_weighted);
+        if let Some(resolved) = &mut self.resolved {
+            resolved.make_weighted();
+        }
     }
 
     /// Adds another tally (exact; any order gives the same state).
+    ///
+    /// # Panics
+    /// If both keep resolved counts on different layouts: check [`Tally::compatible`]
+    /// before merging tallies from elsewhere.
     pub fn merge(&mut self, other: &Tally) {
+        if other.weighted && !self.weighted {
+            self.make_weighted();
+        }
         self.launched += other.launched;
-        self.escaped.merge(&other.escaped);
-        self.reflected.merge(&other.reflected);
-        self.specular.merge(&other.specular);
-        self.transmitted.merge(&other.transmitted);
-        self.absorbed.merge(&other.absorbed);
-        self.censored.merge(&other.censored);
+        for (mine, theirs) in self.paths.iter_mut().zip(other.paths.iter()) {
+            mine.merge(theirs);
+        }
         self.walk.jumps.merge(&other.walk.jumps);
         self.walk.direct_steps.merge(&other.walk.direct_steps);
         self.walk.jump_time_s.merge(&other.walk.jump_time_s);
         self.walk.total_time_s.merge(&other.walk.total_time_s);
         match (&mut self.resolved, &other.resolved) {
-            (Some(mine), Some(theirs)) => mine.merge(theirs),
-            (None, Some(theirs)) => self.resolved = Some(theirs.clone()),
+            (Some(mine), Some(theirs)) => {
+                assert!(
+                    mine.compatible(theirs),
+                    "resolved tallies on different layouts cannot be merged; check \
+                     Tally::compatible first"
+                );
+                mine.merge(theirs);
+            }
+            (None, Some(theirs)) => {
+                let mut theirs = theirs.clone();
+                if self.weighted {
+                    theirs.make_weighted();
+                }
+                self.resolved = Some(theirs);
+            }
             _ => {}
         }
     }
 
-    /// Whether `other` was made with the same histogram layouts (safe to merge).
+    /// Whether `other` keeps resolved counts on the same layout, or neither keeps any (safe
+    /// to merge).
     pub fn compatible(&self, other: &Tally) -> bool {
-        let resolved = match (&self.resolved, &other.resolved) {
+        match (&self.resolved, &other.resolved) {
             (Some(a), Some(b)) => a.compatible(b),
             (None, None) => true,
             _ => false,
-        };
-        resolved
-            && self
-                .path_stats()
-                .iter()
-                .zip(other.path_stats())
-                .all(|(a, b)| a.compatible(b))
-    }
-
-    /// Restores internal invariants after deserialising an untrusted tally.
-    /// Returns `false` if the data are inconsistent.
-    pub fn repair_after_load(&mut self) -> bool {
-        let mut ok = true;
-        for stats in [
-            &mut self.escaped,
-            &mut self.reflected,
-            &mut self.specular,
-            &mut self.transmitted,
-            &mut self.absorbed,
-            &mut self.censored,
-        ] {
-            ok &= stats.repair_after_load();
         }
-        let counted: u64 = self.path_stats().iter().map(|s| s.count()).sum();
-        ok && counted == self.launched
-    }
-
-    fn path_stats(&self) -> [&PathStats; 6] {
-        [
-            &self.escaped,
-            &self.reflected,
-            &self.specular,
-            &self.transmitted,
-            &self.absorbed,
-            &self.censored,
-        ]
     }
 
     /// Photons launched.
@@ -256,41 +260,65 @@ impl Tally {
         self.launched
     }
 
+    /// Whether some photon carried a weight other than 1.
+    pub fn is_weighted(&self) -> bool {
+        self.weighted
+    }
+
+    /// Kish's effective number of photons over every outcome, (Σw)²/Σw² (the number
+    /// launched for an analog run).
+    pub fn effective_photons(&self) -> f64 {
+        if !self.weighted {
+            return self.launched as f64;
+        }
+        let mut weight = WeightSum::ZERO;
+        let mut squared = 0.0;
+        for stats in self.path_stats() {
+            weight.merge(stats.weight_sum());
+            squared += stats.weight_squared();
+        }
+        if squared > 0.0 {
+            weight.value() * weight.value() / squared
+        } else {
+            0.0
+        }
+    }
+
     /// Photons that left a sphere.
     pub fn escaped(&self) -> &PathStats {
-        &self.escaped
+        self.stats(Outcome::Escaped)
     }
 
     /// Photons that left a slab through the top face.
     pub fn reflected(&self) -> &PathStats {
-        &self.reflected
+        self.stats(Outcome::Reflected)
     }
 
     /// Photons reflected by the top face before entering (specular reflection).
     pub fn specular(&self) -> &PathStats {
-        &self.specular
+        self.stats(Outcome::Specular)
     }
 
     /// Photons that left a slab through the bottom face.
     pub fn transmitted(&self) -> &PathStats {
-        &self.transmitted
+        self.stats(Outcome::Transmitted)
     }
 
     /// Photons absorbed.
     pub fn absorbed(&self) -> &PathStats {
-        &self.absorbed
+        self.stats(Outcome::Absorbed)
     }
 
     /// Photons stopped by the step cap.
     pub fn censored(&self) -> &PathStats {
-        &self.censored
+        self.stats(Outcome::Censored)
     }
 
     /// Every photon that left the medium, whichever way (sphere surface or either slab face).
     pub fn all_escapes(&self) -> PathStats {
-        let mut all = self.escaped.clone();
-        all.merge(&self.reflected);
-        all.merge(&self.transmitted);
+        let mut all = self.escaped().clone();
+        all.merge(self.reflected());
+        all.merge(self.transmitted());
         all
     }
 
@@ -299,13 +327,298 @@ impl Tally {
         &self.walk
     }
 
-    /// Fraction of launched photons counted in `stats`, with its binomial standard error.
-    pub fn fraction(&self, stats: &PathStats) -> (f64, f64) {
+    /// Fraction of the launched weight that ended in `stats`, f = Σw / N, with its
+    /// standard error √((Σw²/N − f²)/N) (binomial √(f(1 − f)/N) for analog photons).
+    /// `None` when no photon was launched: the fraction is then undefined, not 0.
+    pub fn fraction(&self, stats: &PathStats) -> Option<Estimate> {
         if self.launched == 0 {
-            return (0.0, 0.0);
+            return None;
         }
         let n = self.launched as f64;
-        let p = stats.count() as f64 / n;
-        (p, (p * (1.0 - p) / n).sqrt())
+        if !stats.is_weighted() {
+            let p = stats.count() as f64 / n;
+            return Some(Estimate {
+                value: p,
+                stderr: (p * (1.0 - p) / n).sqrt(),
+            });
+        }
+        let f = stats.weight() / n;
+        let second = stats.weight_squared() / n;
+        Some(Estimate {
+            value: f,
+            stderr: ((second - f * f).max(0.0) / n).sqrt(),
+        })
+    }
+
+    /// Reads a tally from JSON, checking it (see the module docs).
+    ///
+    /// # Errors
+    /// [`TallyError`] naming the field that is malformed or contradicts the rest.
+    pub fn from_json(value: serde_json::Value) -> Result<Tally, TallyError> {
+        let repr: TallyRepr = serde_path_to_error::deserialize(value).map_err(|error| {
+            let path = error.path().to_string();
+            TallyError::malformed(
+                if path == "." { String::new() } else { path },
+                error.into_inner().to_string(),
+            )
+        })?;
+        Tally::from_repr(repr)
+    }
+
+    fn from_repr(repr: TallyRepr) -> Result<Tally, TallyError> {
+        let mut tally = Tally {
+            launched: repr.launched,
+            weighted: repr.weighted,
+            ..Tally::default()
+        };
+        let given = [
+            repr.escaped,
+            repr.reflected,
+            repr.specular,
+            repr.transmitted,
+            repr.absorbed,
+            repr.censored,
+        ];
+        let mut counted = Some(0u64);
+        for ((slot, name), stats) in tally.paths.iter_mut().zip(OUTCOME_NAMES).zip(given) {
+            let stats = PathStats::from_repr(stats).map_err(|e| e.within(name))?;
+            if stats.count() > 0 && stats.is_weighted() != repr.weighted {
+                return Err(mode_error(name, repr.weighted));
+            }
+            counted = counted.and_then(|c| c.checked_add(stats.count()));
+            *slot = stats;
+        }
+        if counted != Some(tally.launched) {
+            return Err(TallyError::mismatch(
+                "launched",
+                "photons launched, against the sum of the outcomes",
+                tally.launched,
+                counted.map_or("more than 2^64".into(), |c| c.to_string()),
+            ));
+        }
+        tally.walk = repr.walk.check(&tally)?;
+        if let Some(resolved) = repr.resolved {
+            let resolved = ResolvedTally::from_repr(resolved).map_err(|e| e.within("resolved"))?;
+            if resolved.is_weighted() && !repr.weighted {
+                return Err(mode_error("resolved", false));
+            }
+            tally.resolved = Some(Box::new(resolved));
+            tally.check_resolved()?;
+        }
+        if tally.weighted {
+            tally.make_weighted();
+        }
+        Ok(tally)
+    }
+
+    /// The resolved series hold exactly the photons (and weights) of their outcomes.
+    fn check_resolved(&self) -> Result<(), TallyError> {
+        let Some(resolved) = &self.resolved else {
+            return Ok(());
+        };
+        for (name, outcome, count, weight) in resolved.outcome_totals() {
+            let stats = self.stats(outcome);
+            if count != stats.count() {
+                return Err(TallyError::mismatch(
+                    format!("resolved.{name}"),
+                    format!(
+                        "photons in the bins, against the {} photons",
+                        outcome_name(outcome)
+                    ),
+                    count,
+                    stats.count(),
+                ));
+            }
+            if resolved.is_weighted() && weight != stats.weight_sum() {
+                return Err(TallyError::mismatch(
+                    format!("resolved.{name}"),
+                    format!(
+                        "weight in the bins (2^-63 units), against the {} photons'",
+                        outcome_name(outcome)
+                    ),
+                    weight.raw(),
+                    stats.weight_sum().raw(),
+                ));
+            }
+        }
+        let (count, weight) = resolved.absorbed_by_layer_totals();
+        if count > self.absorbed().count() || weight > self.absorbed().weight_sum() {
+            return Err(TallyError::mismatch(
+                "resolved.absorbed_by_layer",
+                "photons in the bins, against the absorbed photons",
+                count,
+                format!("at most {}", self.absorbed().count()),
+            ));
+        }
+        Ok(())
     }
 }
+
+/// Where `outcome` sits in [`OUTCOME_NAMES`] and in a tally's outcome array.
+fn outcome_index(outcome: Outcome) -> usize {
+    match outcome {
+        Outcome::Escaped => 0,
+        Outcome::Reflected => 1,
+        Outcome::Specular => 2,
+        Outcome::Transmitted => 3,
+        Outcome::Absorbed => 4,
+        Outcome::Censored => 5,
+    }
+}
+
+fn outcome_name(outcome: Outcome) -> &'static str {
+    OUTCOME_NAMES[outcome_index(outcome)]
+}
+
+fn mode_error(name: &str, weighted: bool) -> TallyError {
+    TallyError::weights(
+        name,
+        if weighted {
+            "no weights, though the tally is weighted"
+        } else {
+            "weights, though the tally is analog (every weight 1)"
+        },
+    )
+}
+
+/// Serialised form of [`WalkCounters`].
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct WalkRepr {
+    jumps: ExactSumRepr,
+    direct_steps: ExactSumRepr,
+    jump_time_s: ExactSumRepr,
+    total_time_s: ExactSumRepr,
+}
+
+impl WalkRepr {
+    /// The counters, checked against the tally's outcomes.
+    fn check(self, tally: &Tally) -> Result<WalkCounters, TallyError> {
+        let exact = |name: &str, repr: ExactSumRepr| {
+            ExactSum::from_repr(repr).map_err(|e| e.within("walk").within(name))
+        };
+        let walk = WalkCounters {
+            jumps: exact("jumps", self.jumps)?,
+            direct_steps: exact("direct_steps", self.direct_steps)?,
+            jump_time_s: exact("jump_time_s", self.jump_time_s)?,
+            total_time_s: exact("total_time_s", self.total_time_s)?,
+        };
+        for (name, sum) in [
+            ("jumps", &walk.jumps),
+            ("direct_steps", &walk.direct_steps),
+            ("jump_time_s", &walk.jump_time_s),
+        ] {
+            if sum.value() < 0.0 {
+                return Err(TallyError::OutOfRange {
+                    field: format!("walk.{name}"),
+                    value: format!("{:e}", sum.value()),
+                    allowed: "[0, ∞) (a sum of counts or times)".into(),
+                });
+            }
+        }
+        let mut times = ExactSum::new();
+        for stats in tally.path_stats() {
+            times.merge(stats.time_s().exact_sum());
+        }
+        if times != walk.total_time_s {
+            return Err(TallyError::mismatch(
+                "walk.total_time_s",
+                "total time, against the sum of the outcomes' times",
+                format!("{:e}", walk.total_time_s.value()),
+                format!("{:e}", times.value()),
+            ));
+        }
+        let (jump, total) = (walk.jump_time_s.value(), walk.total_time_s.value());
+        if jump > total * (1.0 + 1e-9) {
+            return Err(TallyError::OutOfRange {
+                field: "walk.jump_time_s".into(),
+                value: format!("{jump:e} s"),
+                allowed: format!("[0, {total:e} s] (part of the total time)"),
+            });
+        }
+        Ok(walk)
+    }
+}
+
+/// Serialised form of [`WalkCounters`], as written.
+#[derive(Serialize)]
+struct WalkOut {
+    jumps: ExactSumRepr,
+    direct_steps: ExactSumRepr,
+    jump_time_s: ExactSumRepr,
+    total_time_s: ExactSumRepr,
+}
+
+impl Serialize for WalkCounters {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        WalkOut {
+            jumps: self.jumps.to_repr(),
+            direct_steps: self.direct_steps.to_repr(),
+            jump_time_s: self.jump_time_s.to_repr(),
+            total_time_s: self.total_time_s.to_repr(),
+        }
+        .serialize(serializer)
+    }
+}
+
+/// Serialised form of a [`Tally`], as read.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct TallyRepr {
+    launched: u64,
+    #[serde(default)]
+    weighted: bool,
+    escaped: PathStatsRepr,
+    reflected: PathStatsRepr,
+    specular: PathStatsRepr,
+    transmitted: PathStatsRepr,
+    absorbed: PathStatsRepr,
+    censored: PathStatsRepr,
+    walk: WalkRepr,
+    #[serde(default)]
+    resolved: Option<ResolvedRepr>,
+}
+
+/// Serialised form of a [`Tally`], as written.
+#[derive(Serialize)]
+struct TallyOut<'a> {
+    launched: u64,
+    weighted: bool,
+    escaped: &'a PathStats,
+    reflected: &'a PathStats,
+    specular: &'a PathStats,
+    transmitted: &'a PathStats,
+    absorbed: &'a PathStats,
+    censored: &'a PathStats,
+    walk: &'a WalkCounters,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    resolved: Option<&'a ResolvedTally>,
+}
+
+impl Serialize for Tally {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        TallyOut {
+            launched: self.launched,
+            weighted: self.weighted,
+            escaped: self.escaped(),
+            reflected: self.reflected(),
+            specular: self.specular(),
+            transmitted: self.transmitted(),
+            absorbed: self.absorbed(),
+            censored: self.censored(),
+            walk: &self.walk,
+            resolved: self.resolved.as_deref(),
+        }
+        .serialize(serializer)
+    }
+}
+
+impl<'de> Deserialize<'de> for Tally {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        let repr = TallyRepr::deserialize(deserializer)?;
+        Tally::from_repr(repr).map_err(serde::de::Error::custom)
+    }
+}
+
+#[cfg(test)]
+mod tests;

@@ -85,6 +85,7 @@ impl Photon {
             position_cm: [self.position.x, self.position.y, self.position.z],
             direction: [self.direction.x, self.direction.y, self.direction.z],
             layer: self.layer,
+            weight: 1.0,
         }
     }
 }

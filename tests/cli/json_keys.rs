@@ -14,6 +14,7 @@ use super::scale_support::{s, succeed};
 
 /// Keys added since the recorded lists, each documented in the README.
 const ADDED: &[&str] = &[
+    "effective_photons",
     "comparison.ks_p_value",
     "comparison.times_comparable",
     "comparison.verdict",

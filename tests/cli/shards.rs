@@ -225,3 +225,134 @@ fn resolved_slab_shards_merge_to_the_unsplit_run() {
     ])));
     assert_eq!(merged, unsplit);
 }
+
+/// Writes `value` as a shard file next to the originals and returns its path.
+fn write_tampered(directory: &TempDir, name: &str, value: &serde_json::Value) -> String {
+    let path = directory.path().join(name);
+    std::fs::write(&path, value.to_string()).unwrap();
+    s(&path).to_string()
+}
+
+#[test]
+fn merge_refuses_tampered_tallies_with_the_reason() {
+    let directory = tempfile::tempdir().unwrap();
+    let one = shard_file(&directory, 1, 2, &[]);
+    let two = shard_file(&directory, 2, 2, &[]);
+    let original = json(&std::fs::read_to_string(&two).unwrap());
+    let refuse = |name: &str, edit: &dyn Fn(&mut serde_json::Value), needles: &[&str]| {
+        let mut tampered = original.clone();
+        edit(&mut tampered);
+        let path = write_tampered(&directory, name, &tampered);
+        let stderr = fail(&["merge", &one, &path]);
+        let mut expected = vec!["damaged shard file", name];
+        expected.extend(needles);
+        assert_mentions(&stderr, &expected);
+    };
+    // Histogram counts that disagree with the outcome's count.
+    refuse(
+        "counts.json",
+        &|v| {
+            let bin = &mut v["tally"]["reflected"]["time_histogram"]["bins"][0][1];
+            *bin = serde_json::json!(bin.as_u64().unwrap() + 1);
+        },
+        &["tally.reflected.time_histogram", "photons counted"],
+    );
+    // An exact-sum state whose mean lies above the max.
+    let mut larger = sojourn::tally::ExactSum::new();
+    larger.add(
+        original["tally"]["reflected"]["time_s"]["sum"]["value"]
+            .as_f64()
+            .unwrap(),
+    );
+    larger.add(1.0);
+    refuse(
+        "mean.json",
+        &|v| v["tally"]["reflected"]["time_s"]["sum"] = serde_json::to_value(&larger).unwrap(),
+        &["tally.reflected.time_s.sum", "lies outside"],
+    );
+    // A maximum no value reached.
+    refuse(
+        "max.json",
+        &|v| v["tally"]["transmitted"]["time_s"]["max"] = serde_json::json!(1e308),
+        &["tally.transmitted.time_s.max", "max 1e308 is impossible"],
+    );
+    // More photons launched than the outcomes hold.
+    refuse(
+        "launched.json",
+        &|v| {
+            let launched = v["tally"]["launched"].as_u64().unwrap();
+            v["tally"]["launched"] = serde_json::json!(launched + 1);
+        },
+        &["tally.launched", "against the sum of the outcomes"],
+    );
+    // A file of the previous format is named as such.
+    refuse(
+        "old.json",
+        &|v| v["shard"]["format"] = serde_json::json!(1),
+        &["shard format 1", "reads format 2 only", "rerun it"],
+    );
+}
+
+#[test]
+fn merge_refuses_a_resolved_bin_of_two_to_the_63() {
+    let directory = tempfile::tempdir().unwrap();
+    let paths: Vec<String> = (1..=2)
+        .map(|k| {
+            let path = directory.path().join(format!("r{k}.json"));
+            let shard = format!("{k}/2");
+            succeed(&[
+                "run",
+                "models/opal-diffuser.json",
+                "--photons",
+                "400",
+                "--resolve",
+                "--shard",
+                &shard,
+                "--json",
+                s(&path),
+            ]);
+            s(&path).to_string()
+        })
+        .collect();
+    let mut tampered = json(&std::fs::read_to_string(&paths[1]).unwrap());
+    tampered["tally"]["resolved"]["reflected_by_time"][3] = serde_json::json!(1u64 << 63);
+    let path = write_tampered(&directory, "bin.json", &tampered);
+    let stderr = fail(&["merge", &paths[0], &path]);
+    assert_mentions(
+        &stderr,
+        &[
+            "damaged shard file",
+            "tally.resolved.reflected_by_time",
+            "against the reflected photons",
+        ],
+    );
+}
+
+#[test]
+fn a_shard_without_photons_reports_no_fractions() {
+    // Two photons in three shards: shard 1 holds none.
+    let directory = tempfile::tempdir().unwrap();
+    let path = directory.path().join("empty.json");
+    succeed(&[
+        "run",
+        MODEL,
+        "--photons",
+        "2",
+        "--shard",
+        "1/3",
+        "--json",
+        s(&path),
+    ]);
+    let report = json(&std::fs::read_to_string(&path).unwrap());
+    assert_eq!(report["photons"], 0);
+    for key in ["reflected", "transmitted", "absorbed", "censored"] {
+        assert!(
+            report["outcome"][key].is_null(),
+            "{key}: {}",
+            report["outcome"][key]
+        );
+        assert!(report["outcome"]["stderr"][key].is_null(), "{key}");
+    }
+    let notes = report["notes"].to_string();
+    assert!(notes.contains("no photons were launched"), "{notes}");
+}

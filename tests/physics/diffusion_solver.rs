@@ -690,13 +690,15 @@ struct Histogram {
 }
 
 fn escape_time_histogram(stats: &PathStats) -> Histogram {
-    let histogram = &stats.time_histogram;
-    let (below, above) = histogram.out_of_range();
+    let bins = stats
+        .time_histogram()
+        .contiguous()
+        .expect("photons escaped");
     Histogram {
-        edges: histogram.layout().edges(),
-        counts: histogram.bin_counts().iter().map(|&c| c as f64).collect(),
-        below: (below + histogram.zero_count()) as f64,
-        above: above as f64,
+        edges: bins.edges,
+        counts: bins.weights,
+        below: bins.below as f64,
+        above: bins.above as f64,
     }
 }
 
@@ -734,8 +736,8 @@ fn compare(medium: &Medium, tally: &Tally) -> Comparison {
     let escape_mc = n as f64 / launched as f64;
     Comparison {
         escapes: n,
-        mean_ratio: escapes.time_s.mean().unwrap() / theory,
-        mean_sigma: escapes.time_s.std_error().unwrap() / theory,
+        mean_ratio: escapes.time_s().mean().unwrap() / theory,
+        mean_sigma: escapes.time_s().std_error().unwrap() / theory,
         ks,
         escape_mc,
         escape_sigma: binomial_stderr(escape_mc, launched),

@@ -9,6 +9,7 @@ mod h_function;
 mod phase_functions;
 mod profile_media;
 mod profile_monte_carlo;
+mod quantiles;
 mod reproducibility;
 mod slab_optics;
 mod slab_reflectance;

@@ -54,7 +54,7 @@ fn profile_star_mean_escape_time_matches_extrapolated_diffusion() {
         photons,
         "every photon escapes (albedo 1)"
     );
-    let times = &tally.escaped().time_s;
+    let times = tally.escaped().time_s();
     let (mean, stderr) = (times.mean().unwrap(), times.std_error().unwrap());
     // Against the extrapolated diffusion time: 4σ plus the 1 % allowance above.
     assert_within(
@@ -75,7 +75,7 @@ fn profile_star_mean_escape_time_matches_extrapolated_diffusion() {
         0.01,
     );
     // Scatterings: the same comparison in steps.
-    let steps = &tally.escaped().scatterings;
+    let steps = tally.escaped().scatterings();
     assert_within(
         "MC mean scatterings / extrapolated diffusion",
         steps.mean().unwrap() / report.diffusion.mean_scatterings_extrapolated,

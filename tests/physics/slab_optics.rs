@@ -48,7 +48,7 @@ fn assert_energy_balance(tally: &Tally) {
         tally.censored(),
     ]
     .iter()
-    .map(|s| tally.fraction(s).0)
+    .map(|s| tally.fraction(s).unwrap().value)
     .sum();
     assert!(
         (fractions - 1.0).abs() < 1e-12,
@@ -72,7 +72,7 @@ fn giovanelli_semi_infinite_index_matched_to_glass() {
     let tally = direct(&medium, photons, 71, None);
     assert_energy_balance(&tally);
     assert_eq!(tally.transmitted().count(), 0);
-    let specular = tally.fraction(tally.specular()).0;
+    let specular = tally.fraction(tally.specular()).unwrap().value;
     assert_within(
         "specular",
         specular,
@@ -81,7 +81,7 @@ fn giovanelli_semi_infinite_index_matched_to_glass() {
         4.0,
         0.0,
     );
-    let total = specular + tally.fraction(tally.reflected()).0;
+    let total = specular + tally.fraction(tally.reflected()).unwrap().value;
     assert_within(
         "R total",
         total,
@@ -112,7 +112,7 @@ fn oblique_beam_specular_reflection_follows_fresnel() {
     let photons = 200_000;
     let tally = direct(&medium, photons, 72, None);
     assert_energy_balance(&tally);
-    let specular = tally.fraction(tally.specular()).0;
+    let specular = tally.fraction(tally.specular()).unwrap().value;
     assert_within(
         "specular",
         specular,
@@ -138,7 +138,7 @@ fn total_internal_reflection_traps_light_in_a_clear_glass_plate() {
     let photons = 100_000;
     let tally = direct(&medium, photons, 73, None);
     assert_energy_balance(&tally);
-    let absorbed = tally.fraction(tally.absorbed()).0;
+    let absorbed = tally.fraction(tally.absorbed()).unwrap().value;
     assert!(
         absorbed > trapped - 4.0 * binomial_stderr(trapped, photons),
         "{absorbed}"
@@ -161,7 +161,7 @@ trait AbsorbedFraction {
 
 impl AbsorbedFraction for Tally {
     fn fraction_absorbed(&self) -> f64 {
-        self.fraction(self.absorbed()).0
+        self.fraction(self.absorbed()).unwrap().value
     }
 }
 
@@ -185,7 +185,7 @@ fn energy_balance_holds_in_a_layered_refractive_stack() {
     let tally = direct(&medium, 20_000, 74, Some(10));
     assert_energy_balance(&tally);
     let resolved = tally.resolved().unwrap();
-    let absorbed_by_layer: u64 = resolved.absorbed_by_layer.iter().sum();
+    let absorbed_by_layer: u64 = resolved.absorbed_by_layer().total();
     assert_eq!(absorbed_by_layer, tally.absorbed().count());
 }
 
@@ -205,7 +205,7 @@ fn limb_darkening_of_a_deep_conservative_slab_follows_h() {
     .unwrap();
     let tally = direct(&medium, 160_000, 75, Some(5));
     let reflected = tally.reflected().count();
-    let counts = &tally.resolved().unwrap().reflected_by_cosine;
+    let counts = tally.resolved().unwrap().reflected_by_cosine().counts();
     let h = HFunction::new(1.0);
     let flux = |a: f64, b: f64| {
         let n = 2000;

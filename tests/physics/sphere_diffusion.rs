@@ -16,9 +16,9 @@ fn check_mean_scatterings(tau: f64, photons: u64, seed: u64) {
     let expected = (tau + MILNE_EXTRAPOLATION_LENGTH).powi(2) / 2.0;
     assert_within(
         &format!("mean scatterings, tau = {tau}"),
-        stats.scatterings.mean().unwrap(),
+        stats.scatterings().mean().unwrap(),
         expected,
-        stats.scatterings.std_error().unwrap(),
+        stats.scatterings().std_error().unwrap(),
         4.0,
         0.003 * expected,
     );
@@ -26,9 +26,9 @@ fn check_mean_scatterings(tau: f64, photons: u64, seed: u64) {
     let expected_time = expected / (tau * SPEED_OF_LIGHT_CM_S);
     assert_within(
         &format!("mean time, tau = {tau}"),
-        stats.time_s.mean().unwrap(),
+        stats.time_s().mean().unwrap(),
         expected_time,
-        stats.time_s.std_error().unwrap(),
+        stats.time_s().std_error().unwrap(),
         4.0,
         0.003 * expected_time,
     );

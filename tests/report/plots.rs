@@ -608,7 +608,7 @@ fn resolved_slab_has_time_absorption_and_angle_panels() {
         .map(|(h, e)| h * (e[1] - e[0]))
         .sum();
     assert!(
-        (area - run.report.analysis.outcome.absorbed).abs() < 1e-9,
+        (area - run.report.analysis.outcome.absorbed.unwrap()).abs() < 1e-9,
         "{area}"
     );
     assert_eq!(spec.chart.reference_lines.len(), 1, "one interface");

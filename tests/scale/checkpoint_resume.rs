@@ -85,3 +85,42 @@ fn a_checkpoint_is_refused_by_a_different_run() {
         "{error}"
     );
 }
+
+#[test]
+fn a_damaged_or_older_checkpoint_is_refused_with_the_field() {
+    let medium = uniform_sphere(3.0);
+    let config = RunConfig {
+        photons: 400,
+        seed: 9,
+        ..RunConfig::default()
+    };
+    let directory = tempfile::tempdir().unwrap();
+    let path = directory.path().join("run.ckpt");
+    let mut first = CheckpointedRun::open(&medium, &config, "m", "direct", &path, 100).unwrap();
+    first.step(&|_| {}).unwrap();
+    drop(first);
+    let saved: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+
+    let mut tampered = saved.clone();
+    tampered["tally"]["escaped"]["time_s"]["max"] = serde_json::json!(1e308);
+    std::fs::write(&path, tampered.to_string()).unwrap();
+    match CheckpointedRun::open(&medium, &config, "m", "direct", &path, 100) {
+        Err(CheckpointError::InvalidTally { problem, .. }) => {
+            assert_eq!(problem.field(), "tally.escaped.time_s.max");
+            assert!(problem.to_string().contains("impossible"), "{problem}");
+        }
+        other => panic!("expected an invalid tally, got {other:?}"),
+    }
+
+    let mut older = saved.clone();
+    older["format"] = serde_json::json!(1);
+    std::fs::write(&path, older.to_string()).unwrap();
+    let error = CheckpointedRun::open(&medium, &config, "m", "direct", &path, 100).unwrap_err();
+    assert!(
+        error
+            .to_string()
+            .contains("checkpoint format 1, but this sojourn reads format 2 only"),
+        "{error}"
+    );
+}

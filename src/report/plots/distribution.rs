@@ -168,7 +168,7 @@ impl DistributionPanel {
         let outside = bins.total - bins.in_bars();
         if outside > 0 {
             notes.push(format!(
-                "{outside} of {} photons lie outside the bars ({} = 0 or beyond the histogram range)",
+                "{outside} of {} photons lie outside the bars ({} = 0 or not finite)",
                 bins.total, self.symbol
             ));
         }
@@ -212,10 +212,9 @@ impl Panel for DistributionPanel {
 mod tests {
     use super::*;
     use crate::report::plots::style::{Colour, Dash};
-    use crate::tally::LogLayout;
 
     fn panel(values: impl Iterator<Item = f64>) -> DistributionPanel {
-        let mut histogram = LogHistogram::new(LogLayout::TIME_S);
+        let mut histogram = LogHistogram::new();
         values.for_each(|v| histogram.add(v));
         DistributionPanel {
             name: "t".into(),

@@ -137,7 +137,7 @@ pub fn escape_time_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
             "Monte Carlo, {} photons that left",
             group_digits(escapes.count())
         ),
-        histogram: escapes.time_histogram,
+        histogram: escapes.time_histogram().clone(),
         whole_numbers: false,
         theory,
         marks,

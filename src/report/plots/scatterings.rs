@@ -105,7 +105,7 @@ pub fn scatterings_panel(inputs: &RunInputs) -> Option<DistributionPanel> {
             "Monte Carlo, {} photons that left",
             group_digits(escapes.count())
         ),
-        histogram: escapes.scattering_histogram,
+        histogram: escapes.scattering_histogram().clone(),
         whole_numbers: true,
         theory,
         marks,
