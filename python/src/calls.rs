@@ -17,9 +17,9 @@ use pyo3::types::{PyBool, PyDict};
 use rayon::ThreadPool;
 use serde_json::Value;
 
+use sojourn::analysis::resolved_layout;
 use sojourn::medium::model_file::{ModelError, parse_model_value};
 use sojourn::medium::{Geometry, Medium};
-use sojourn::analysis::resolved_layout;
 use sojourn::report::{ProfileReport, RunReport};
 use sojourn::shard::Shard;
 use sojourn::simulation::{self, Method, RunConfig, RunResult};
@@ -143,17 +143,13 @@ fn run_in_chunks(
     })
 }
 
-/// The occupied part of a log histogram: its bin edges (one more than the counts) and
-/// counts; empty when nothing landed in its range.
+/// The occupied part of a histogram as contiguous fine bins: edges (one more than the
+/// counts) and counts; empty when no positive finite value landed in it.
 fn occupied_bins(histogram: &LogHistogram) -> (Vec<f64>, Vec<u64>) {
-    let Some((first, last)) = histogram.occupied_range() else {
-        return (Vec::new(), Vec::new());
-    };
-    let layout = histogram.layout();
-    (
-        (first..=last + 1).map(|k| layout.edge(k)).collect(),
-        (first..=last).map(|k| histogram.count(k)).collect(),
-    )
+    match histogram.contiguous() {
+        Some(bins) => (bins.edges, bins.counts),
+        None => (Vec::new(), Vec::new()),
+    }
 }
 
 /// What a run gives back to Python: the JSON report, as `sojourn run --json` writes it,
@@ -264,7 +260,7 @@ pub fn run(
         tally.transmitted(),
     ]
     .iter()
-    .map(|stats| occupied_bins(&stats.time_histogram))
+    .map(|stats| occupied_bins(stats.time_histogram()))
     .collect();
     Ok(RunOutput { json, histograms })
 }
