@@ -721,6 +721,7 @@ pub fn import_table(
         hydrogen_x: column_or(hydrogen, options.hydrogen_x),
         metals_z: column_or(metals, options.metals_z),
         opacity,
+        energy_generation_erg_g_s: None,
     })
     .map_err(|error: MediumError| table_error(error.to_string()))
 }

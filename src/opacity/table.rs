@@ -582,11 +582,18 @@ fn incomplete_grid(points: &[Point], temperatures: &[f64], densities: &[f64]) ->
     "the grid is incomplete".to_string()
 }
 
+/// Whether (T, ρ) lies within a relative 10⁻⁹ of the range (rounding, not a real excursion).
+fn within_rounding(range: &TableRange, temperature_k: f64, density_g_cm3: f64) -> bool {
+    let near = |x: f64, lo: f64, hi: f64| x >= lo * (1.0 - 1e-9) && x <= hi * (1.0 + 1e-9);
+    near(temperature_k, range.temperature_min_k, range.temperature_max_k)
+        && near(density_g_cm3, range.density_min_g_cm3, range.density_max_g_cm3)
+}
+
 /// An opacity table used as an [`OpacityLaw`], with a policy for points outside it.
 ///
 /// The table's own κ(T, ρ) is used whatever the X and Z of the gas. Outside the table the
 /// law returns NaN ([`OutsidePolicy::Refuse`]: callers check the range first and report the
-/// point) or the value at the nearest edge ([`OutsidePolicy::Clamp`]). The scattering fraction
+/// point; within 10⁻⁹ of an edge, rounding, the edge value) or the value at the nearest edge ([`OutsidePolicy::Clamp`]). The scattering fraction
 /// is unknown for a table and given as 0 (profile reports leave it empty). The temperature
 /// range is the table's.
 #[derive(Debug, Clone, PartialEq)]
@@ -615,10 +622,18 @@ impl TableOpacity {
 impl OpacityLaw for TableOpacity {
     fn opacity_cm2_g(&self, state: &GasState) -> f64 {
         match self.outside {
-            OutsidePolicy::Refuse => self
-                .table
-                .opacity_cm2_g(state.temperature_k, state.density_g_cm3)
-                .unwrap_or(f64::NAN),
+            OutsidePolicy::Refuse => {
+                let (t, rho) = (state.temperature_k, state.density_g_cm3);
+                match self.table.opacity_cm2_g(t, rho) {
+                    Ok(kappa) => kappa,
+                    // Within rounding of an edge (a surface cut is placed where T equals the
+                    // table's lowest temperature): the edge value.
+                    Err(outside) if within_rounding(&outside.range, t, rho) => {
+                        self.table.opacity_clamped_cm2_g(t, rho).0
+                    }
+                    Err(_) => f64::NAN,
+                }
+            }
             OutsidePolicy::Clamp => {
                 self.table
                     .opacity_clamped_cm2_g(state.temperature_k, state.density_g_cm3)

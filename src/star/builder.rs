@@ -197,6 +197,7 @@ pub fn polytrope_table(
         hydrogen_x: Some(ColumnValues::Constant(composition.hydrogen_x())),
         metals_z: Some(ColumnValues::Constant(composition.metals_z())),
         opacity: ProfileOpacity::Law(opacity),
+        energy_generation_erg_g_s: None,
     })
 }
 

@@ -43,8 +43,9 @@
 use serde::Serialize;
 
 use super::super::layer::{GasSample, Layer};
+use super::structure::{AtmosphereRow, RadialStructure, StructureRow};
 use super::{MediumError, ProfileOpacity, ProfileTable, Quantity, invalid};
-use crate::opacity::{OpacityLaw, TemperatureRange};
+use crate::opacity::{OpacityLaw, OpacityTable, OutsidePolicy, TableRange, TemperatureRange};
 use crate::transport::PhaseFunction;
 
 /// Default relative tolerance between neighbouring sub-shell extinctions (1 %).
@@ -130,6 +131,29 @@ pub struct SurfaceCut {
     pub dropped_mass_g: f64,
 }
 
+/// How a profile used an opacity table.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OpacityTableUse {
+    /// The table's path as the model file gives it.
+    pub file: String,
+    /// Grid temperatures × densities.
+    pub grid: [usize; 2],
+    /// The range the table covers.
+    pub range: TableRange,
+    /// How the table is interpolated.
+    pub interpolation: String,
+    /// What happens to points outside the table ("refuse" or "clamp").
+    pub outside: String,
+    /// Table rows of the profile (kept by the medium, the surface cut included) whose
+    /// (T, ρ) lay outside the table and were moved to its edge (0 unless clamping was asked
+    /// for).
+    pub clamped_rows: usize,
+}
+
+/// How the monotone interpolation of opacity tables is described in reports.
+pub const TABLE_INTERPOLATION: &str =
+    "monotone cubic (Steffen 1990) in log kappa over log T x log rho, tensor product";
+
 /// How a profile was represented, and how well.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ProfileSummary {
@@ -155,6 +179,11 @@ pub struct ProfileSummary {
     pub opacity: String,
     /// The opacity law's temperature range, K (None for tabulated opacity).
     pub temperature_range_k: Option<TemperatureRange>,
+    /// The opacity table, if the profile uses one: its file, range and how many rows were
+    /// clamped to its edges.
+    pub opacity_table: Option<OpacityTableUse>,
+    /// Luminosity of the layer, ∫ ε dm over it, erg s⁻¹ (None without energy generation).
+    pub luminosity_erg_s: Option<f64>,
     /// Inner radius of the profile layer, cm.
     pub inner_radius_cm: f64,
     /// Outer radius of the represented profile, cm (the surface cut, if any).
@@ -190,6 +219,9 @@ pub struct ProfileShells {
     pub within_tolerance: Vec<bool>,
     /// How the profile was represented.
     pub summary: ProfileSummary,
+    /// The profile's rows as point values with m(r) and L(r) (mass and luminosity counted
+    /// from the layer's inner boundary).
+    pub structure: RadialStructure,
 }
 
 impl ProfileTable {
@@ -314,6 +346,21 @@ impl ProfileTable {
                 self.surface_cut(law_ref, range, temperature, &mut notes)?
             }
             _ => (self.rows() - 1, self.outer_radius_cm(), None),
+        };
+        let opacity_table = match &self.columns.opacity {
+            ProfileOpacity::Table {
+                file,
+                table,
+                outside,
+            } => Some(self.check_table(
+                file,
+                table,
+                *outside,
+                (top_row, top_cm),
+                surface_cut.as_ref(),
+                &mut notes,
+            )?),
+            _ => None,
         };
 
         // Pieces on which σ is smooth.
@@ -481,6 +528,7 @@ impl ProfileTable {
         let has_metals = self.columns.metals_z.is_some();
         let known_fraction = match &self.columns.opacity {
             ProfileOpacity::Law(_) => true,
+            ProfileOpacity::Table { .. } => false,
             ProfileOpacity::Tabulated {
                 scattering_fraction,
                 ..
@@ -515,6 +563,7 @@ impl ProfileTable {
             layers.push((shell.outer_cm, layer.with_gas(gas)));
         }
         let inner_point = self.point(law_ref, None, inner_cm);
+        let structure = self.structure(law_ref, inner_cm, top_row, top_cm, surface_cut.is_some());
         let summary = ProfileSummary {
             layer_name: name.to_string(),
             model_layer: 0,
@@ -527,8 +576,11 @@ impl ProfileTable {
             opacity: match &self.columns.opacity {
                 ProfileOpacity::Law(spec) => spec.describe(),
                 ProfileOpacity::Tabulated { .. } => "tabulated".to_string(),
+                ProfileOpacity::Table { file, .. } => format!("opacity table {file}"),
             },
             temperature_range_k: range,
+            opacity_table,
+            luminosity_erg_s: structure.luminosity_erg_s(),
             inner_radius_cm: inner_cm,
             outer_radius_cm: top_cm,
             surface_cut,
@@ -545,6 +597,151 @@ impl ProfileTable {
             shells: layers,
             within_tolerance,
             summary,
+            structure,
+        })
+    }
+
+    /// The profile's rows from `inner_cm` to the surface `top_cm` (row `top_row` the last one
+    /// kept, the cut interpolated after it) as a [`RadialStructure`], and the rows above a
+    /// cut as its atmosphere.
+    fn structure(
+        &self,
+        law: Option<&dyn OpacityLaw>,
+        inner_cm: f64,
+        top_row: usize,
+        top_cm: f64,
+        cut: bool,
+    ) -> RadialStructure {
+        let c = &self.columns;
+        let radius = &c.radius_cm;
+        let has = (
+            c.temperature_k.is_some(),
+            c.hydrogen_x.is_some(),
+            c.metals_z.is_some(),
+            c.energy_generation_erg_g_s.is_some(),
+        );
+        let row_of = |r: f64, p: super::Point| StructureRow {
+            radius_cm: r,
+            density_g_cm3: p.density,
+            temperature_k: has.0.then_some(p.temperature),
+            hydrogen_x: has.1.then_some(p.hydrogen),
+            metals_z: has.2.then_some(p.metals),
+            opacity_cm2_g: p.opacity,
+            energy_generation_erg_g_s: has.3.then_some(p.energy),
+            mass_g: 0.0,
+            luminosity_erg_s: None,
+        };
+        let mut rows = Vec::with_capacity(top_row + 3);
+        if radius[0] > inner_cm {
+            rows.push(row_of(inner_cm, self.point_at(law, 0, 0.0)));
+        }
+        for row in 0..=top_row {
+            rows.push(row_of(radius[row], self.point_at(law, row, 0.0)));
+        }
+        let mut atmosphere = Vec::new();
+        if cut {
+            let at_cut = self.point(law, Some(top_row), top_cm);
+            if top_cm > radius[top_row] {
+                rows.push(row_of(top_cm, at_cut));
+            }
+            let gas = |r: f64, p: super::Point| AtmosphereRow {
+                radius_cm: r,
+                density_g_cm3: p.density,
+                temperature_k: p.temperature,
+                hydrogen_x: p.hydrogen,
+                metals_z: p.metals,
+            };
+            atmosphere.push(gas(top_cm, at_cut));
+            for row in top_row + 1..self.rows() {
+                if radius[row] > top_cm {
+                    atmosphere.push(gas(radius[row], self.point_at(law, row, 0.0)));
+                }
+            }
+        }
+        RadialStructure::new(rows, atmosphere, 0.0, 0.0)
+    }
+
+    /// Checks every row the medium keeps (and the surface cut) against the opacity table's
+    /// range: an error naming the row and the value, or, with clamping asked for, a count of
+    /// the clamped rows and a note.
+    fn check_table(
+        &self,
+        file: &str,
+        table: &OpacityTable,
+        outside: OutsidePolicy,
+        (top_row, top_cm): (usize, f64),
+        cut: Option<&SurfaceCut>,
+        notes: &mut Vec<String>,
+    ) -> Result<OpacityTableUse, MediumError> {
+        let range = table.range();
+        let temperature = self
+            .columns
+            .temperature_k
+            .as_deref()
+            .expect("validated: a table needs temperatures");
+        let density = &self.columns.density_g_cm3;
+        let mut points: Vec<(Option<usize>, f64, f64)> = (0..=top_row)
+            .map(|row| (Some(row), temperature[row], density[row]))
+            .collect();
+        if let Some(cut) = cut {
+            let r = &self.columns.radius_cm;
+            let w = (top_cm - r[top_row]) / (r[top_row + 1] - r[top_row]);
+            let rho = density[top_row] + w * (density[top_row + 1] - density[top_row]);
+            points.push((None, cut.temperature_k, rho));
+        }
+        let fix = format!(
+            "(T, rho) inside the opacity table {file} ({}); extend the table, or write              \"opacity_table\": {{\"file\": ..., \"outside\": \"clamp\"}} to clamp to its edges",
+            range.describe()
+        );
+        let mut clamped_rows = 0;
+        for (row, t, rho) in points {
+            if range.contains(t, rho) {
+                continue;
+            }
+            if outside == OutsidePolicy::Clamp {
+                clamped_rows += 1;
+                continue;
+            }
+            let t_inside = (range.temperature_min_k..=range.temperature_max_k).contains(&t);
+            return Err(match row {
+                Some(row) if !t_inside => MediumError::value(
+                    format!("temperature[{row}]"),
+                    t,
+                    Quantity::Dimensionless,
+                    format!("{fix} (density there {rho} g/cm^3)"),
+                ),
+                Some(row) => MediumError::value(
+                    format!("density[{row}]"),
+                    rho,
+                    Quantity::Dimensionless,
+                    format!("{fix} (temperature there {t} K)"),
+                ),
+                None => MediumError::value(
+                    "density",
+                    rho,
+                    Quantity::Dimensionless,
+                    format!(
+                        "{fix}: this is the density at the surface cut r = {top_cm} cm, where T \
+                         falls to the table's lowest temperature {t} K"
+                    ),
+                ),
+            });
+        }
+        if clamped_rows > 0 {
+            notes.push(format!(
+                "opacity table {file}: {clamped_rows} row(s) lie outside the table ({}) and \
+                 were clamped to its edges, as asked (\"outside\": \"clamp\"); their opacity is \
+                 an extrapolation by a constant",
+                range.describe()
+            ));
+        }
+        Ok(OpacityTableUse {
+            file: file.to_string(),
+            grid: [table.temperatures_k().len(), table.densities_g_cm3().len()],
+            range,
+            interpolation: TABLE_INTERPOLATION.to_string(),
+            outside: outside.name().to_string(),
+            clamped_rows,
         })
     }
 
