@@ -8,6 +8,7 @@ pub mod ks;
 #[cfg(test)]
 mod quadrature;
 mod sphere_check;
+pub mod stellar_times;
 pub mod time_resolved;
 
 pub use estimates::{DiffusionEstimate, MILNE_EXTRAPOLATION_LENGTH, estimate};

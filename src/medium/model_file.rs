@@ -318,15 +318,18 @@ impl ProfileSpec {
             self.opacity_table.is_some(),
         ];
         let count = given.iter().filter(|g| **g).count();
-        if count != 1 {
+        let choices = "\"opacity_law\" (a law, e.g. {\"kind\": \"electron_scattering\"}), \
+                       \"opacity\" (cm^2/g per row) or \"opacity_table\" (a table file)";
+        if count == 0 {
             return Err(MediumError::Invalid {
-                field: if count == 0 { "opacity_law" } else { "opacity" }.into(),
-                problem: format!(
-                    "{}: give exactly one of \"opacity_law\" (a law, e.g. {{\"kind\": \
-                     \"electron_scattering\"}}), \"opacity\" (cm^2/g per row) or \
-                     \"opacity_table\" (a table file)",
-                    if count == 0 { "missing" } else { "more than one opacity given" }
-                ),
+                field: "opacity_law".into(),
+                problem: format!("missing: give one of {choices}"),
+            });
+        }
+        if count > 1 {
+            return Err(MediumError::Invalid {
+                field: "opacity".into(),
+                problem: format!("give only one of {choices}, not both"),
             });
         }
         if self.scattering_fraction.is_some() && self.opacity.is_none() {

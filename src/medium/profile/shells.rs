@@ -851,6 +851,7 @@ mod tests {
             hydrogen_x: Some(ColumnValues::Constant(0.7)),
             metals_z: Some(ColumnValues::Constant(0.02)),
             opacity,
+            energy_generation_erg_g_s: None,
         })
         .unwrap()
     }
@@ -914,6 +915,7 @@ mod tests {
             hydrogen_x: Some(ColumnValues::Constant(0.7)),
             metals_z: Some(ColumnValues::Constant(0.02)),
             opacity: ProfileOpacity::Law(spec),
+            energy_generation_erg_g_s: None,
         })
         .unwrap();
         let shells = t.to_shells("", 0.0, 0.01).unwrap();
