@@ -46,8 +46,9 @@ pub struct StellarAnalysis {
     pub luminosity_erg_s: Option<f64>,
     /// Radiative and convective zones, innermost first (empty without L(r)).
     pub zones: Vec<Zone>,
-    /// Inner radius of the outer convective zone, cm (None if the outermost zone is
-    /// radiative; 0 for a fully convective star).
+    /// Inner radius of the outer convective zone, cm (the outermost convective zone with at
+    /// most 1 % of the mass above it; None if there is none; 0 for a star convective from the
+    /// centre).
     pub convective_base_radius_cm: Option<f64>,
     /// Time convection takes to cross the outer convective zone (mixing-length estimate), s.
     pub convective_crossing_time_s: Option<f64>,
@@ -89,7 +90,7 @@ impl StellarAnalysis {
                     .to_string(),
             );
         }
-        let convective_base_radius_cm = outer_convective_base_cm(&zones);
+        let convective_base_radius_cm = outer_convective_base_cm(structure, &zones);
         // The medium may end below the star's surface (a run stopped at the convective base).
         let surface = medium
             .truncation()
@@ -111,7 +112,7 @@ impl StellarAnalysis {
             radiant_energy_erg: energy.map(|e| e.0),
             time_to_convective_base_s: convective_base_radius_cm
                 .filter(|&base| within(base))
-                .map(|base| stellar_times::time_between_s(medium, 0.0, base)),
+                .map(|base| stellar_times::time_between_s(medium, 0.0, base).max(0.0)),
             luminosity_weighted_time_to_convective_base_s: convective_base_radius_cm
                 .filter(|&base| within(base))
                 .and_then(|base| stellar_times::luminosity_weighted_time_to_s(medium, base)),

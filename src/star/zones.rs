@@ -226,13 +226,20 @@ pub fn zones(structure: &RadialStructure, gradients: &[GradientRow]) -> Vec<Zone
     zones
 }
 
-/// The inner radius of the outer convective zone (the zone reaching the surface), cm; None
-/// if the outermost zone is radiative or there are no zones. 0 for a fully convective star.
-pub fn outer_convective_base_cm(zones: &[Zone]) -> Option<f64> {
-    zones
-        .last()
-        .filter(|z| z.kind == ZoneKind::Convective)
-        .map(|z| z.inner_radius_cm)
+/// Largest mass fraction that may lie above the outermost convective zone for it to count as
+/// an *outer* (envelope) convective zone: the radiative layers above it are then an
+/// atmosphere (at most 1 % of the mass), not a radiative envelope over a convective core.
+pub const ATMOSPHERE_MASS_FRACTION: f64 = 0.01;
+
+/// The inner radius of the outer convective zone, cm: the outermost convective zone, if at
+/// most [`ATMOSPHERE_MASS_FRACTION`] of the mass lies above it (a thin radiative atmosphere
+/// may). 0 for a star convective from the centre to its atmosphere; None if there is no such
+/// zone.
+pub fn outer_convective_base_cm(structure: &RadialStructure, zones: &[Zone]) -> Option<f64> {
+    let outermost = zones.iter().rev().find(|z| z.kind == ZoneKind::Convective)?;
+    let total = structure.mass_g();
+    let above = total - structure.mass_at(outermost.outer_radius_cm);
+    (above <= ATMOSPHERE_MASS_FRACTION * total).then_some(outermost.inner_radius_cm)
 }
 
 /// Convective speed of the mixing-length estimate at a point, cm s⁻¹: (α F / (10 ρ))^(1/3)
