@@ -173,9 +173,13 @@ pub fn execute(args: StarArgs) -> Result<()> {
         .and_then(|s| s.surface_cut.as_ref())
     {
         out += &format!(
-            "\n  surface cut at r = {:.6} R where T = {} K (the opacity law's lower limit)",
+            "\n  surface cut at r = {:.6} R where T = {} K (the lower limit of the opacity law or table)",
             cut.radius_cm / p.radius_cm(),
-            cut.temperature_k
+            if cut.temperature_k.fract() == 0.0 {
+                format!("{}", cut.temperature_k)
+            } else {
+                format_significant(cut.temperature_k, 6)
+            }
         );
     }
     if let Some(table) = &args.table {

@@ -137,14 +137,20 @@ impl TableRange {
             && (self.density_min_g_cm3..=self.density_max_g_cm3).contains(&density_g_cm3)
     }
 
-    /// "T 1e4 – 1e8 K, rho 1e-10 – 100 g/cm^3".
+    /// "T 1e4 – 1e8 K, rho 1e-10 – 100 g/cm^3" (6 significant digits).
     pub fn describe(&self) -> String {
+        let short = |x: f64| {
+            let text = format!("{x:.5e}");
+            let (mantissa, exponent) = text.split_once('e').expect("exponent form");
+            let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
+            format!("{mantissa}e{exponent}")
+        };
         format!(
-            "T {:e} – {:e} K, rho {:e} – {:e} g/cm^3",
-            self.temperature_min_k,
-            self.temperature_max_k,
-            self.density_min_g_cm3,
-            self.density_max_g_cm3
+            "T {} – {} K, rho {} – {} g/cm^3",
+            short(self.temperature_min_k),
+            short(self.temperature_max_k),
+            short(self.density_min_g_cm3),
+            short(self.density_max_g_cm3)
         )
     }
 }

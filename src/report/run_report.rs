@@ -4,7 +4,9 @@
 use serde::Serialize;
 
 use crate::diffusion::{self, DiffusionEstimate};
-use crate::medium::{Geometry, Medium};
+use crate::medium::{Geometry, Medium, Source};
+use crate::star::analysis::StellarAnalysis;
+use crate::star::zones::Zone;
 use crate::simulation::{Method, RunConfig, RunResult};
 use crate::tally::{PathStats, Tally};
 
@@ -192,6 +194,17 @@ pub struct DiffusionSummary {
     pub mean_scatterings_extrapolated: f64,
     /// Residence time of diffusion in each layer, s (sums to `mean_time_s`).
     pub layer_residence_s: Vec<f64>,
+    /// Stellar models with energy generation: the mean exit time averaged over where the
+    /// energy is released (to the medium's surface, or to where the walk stops), s.
+    pub luminosity_weighted_time_s: Option<f64>,
+    /// The same with the Milne extrapolated boundary, s.
+    pub luminosity_weighted_time_extrapolated_s: Option<f64>,
+    /// Flux-weighted mean residence time U_F / L (to the same boundary), s.
+    pub flux_weighted_time_s: Option<f64>,
+    /// Radiant energy content of the star over its luminosity, U_rad / L, s.
+    pub energy_content_time_s: Option<f64>,
+    /// Mean exit time from the centre to the base of the outer convective zone, s.
+    pub time_to_convective_base_s: Option<f64>,
 }
 
 impl From<&DiffusionEstimate> for DiffusionSummary {
@@ -207,8 +220,24 @@ impl From<&DiffusionEstimate> for DiffusionSummary {
             mean_scatterings: estimate.mean_scatterings,
             mean_scatterings_extrapolated: estimate.mean_scatterings_extrapolated,
             layer_residence_s: estimate.layer_residence_s.clone(),
+            luminosity_weighted_time_s: None,
+            luminosity_weighted_time_extrapolated_s: None,
+            flux_weighted_time_s: None,
+            energy_content_time_s: None,
+            time_to_convective_base_s: None,
         }
     }
+}
+
+/// Where a walk was stopped below the surface (`sojourn run --stop-at convective-base`).
+#[derive(Debug, Clone, Serialize)]
+pub struct StopAt {
+    /// Radius the walk stops at (photons reaching it count as escaped), cm.
+    pub radius_cm: f64,
+    /// The model's surface radius, cm.
+    pub surface_radius_cm: f64,
+    /// Time convection takes from there to the surface (mixing-length estimate), s.
+    pub convective_crossing_time_s: Option<f64>,
 }
 
 /// Monte Carlo against diffusion theory.
@@ -290,6 +319,12 @@ pub struct RunReport {
     /// Resolved slab tallies (with `--resolve`): time of flight, depth, angle, radius.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub resolved: Option<ResolvedSummary>,
+    /// Stellar models with energy generation: L = ∫ ε dm of the star, erg s⁻¹.
+    pub luminosity_erg_s: Option<f64>,
+    /// Stellar models with energy generation: radiative and convective zones of the star.
+    pub zones: Option<Vec<Zone>>,
+    /// Where the walk stopped below the surface (null when it ran to the surface).
+    pub stop_at: Option<StopAt>,
     /// One-line caveats for the reader.
     pub notes: Vec<String>,
     /// Wall-clock time of the run, s (varies run to run).
@@ -305,7 +340,30 @@ impl RunReport {
         let escape_time = DistributionSummary::of_time(&escapes);
         let scatterings = DistributionSummary::of_scatterings(&escapes);
         let is_slab = medium.geometry() == Geometry::Slab;
-        let comparison = compare(medium, tally, &escapes, &estimate);
+        let stellar = StellarAnalysis::of(medium);
+        let mut diffusion_summary = DiffusionSummary::from(&estimate);
+        if let Some(stellar) = &stellar {
+            let t = &stellar.times;
+            diffusion_summary.luminosity_weighted_time_s = t.luminosity_weighted_time_s;
+            diffusion_summary.luminosity_weighted_time_extrapolated_s =
+                t.luminosity_weighted_time_extrapolated_s;
+            diffusion_summary.flux_weighted_time_s = t.flux_weighted_time_s;
+            diffusion_summary.energy_content_time_s = t.energy_content_time_s;
+            diffusion_summary.time_to_convective_base_s = t.time_to_convective_base_s;
+        }
+        // Photons from the energy generation: compare with the luminosity-weighted times.
+        let energy_source = medium.source() == Source::EnergyGeneration;
+        let references = match (&stellar, energy_source) {
+            (Some(s), true) => (
+                s.times.luminosity_weighted_time_s.unwrap_or(0.0),
+                s.times.luminosity_weighted_time_extrapolated_s.unwrap_or(0.0),
+            ),
+            _ => (estimate.mean_time_s, estimate.mean_time_extrapolated_s),
+        };
+        let mut comparison = compare(medium, tally, &escapes, &estimate, references);
+        if energy_source {
+            comparison.scatterings_ratio = None;
+        }
         let launched = tally.launched().max(1) as f64;
         let walk = tally.walk();
         let total_time = walk.total_time_s.value();
@@ -327,6 +385,38 @@ impl RunReport {
             );
         }
         notes.extend(super::profile_report::profile_notes(medium));
+        if energy_source {
+            notes.push(
+                "photons start where the energy is released (probability ∝ ε ρ r² dr): the \
+                 time ratios compare with the luminosity-weighted diffusion times; \
+                 diffusion.mean_time_s is from the centre"
+                    .to_string(),
+            );
+        }
+        let stop_at = medium.truncation().map(|(radius_cm, surface_radius_cm)| StopAt {
+            radius_cm,
+            surface_radius_cm,
+            convective_crossing_time_s: stellar
+                .as_ref()
+                .filter(|s| {
+                    s.convective_base_radius_cm
+                        .is_some_and(|base| (base - radius_cm).abs() <= 1e-9 * radius_cm)
+                })
+                .and_then(|s| s.convective_crossing_time_s),
+        });
+        if let Some(stop) = &stop_at {
+            notes.push(format!(
+                "the walk stops at r = {:.6e} cm ({:.3} of the surface radius): photons reaching \
+                 it count as escaped, and every diffusion time is to that radius{}",
+                stop.radius_cm,
+                stop.radius_cm / stop.surface_radius_cm,
+                stop.convective_crossing_time_s.map_or_else(String::new, |t| format!(
+                    "; convection carries the energy on to the surface in about {} \
+                     (mixing-length estimate)",
+                    crate::units::format_duration(t)
+                ))
+            ));
+        }
         if tally.censored().count() > 0 {
             notes.push(format!(
                 "{} photons hit the step cap ({}) and are counted as censored; raise \
@@ -357,7 +447,7 @@ impl RunReport {
                 .then(|| DistributionSummary::of_time(tally.reflected()).seconds()),
             transmitted_time: is_slab
                 .then(|| DistributionSummary::of_time(tally.transmitted()).seconds()),
-            diffusion: DiffusionSummary::from(&estimate),
+            diffusion: diffusion_summary,
             comparison,
             walk: WalkSummary {
                 gamma: accelerated.then_some(config.acceleration.gamma),
@@ -374,6 +464,12 @@ impl RunReport {
             },
             slab_diffusion: slab_diffusion(medium, tally),
             resolved: resolved_summary(medium, tally),
+            luminosity_erg_s: stellar.as_ref().and_then(|s| s.luminosity_erg_s),
+            zones: stellar
+                .as_ref()
+                .filter(|s| s.luminosity_erg_s.is_some())
+                .map(|s| s.zones.clone()),
+            stop_at,
             notes,
             elapsed_s: result.elapsed_s,
         }
@@ -405,22 +501,25 @@ fn outcome_fractions(tally: &Tally, is_slab: bool) -> OutcomeFractions {
     }
 }
 
+/// Monte Carlo against diffusion; `(plain, extrapolated)` are the reference mean times
+/// (from the source: its own point, or averaged over the energy generation).
 fn compare(
     medium: &Medium,
     _tally: &Tally,
     escapes: &PathStats,
     estimate: &DiffusionEstimate,
+    (plain, extrapolated): (f64, f64),
 ) -> Comparison {
     let mean = escapes.time_s.mean();
     let stderr = escapes.time_s.std_error();
     let ratio = |reference: f64| mean.filter(|_| reference > 0.0).map(|m| m / reference);
-    let time_ratio = ratio(estimate.mean_time_extrapolated_s);
+    let time_ratio = ratio(extrapolated);
     Comparison {
         time_ratio,
         time_ratio_stderr: stderr
-            .filter(|_| estimate.mean_time_extrapolated_s > 0.0)
-            .map(|s| s / estimate.mean_time_extrapolated_s),
-        time_ratio_plain: ratio(estimate.mean_time_s),
+            .filter(|_| extrapolated > 0.0)
+            .map(|s| s / extrapolated),
+        time_ratio_plain: ratio(plain),
         naive_time_ratio: ratio(estimate.naive_time_s),
         scatterings_ratio: escapes
             .scatterings
