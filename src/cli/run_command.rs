@@ -153,7 +153,9 @@ fn load(args: &RunArgs) -> Result<(Medium, String, Value)> {
 /// The medium cut at the base of its outer convective zone.
 fn stop_at_convective_base(medium: Medium, file: &str) -> Result<Medium> {
     let analysis = StellarAnalysis::of(&medium).with_context(|| {
-        format!("{file}: --stop-at convective-base needs a stellar model (a sphere of profile layers)")
+        format!(
+            "{file}: --stop-at convective-base needs a stellar model (a sphere of profile layers)"
+        )
     })?;
     let Some(base) = analysis.convective_base_radius_cm else {
         anyhow::bail!(

@@ -11,8 +11,8 @@ use sojourn::star::builder::{DEFAULT_ROWS, PolytropeStar, PressureChoice, interi
 use sojourn::units::{SOLAR_LUMINOSITY_ERG_S, format_significant};
 
 use super::args;
-use super::stellar_args::{EnergyChoice, energy, table_for_model};
 use super::output::write_atomically;
+use super::stellar_args::{EnergyChoice, energy, table_for_model};
 
 /// Arguments of `sojourn star`.
 #[derive(Debug, Args)]

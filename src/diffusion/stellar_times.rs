@@ -35,7 +35,11 @@ fn shells_below(medium: &Medium, limit_cm: f64) -> Vec<(f64, f64, f64)> {
     (0..medium.layers().len())
         .map(|k| {
             let (a, b) = medium.layer_bounds_cm(k);
-            (a, b.min(limit_cm), medium.layers()[k].transport_extinction_per_cm())
+            (
+                a,
+                b.min(limit_cm),
+                medium.layers()[k].transport_extinction_per_cm(),
+            )
         })
         .filter(|(a, b, _)| b > a)
         .collect()
@@ -115,8 +119,7 @@ pub fn flux_weighted_time_s(medium: &Medium) -> Option<f64> {
     for &(a, b, sigma) in shells.iter().rev() {
         let coefficient = 3.0 * sigma / (pi4 * SPEED_OF_LIGHT_CM_S);
         let u = |r: f64| {
-            u_outer
-                + coefficient * gauss4(r, b, |x| emission.luminosity_inside(x) / (x * x))
+            u_outer + coefficient * gauss4(r, b, |x| emission.luminosity_inside(x) / (x * x))
         };
         content += pi4 * gauss4(a, b, |r| r * r * u(r));
         u_outer = u(a);

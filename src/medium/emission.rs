@@ -221,7 +221,10 @@ mod tests {
             let p = s.luminosity_at(*edge).unwrap() / total;
             let observed = inside[slot] as f64 / n as f64;
             let sigma = (p * (1.0 - p) / n as f64).sqrt();
-            assert!((observed - p).abs() < 4.0 * sigma, "r < {edge}: {observed} vs {p}");
+            assert!(
+                (observed - p).abs() < 4.0 * sigma,
+                "r < {edge}: {observed} vs {p}"
+            );
             assert!((sampler.luminosity_inside(*edge) / total - p).abs() < 1e-14);
         }
         // Truncated at r = 1: renormalised to L(1).

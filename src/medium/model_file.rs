@@ -1025,9 +1025,10 @@ fn build_source(
             "kind",
             "an energy-generation source needs a sphere of profile layers",
         )),
-        (GeometrySpec::Sphere, SourceKind::Beam) => {
-            Err(unexpected("kind", "a sphere takes only \"point\" or \"energy_generation\" sources"))
-        }
+        (GeometrySpec::Sphere, SourceKind::Beam) => Err(unexpected(
+            "kind",
+            "a sphere takes only \"point\" or \"energy_generation\" sources",
+        )),
         (GeometrySpec::Slab, SourceKind::Beam) => {
             if spec.depth.is_some() || spec.radius.is_some() {
                 return Err(unexpected("depth", "a beam takes only \"polar_angle_deg\""));
@@ -1068,8 +1069,9 @@ fn build_source(
             }
             Ok(Source::Diffuse)
         }
-        (GeometrySpec::Sphere, SourceKind::Plane | SourceKind::Diffuse) => {
-            Err(unexpected("kind", "a sphere takes only \"point\" or \"energy_generation\" sources"))
-        }
+        (GeometrySpec::Sphere, SourceKind::Plane | SourceKind::Diffuse) => Err(unexpected(
+            "kind",
+            "a sphere takes only \"point\" or \"energy_generation\" sources",
+        )),
     }
 }

@@ -479,8 +479,10 @@ impl OpacityTable {
         let ld = density_g_cm3
             .log10()
             .clamp(ld_axis[0], ld_axis[ld_axis.len() - 1]);
-        let cell = |axis: &[f64], x: f64| axis.partition_point(|&v| v <= x).clamp(1, axis.len() - 1) - 1;
-        let window = |axis: &[f64], cell: usize| (cell.saturating_sub(1), (cell + 3).min(axis.len()));
+        let cell =
+            |axis: &[f64], x: f64| axis.partition_point(|&v| v <= x).clamp(1, axis.len() - 1) - 1;
+        let window =
+            |axis: &[f64], cell: usize| (cell.saturating_sub(1), (cell + 3).min(axis.len()));
         let (it, id) = (cell(lt_axis, lt), cell(ld_axis, ld));
         let (t_from, t_to) = window(lt_axis, it);
         let (d_from, d_to) = window(ld_axis, id);
@@ -528,9 +530,8 @@ fn header_order(record: &csv::StringRecord) -> Result<[usize; 3], String> {
 /// (one that appears at far fewer points than the others: the grid is not rectilinear) with
 /// its line, or else the first missing point.
 fn incomplete_grid(points: &[Point], temperatures: &[f64], densities: &[f64]) -> String {
-    let count = |pick: fn(&Point) -> f64, value: f64| {
-        points.iter().filter(|p| pick(p) == value).count()
-    };
+    let count =
+        |pick: fn(&Point) -> f64, value: f64| points.iter().filter(|p| pick(p) == value).count();
     for (pick, values, others, what, other_what, unit) in [
         (
             (|p: &Point| p.1) as fn(&Point) -> f64,
@@ -554,10 +555,7 @@ fn incomplete_grid(points: &[Point], temperatures: &[f64], densities: &[f64]) ->
             .iter()
             .find(|&&v| 2 * count(pick, v) <= most && count(pick, v) < others)
         {
-            let line = points
-                .iter()
-                .find(|p| pick(p) == value)
-                .map_or(0, |p| p.0);
+            let line = points.iter().find(|p| pick(p) == value).map_or(0, |p| p.0);
             return format!(
                 "line {line}: the {what} {value} {unit} appears at {} of the {others} {other_what} \
                  (other {what}s at up to {most}): the table is not a rectilinear grid; every \
@@ -591,8 +589,15 @@ fn incomplete_grid(points: &[Point], temperatures: &[f64], densities: &[f64]) ->
 /// Whether (T, ρ) lies within a relative 10⁻⁹ of the range (rounding, not a real excursion).
 fn within_rounding(range: &TableRange, temperature_k: f64, density_g_cm3: f64) -> bool {
     let near = |x: f64, lo: f64, hi: f64| x >= lo * (1.0 - 1e-9) && x <= hi * (1.0 + 1e-9);
-    near(temperature_k, range.temperature_min_k, range.temperature_max_k)
-        && near(density_g_cm3, range.density_min_g_cm3, range.density_max_g_cm3)
+    near(
+        temperature_k,
+        range.temperature_min_k,
+        range.temperature_max_k,
+    ) && near(
+        density_g_cm3,
+        range.density_min_g_cm3,
+        range.density_max_g_cm3,
+    )
 }
 
 /// An opacity table used as an [`OpacityLaw`], with a policy for points outside it.
@@ -682,7 +687,13 @@ mod tests {
     fn a_power_law_table_is_reproduced_exactly_between_its_points() {
         let table = OpacityTable::parse(SMALL, "t.csv").unwrap();
         assert_eq!(table.temperatures_k(), [100.0, 1e4, 1e6]);
-        for (t, rho) in [(300.0f64, 2.0), (1e4, 5.0), (5e5, 1.0), (1e6, 10.0), (100.0, 1.0)] {
+        for (t, rho) in [
+            (300.0f64, 2.0),
+            (1e4, 5.0),
+            (5e5, 1.0),
+            (1e6, 10.0),
+            (100.0, 1.0),
+        ] {
             let exact = 0.1 * t.sqrt() * rho;
             let kappa = table.opacity_cm2_g(t, rho).unwrap();
             assert!((kappa / exact - 1.0).abs() < 1e-12, "({t}, {rho}): {kappa}");
@@ -703,7 +714,10 @@ mod tests {
         let outside = table.opacity_cm2_g(50.0, 2.0).unwrap_err();
         assert_eq!(outside.temperature_k, 50.0);
         let message = outside.to_string();
-        assert!(message.contains("t.csv") && message.contains("T = 50 K"), "{message}");
+        assert!(
+            message.contains("t.csv") && message.contains("T = 50 K"),
+            "{message}"
+        );
         assert!(message.contains("1e2 – 1e6 K"), "{message}");
         assert!(table.opacity_cm2_g(1e3, 11.0).is_err());
         assert!(table.opacity_cm2_g(f64::NAN, 1.0).is_err());
@@ -762,9 +776,15 @@ mod tests {
             "{negative}"
         );
         let zero = error(&good.replace(row, "10000,10,0\n"));
-        assert!(zero.contains(&format!("line {at}")) && zero.contains(": 0:"), "{zero}");
+        assert!(
+            zero.contains(&format!("line {at}")) && zero.contains(": 0:"),
+            "{zero}"
+        );
         let fields = error(&good.replace(row, "10000,10\n"));
-        assert!(fields.contains(&format!("line {at}: 2 field(s)")), "{fields}");
+        assert!(
+            fields.contains(&format!("line {at}: 2 field(s)")),
+            "{fields}"
+        );
         let missing = error(&good.replace(row, ""));
         assert!(
             missing.contains("no row for the grid point T = 10000 K, rho = 10 g/cm^3"),
@@ -772,8 +792,9 @@ mod tests {
         );
         let skewed = error(&good.replace(row, "12000,10,100\n"));
         assert!(
-            skewed.contains(&format!("t.csv: line {at}: the temperature 12000 K appears at 1"))
-                && skewed.contains("not a rectilinear grid"),
+            skewed.contains(&format!(
+                "t.csv: line {at}: the temperature 12000 K appears at 1"
+            )) && skewed.contains("not a rectilinear grid"),
             "{skewed}"
         );
         let repeated = error(&format!("{good}10000,10,100\n"));
@@ -799,7 +820,10 @@ mod tests {
         for k in 0..=800 {
             let t = 10f64.powf(k as f64 / 100.0);
             let kappa = table.opacity_cm2_g(t, 5.0).unwrap();
-            assert!((1.0 - 1e-12..=100.0 + 1e-9).contains(&kappa), "T = {t}: {kappa}");
+            assert!(
+                (1.0 - 1e-12..=100.0 + 1e-9).contains(&kappa),
+                "T = {t}: {kappa}"
+            );
         }
     }
 }

@@ -369,7 +369,10 @@ impl ProfileReport {
         if let Some(stellar) = &stellar {
             notes.extend(stellar.notes.iter().cloned());
         }
-        let times = stellar.as_ref().map(|s| s.times.clone()).unwrap_or_default();
+        let times = stellar
+            .as_ref()
+            .map(|s| s.times.clone())
+            .unwrap_or_default();
 
         Ok(Self {
             sojourn_version: env!("CARGO_PKG_VERSION").to_string(),
@@ -385,7 +388,10 @@ impl ProfileReport {
             photosphere_radius_cm,
             photosphere: stellar.as_ref().and_then(|s| s.photosphere.clone()),
             luminosity_erg_s: stellar.as_ref().and_then(|s| s.luminosity_erg_s),
-            zones: stellar.as_ref().map(|s| s.zones.clone()).unwrap_or_default(),
+            zones: stellar
+                .as_ref()
+                .map(|s| s.zones.clone())
+                .unwrap_or_default(),
             convective_base_radius_cm: stellar.as_ref().and_then(|s| s.convective_base_radius_cm),
             central_density_g_cm3,
             mean_density_g_cm3: mass.map(|m| m / volume),

@@ -145,8 +145,10 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
                 out,
                 "  photosphere (τ = 2/3)             {}{}{}",
                 length(p.radius_cm),
-                p.temperature_k
-                    .map_or_else(String::new, |t| format!(", T = {} K", format_significant(t, 4))),
+                p.temperature_k.map_or_else(String::new, |t| format!(
+                    ", T = {} K",
+                    format_significant(t, 4)
+                )),
                 if p.above_surface_cut {
                     ", above the surface cut (H⁻ blend there)"
                 } else if cut.is_some() {
@@ -281,11 +283,11 @@ fn write_stellar_times(out: &mut String, report: &ProfileReport, length: &dyn Fn
                 "same, Milne extrapolated boundary",
                 d.luminosity_weighted_time_extrapolated_s,
             ),
+            ("flux-weighted residence U_F/L", d.flux_weighted_time_s),
             (
-                "flux-weighted residence U_F/L",
-                d.flux_weighted_time_s,
+                "radiant energy / luminosity U_rad/L",
+                d.energy_content_time_s,
             ),
-            ("radiant energy / luminosity U_rad/L", d.energy_content_time_s),
         ];
         for (label, value) in rows {
             let _ = writeln!(out, "  {label:<48} {}", time(value));

@@ -5,9 +5,9 @@ use serde::Serialize;
 
 use crate::diffusion::{self, DiffusionEstimate};
 use crate::medium::{Geometry, Medium, Source};
+use crate::simulation::{Method, RunConfig, RunResult};
 use crate::star::analysis::StellarAnalysis;
 use crate::star::zones::Zone;
-use crate::simulation::{Method, RunConfig, RunResult};
 use crate::tally::{PathStats, Tally};
 
 use super::slab_optics::{ResolvedSummary, SlabDiffusion, resolved_summary, slab_diffusion};
@@ -356,7 +356,9 @@ impl RunReport {
         let references = match (&stellar, energy_source) {
             (Some(s), true) => (
                 s.times.luminosity_weighted_time_s.unwrap_or(0.0),
-                s.times.luminosity_weighted_time_extrapolated_s.unwrap_or(0.0),
+                s.times
+                    .luminosity_weighted_time_extrapolated_s
+                    .unwrap_or(0.0),
             ),
             _ => (estimate.mean_time_s, estimate.mean_time_extrapolated_s),
         };
@@ -393,28 +395,31 @@ impl RunReport {
                     .to_string(),
             );
         }
-        let stop_at = medium.truncation().map(|(radius_cm, surface_radius_cm)| StopAt {
-            radius_cm,
-            surface_radius_cm,
-            convective_crossing_time_s: stellar
-                .as_ref()
-                .filter(|s| {
-                    s.convective_base_radius_cm
-                        .is_some_and(|base| (base - radius_cm).abs() <= 1e-9 * radius_cm)
-                })
-                .and_then(|s| s.convective_crossing_time_s),
-        });
+        let stop_at = medium
+            .truncation()
+            .map(|(radius_cm, surface_radius_cm)| StopAt {
+                radius_cm,
+                surface_radius_cm,
+                convective_crossing_time_s: stellar
+                    .as_ref()
+                    .filter(|s| {
+                        s.convective_base_radius_cm
+                            .is_some_and(|base| (base - radius_cm).abs() <= 1e-9 * radius_cm)
+                    })
+                    .and_then(|s| s.convective_crossing_time_s),
+            });
         if let Some(stop) = &stop_at {
             notes.push(format!(
                 "the walk stops at r = {:.6e} cm ({:.3} of the surface radius): photons reaching \
                  it count as escaped, and every diffusion time is to that radius{}",
                 stop.radius_cm,
                 stop.radius_cm / stop.surface_radius_cm,
-                stop.convective_crossing_time_s.map_or_else(String::new, |t| format!(
-                    "; convection carries the energy on to the surface in about {} \
+                stop.convective_crossing_time_s
+                    .map_or_else(String::new, |t| format!(
+                        "; convection carries the energy on to the surface in about {} \
                      (mixing-length estimate)",
-                    crate::units::format_duration(t)
-                ))
+                        crate::units::format_duration(t)
+                    ))
             ));
         }
         if tally.censored().count() > 0 {

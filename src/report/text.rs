@@ -50,10 +50,22 @@ pub(super) fn scattering_time_rows(out: &mut String, rows: &[(&str, f64, f64)], 
 fn write_stellar_rows(out: &mut String, report: &RunReport) {
     let d = &report.diffusion;
     for (label, value) in [
-        ("from where the energy is released (L-weighted)", d.luminosity_weighted_time_s),
-        ("same, Milne extrapolated boundary", d.luminosity_weighted_time_extrapolated_s),
-        ("radiant energy / luminosity U_rad/L", d.energy_content_time_s),
-        ("from the centre to the convective base", d.time_to_convective_base_s),
+        (
+            "from where the energy is released (L-weighted)",
+            d.luminosity_weighted_time_s,
+        ),
+        (
+            "same, Milne extrapolated boundary",
+            d.luminosity_weighted_time_extrapolated_s,
+        ),
+        (
+            "radiant energy / luminosity U_rad/L",
+            d.energy_content_time_s,
+        ),
+        (
+            "from the centre to the convective base",
+            d.time_to_convective_base_s,
+        ),
     ] {
         if let Some(value) = value {
             let _ = writeln!(out, "  {label:<48} t = {}", format_duration(value));

@@ -105,14 +105,11 @@ impl EnergyLaws {
 
     /// "pp chain + CNO cycle (power laws)".
     pub fn describe(&self) -> String {
-        let parts: Vec<&str> = [
-            (self.pp_chain, "pp chain"),
-            (self.cno_cycle, "CNO cycle"),
-        ]
-        .iter()
-        .filter(|(on, _)| *on)
-        .map(|(_, name)| *name)
-        .collect();
+        let parts: Vec<&str> = [(self.pp_chain, "pp chain"), (self.cno_cycle, "CNO cycle")]
+            .iter()
+            .filter(|(on, _)| *on)
+            .map(|(_, name)| *name)
+            .collect();
         format!("{} (power laws)", parts.join(" + "))
     }
 
@@ -151,7 +148,10 @@ mod tests {
 
     #[test]
     fn short_names_parse() {
-        assert_eq!(EnergyLaws::parse_short("pp+cno").unwrap(), Some(EnergyLaws::default()));
+        assert_eq!(
+            EnergyLaws::parse_short("pp+cno").unwrap(),
+            Some(EnergyLaws::default())
+        );
         assert_eq!(
             EnergyLaws::parse_short("cno").unwrap(),
             Some(EnergyLaws {

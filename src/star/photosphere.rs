@@ -44,7 +44,12 @@ pub struct Photosphere {
 }
 
 /// σ = κ_atm ρ at fraction `s` between two atmosphere rows, per cm.
-fn atmosphere_extinction(law: &SmoothHMinusBlend, a: &AtmosphereRow, b: &AtmosphereRow, s: f64) -> f64 {
+fn atmosphere_extinction(
+    law: &SmoothHMinusBlend,
+    a: &AtmosphereRow,
+    b: &AtmosphereRow,
+    s: f64,
+) -> f64 {
     let lerp = |x: f64, y: f64| x + s * (y - x);
     let state = GasState {
         density_g_cm3: lerp(a.density_g_cm3, b.density_g_cm3).max(0.0),
@@ -127,8 +132,9 @@ pub fn photosphere(medium: &Medium) -> Option<Photosphere> {
                      cut (r = {cut:.6e} cm, smooth H-minus / electron scattering + Kramers \
                      blend there), the rest inside the medium"
                 ),
-                None => "tau = 2/3 from the medium's surface, with the model's own opacity"
-                    .to_string(),
+                None => {
+                    "tau = 2/3 from the medium's surface, with the model's own opacity".to_string()
+                }
             };
             return Some(Photosphere {
                 radius_cm,

@@ -236,7 +236,10 @@ pub const ATMOSPHERE_MASS_FRACTION: f64 = 0.01;
 /// may). 0 for a star convective from the centre to its atmosphere; None if there is no such
 /// zone.
 pub fn outer_convective_base_cm(structure: &RadialStructure, zones: &[Zone]) -> Option<f64> {
-    let outermost = zones.iter().rev().find(|z| z.kind == ZoneKind::Convective)?;
+    let outermost = zones
+        .iter()
+        .rev()
+        .find(|z| z.kind == ZoneKind::Convective)?;
     let total = structure.mass_g();
     let above = total - structure.mass_at(outermost.outer_radius_cm);
     (above <= ATMOSPHERE_MASS_FRACTION * total).then_some(outermost.inner_radius_cm)
@@ -317,7 +320,8 @@ mod tests {
         let mu: f64 = 0.6;
         let gas = BOLTZMANN_ERG_K / (mu * ATOMIC_MASS_UNIT_G);
         let a = RADIATION_CONSTANT_CGS;
-        let entropy = |t: f64, v: f64| gas * (1.5 * t.ln() + v.ln()) + 4.0 / 3.0 * a * t.powi(3) * v;
+        let entropy =
+            |t: f64, v: f64| gas * (1.5 * t.ln() + v.ln()) + 4.0 / 3.0 * a * t.powi(3) * v;
         let pressure = |t: f64, v: f64| gas * t / v + a * t.powi(4) / 3.0;
         for (rho, t) in [(1.0, 1e7), (1e-3, 1e7), (1e-6, 1e7), (1e-2, 3e7)] {
             let (v0, t0) = (1.0 / rho, t);
@@ -327,13 +331,20 @@ mod tests {
             let (mut lo, mut hi) = (v0 * 0.5, v0 * 1.5);
             for _ in 0..200 {
                 let mid = 0.5 * (lo + hi);
-                if entropy(t1, mid) < s0 { lo = mid } else { hi = mid }
+                if entropy(t1, mid) < s0 {
+                    lo = mid
+                } else {
+                    hi = mid
+                }
             }
             let v1 = 0.5 * (lo + hi);
             let numeric = (t1 / t0).ln() / (pressure(t1, v1) / pressure(t0, v0)).ln();
             let (_, beta) = pressure_and_beta(rho, t, mu);
             let formula = adiabatic_gradient(beta);
-            assert!((numeric / formula - 1.0).abs() < 1e-5, "β = {beta}: {numeric} vs {formula}");
+            assert!(
+                (numeric / formula - 1.0).abs() < 1e-5,
+                "β = {beta}: {numeric} vs {formula}"
+            );
         }
     }
 

@@ -16,8 +16,8 @@ pub mod shells;
 pub mod structure;
 
 pub use shells::{
-    DEFAULT_TOLERANCE, MAX_SUB_SHELLS, OpacityTableUse, ProfileShells, ProfileSummary,
-    SurfaceCut, THIN_PAIR_OPTICAL_DEPTH,
+    DEFAULT_TOLERANCE, MAX_SUB_SHELLS, OpacityTableUse, ProfileShells, ProfileSummary, SurfaceCut,
+    THIN_PAIR_OPTICAL_DEPTH,
 };
 pub use structure::{AtmosphereRow, RadialStructure, StructureRow};
 

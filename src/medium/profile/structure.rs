@@ -166,19 +166,18 @@ impl RadialStructure {
                 row.energy_generation_erg_g_s = None;
             }
         }
-        let skip = usize::from(
-            joined
-                .rows
-                .first()
-                .is_some_and(|first| Some(first.radius_cm) == self.rows.last().map(|r| r.radius_cm)),
-        );
-        self.rows.extend(joined.rows.into_iter().skip(skip).map(|mut row| {
-            if !energy {
-                row.luminosity_erg_s = None;
-                row.energy_generation_erg_g_s = None;
-            }
-            row
-        }));
+        let skip =
+            usize::from(joined.rows.first().is_some_and(|first| {
+                Some(first.radius_cm) == self.rows.last().map(|r| r.radius_cm)
+            }));
+        self.rows
+            .extend(joined.rows.into_iter().skip(skip).map(|mut row| {
+                if !energy {
+                    row.luminosity_erg_s = None;
+                    row.energy_generation_erg_g_s = None;
+                }
+                row
+            }));
         self.atmosphere = joined.atmosphere;
     }
 
@@ -200,9 +199,9 @@ impl RadialStructure {
 
     /// Whether every row has a temperature and a composition.
     pub fn has_temperature_and_composition(&self) -> bool {
-        self.rows.iter().all(|r| {
-            r.temperature_k.is_some() && r.hydrogen_x.is_some() && r.metals_z.is_some()
-        })
+        self.rows
+            .iter()
+            .all(|r| r.temperature_k.is_some() && r.hydrogen_x.is_some() && r.metals_z.is_some())
     }
 
     /// Radius of the last row (the medium's surface), cm.
@@ -236,10 +235,7 @@ impl RadialStructure {
         let first = self.rows[0];
         if radius_cm <= first.radius_cm {
             // The rows start at the layer's inner boundary: nothing lies below it.
-            return StructureRow {
-                radius_cm,
-                ..first
-            };
+            return StructureRow { radius_cm, ..first };
         }
         let k = self.interval(radius_cm);
         let (a, b) = (self.rows[k], self.rows[k + 1]);
@@ -324,7 +320,10 @@ mod tests {
         let l = |r: f64| pi4 * (2.0 * r.powi(3) - r.powi(4) / 4.0 - r.powi(5) / 5.0);
         for r in [0.0, 0.3, 1.0, 1.7, 2.0] {
             assert!((s.mass_at(r) - m(r)).abs() < 1e-13 * m(2.0), "m({r})");
-            assert!((s.luminosity_at(r).unwrap() - l(r)).abs() < 1e-13 * l(2.0), "L({r})");
+            assert!(
+                (s.luminosity_at(r).unwrap() - l(r)).abs() < 1e-13 * l(2.0),
+                "L({r})"
+            );
         }
         assert!((s.luminosity_erg_s().unwrap() - l(2.0)).abs() < 1e-13 * l(2.0));
         // Truncation keeps m and L below the cut.
@@ -332,8 +331,12 @@ mod tests {
         assert_eq!(t.outer_radius_cm(), 1.5);
         assert!((t.luminosity_erg_s().unwrap() - l(1.5)).abs() < 1e-13 * l(2.0));
         // Appending a second layer continues m and L.
-        let mut joined =
-            RadialStructure::new(vec![row(0.0, 2.0, 3.0), row(1.0, 1.0, 4.0)], vec![], 0.0, 0.0);
+        let mut joined = RadialStructure::new(
+            vec![row(0.0, 2.0, 3.0), row(1.0, 1.0, 4.0)],
+            vec![],
+            0.0,
+            0.0,
+        );
         joined.append(&RadialStructure::new(
             vec![row(1.0, 1.0, 4.0), row(2.0, 0.0, 5.0)],
             vec![],
