@@ -267,8 +267,9 @@ impl OpacityTable {
                     .map_err(|_| cell(format!("{raw:?} is not a number")))?;
                 if !(value.is_finite() && value > 0.0) {
                     return Err(cell(format!(
-                        "{value}: expected {what}, finite and > 0 (the table is interpolated in \
-                         log space)"
+                        "{}: expected {what}, finite and > 0 (the table is interpolated in log \
+                         space)",
+                        show(value)
                     )));
                 }
                 values[slot] = value;
@@ -353,8 +354,10 @@ impl OpacityTable {
                     file: file.to_string(),
                     line,
                     problem: format!(
-                        "the grid point T = {t} K, rho = {rho} g/cm^3 is given again (first on \
-                         line {first}): each point appears once"
+                        "the grid point T = {} K, rho = {} g/cm^3 is given again (first on \
+                         line {first}): each point appears once",
+                        show(t),
+                        show(rho)
                     ),
                 });
             }
@@ -503,6 +506,15 @@ impl OpacityTable {
     }
 }
 
+/// A value for a message: plain below 10⁷ and above 10⁻³, else in exponent form.
+fn show(x: f64) -> String {
+    if x == 0.0 || (1e-3..1e7).contains(&x.abs()) {
+        format!("{x}")
+    } else {
+        format!("{x:e}")
+    }
+}
+
 /// Which column each of (temperature, density, opacity) is in, from the header record.
 fn header_order(record: &csv::StringRecord) -> Result<[usize; 3], String> {
     let names: Vec<&str> = record.iter().collect();
@@ -557,9 +569,10 @@ fn incomplete_grid(points: &[Point], temperatures: &[f64], densities: &[f64]) ->
         {
             let line = points.iter().find(|p| pick(p) == value).map_or(0, |p| p.0);
             return format!(
-                "line {line}: the {what} {value} {unit} appears at {} of the {others} {other_what} \
+                "line {line}: the {what} {} {unit} appears at {} of the {others} {other_what} \
                  (other {what}s at up to {most}): the table is not a rectilinear grid; every \
                  {what} needs a row at every one of the {other_what}",
+                show(value),
                 count(pick, value)
             );
         }
@@ -572,9 +585,11 @@ fn incomplete_grid(points: &[Point], temperatures: &[f64], densities: &[f64]) ->
         for &rho in densities {
             if !present.contains(&(t.to_bits(), rho.to_bits())) {
                 return format!(
-                    "no row for the grid point T = {t} K, rho = {rho} g/cm^3: the table has {} \
+                    "no row for the grid point T = {} K, rho = {} g/cm^3: the table has {} \
                      rows, but its {} temperatures × {} densities need {} (every combination \
                      once)",
+                    show(t),
+                    show(rho),
                     points.len(),
                     temperatures.len(),
                     densities.len(),

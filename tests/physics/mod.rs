@@ -2,8 +2,11 @@
 //! (../shared/REFERENCES.md).
 
 mod accelerated;
+mod convective_zones;
+mod energy_generation;
 mod exact_stepping;
 mod h_function;
+mod opacity_tables;
 mod phase_functions;
 mod profile_media;
 mod profile_monte_carlo;
