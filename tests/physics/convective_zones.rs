@@ -32,7 +32,10 @@ fn eddington_model() -> (Medium, f64) {
     .build()
     .unwrap();
     let beta = built.polytrope.beta();
-    let epsilon = (1.0 - beta) * 4.0 * std::f64::consts::PI * SPEED_OF_LIGHT_CM_S
+    let epsilon = (1.0 - beta)
+        * 4.0
+        * std::f64::consts::PI
+        * SPEED_OF_LIGHT_CM_S
         * GRAVITATIONAL_CONSTANT_CGS
         / kappa;
     let mut columns = built.table.columns().clone();
@@ -178,7 +181,11 @@ fn sun_like_demo_with_the_demo_table_has_an_outer_convective_zone() {
         assert_ne!(pair[0].kind, pair[1].kind);
     }
     let base = analysis.convective_base_radius_cm.unwrap();
-    assert!(base > 0.5 * radius && base < 0.95 * radius, "{}", base / radius);
+    assert!(
+        base > 0.5 * radius && base < 0.95 * radius,
+        "{}",
+        base / radius
+    );
     // Diffusion to the base is nearly all of the diffusion to the surface (the envelope is
     // optically thin by comparison), and convection crosses the zone in under a year.
     let to_base = analysis.times.time_to_convective_base_s.unwrap();

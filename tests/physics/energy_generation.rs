@@ -121,7 +121,10 @@ fn luminosity_of_the_source_is_the_integral_of_epsilon_dm() {
             .map(|v| v.as_f64().unwrap())
             .collect()
     };
-    let radius: Vec<f64> = column("radius").iter().map(|r| r * SOLAR_RADIUS_CM).collect();
+    let radius: Vec<f64> = column("radius")
+        .iter()
+        .map(|r| r * SOLAR_RADIUS_CM)
+        .collect();
     let (density, epsilon) = (column("density"), column("energy_generation"));
     let cut = medium.size_cm();
     let mut integral = 0.0;
@@ -155,7 +158,10 @@ fn luminosity_of_the_source_is_the_integral_of_epsilon_dm() {
             * gas.density_g_cm3
             * (pp_chain_erg_g_s(&gas) + cno_cycle_erg_g_s(&gas))
     });
-    assert!((luminosity / exact - 1.0).abs() < 1e-3, "{luminosity} vs {exact}");
+    assert!(
+        (luminosity / exact - 1.0).abs() < 1e-3,
+        "{luminosity} vs {exact}"
+    );
 }
 
 #[test]
@@ -170,7 +176,10 @@ fn monte_carlo_from_the_energy_generation_matches_the_luminosity_weighted_time()
     let medium = model_from_value(&model, "models/test-polytrope-n3-tau50.json").unwrap();
     assert_eq!(medium.source(), Source::EnergyGeneration);
     let analysis = StellarAnalysis::of(&medium).unwrap();
-    let reference = analysis.times.luminosity_weighted_time_extrapolated_s.unwrap();
+    let reference = analysis
+        .times
+        .luminosity_weighted_time_extrapolated_s
+        .unwrap();
     let result = run(
         &medium,
         &RunConfig {

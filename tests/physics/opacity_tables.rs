@@ -41,14 +41,19 @@ fn star_with_table(folder: &Path, table: OpacityTable, outside: OutsidePolicy) -
 /// log T = 4 … 8, log ρ = −10 … 3.
 fn law_table() -> OpacityTable {
     let law = interior_opacity().build().unwrap();
-    OpacityTable::from_grid("law", &log_grid(4.0, 8.0, 60), &log_grid(-10.0, 3.0, 60), |t, rho| {
-        law.opacity_cm2_g(&GasState {
-            density_g_cm3: rho,
-            temperature_k: t,
-            hydrogen_x: 0.7,
-            metals_z: 0.02,
-        })
-    })
+    OpacityTable::from_grid(
+        "law",
+        &log_grid(4.0, 8.0, 60),
+        &log_grid(-10.0, 3.0, 60),
+        |t, rho| {
+            law.opacity_cm2_g(&GasState {
+                density_g_cm3: rho,
+                temperature_k: t,
+                hydrogen_x: 0.7,
+                metals_z: 0.02,
+            })
+        },
+    )
     .unwrap()
 }
 
@@ -59,8 +64,8 @@ fn a_table_of_the_law_reproduces_its_optical_depth_and_diffusion_time() {
     // electron-scattering / Kramers transition and is far smaller.)
     let folder = tempfile::tempdir().unwrap();
     let with_table = star_with_table(folder.path(), law_table(), OutsidePolicy::Refuse);
-    let with_law = model_from_value(&PolytropeStar::default().build().unwrap().model_json, "law")
-        .unwrap();
+    let with_law =
+        model_from_value(&PolytropeStar::default().build().unwrap().model_json, "law").unwrap();
     let table = ProfileReport::new(&with_table, "table").unwrap();
     let law = ProfileReport::new(&with_law, "law").unwrap();
     // The table starts at 10⁴ K, the law's lower limit: the surface is cut at the same place.
@@ -72,9 +77,15 @@ fn a_table_of_the_law_reproduces_its_optical_depth_and_diffusion_time() {
         table.diffusion.luminosity_weighted_time_s.unwrap(),
         law.diffusion.luminosity_weighted_time_s.unwrap(),
     );
-    assert!(tau < 5e-3 && time < 5e-3 && weighted < 5e-3, "τ {tau}, T {time}, t_L {weighted}");
+    assert!(
+        tau < 5e-3 && time < 5e-3 && weighted < 5e-3,
+        "τ {tau}, T {time}, t_L {weighted}"
+    );
     // Measured: all three within 1e−3 (a guard on the interpolation's accuracy).
-    assert!(tau < 1e-3 && time < 1e-3 && weighted < 1e-3, "τ {tau}, T {time}, t_L {weighted}");
+    assert!(
+        tau < 1e-3 && time < 1e-3 && weighted < 1e-3,
+        "τ {tau}, T {time}, t_L {weighted}"
+    );
     let used = table.profile.as_ref().unwrap().layers[0]
         .opacity_table
         .clone()
@@ -89,14 +100,19 @@ fn points_outside_the_table_are_refused_or_clamped_when_asked() {
     // cut) lie below it.
     let law = interior_opacity().build().unwrap();
     let narrow = || {
-        OpacityTable::from_grid("narrow", &log_grid(4.0, 8.0, 20), &log_grid(-6.0, 3.0, 20), |t, rho| {
-            law.opacity_cm2_g(&GasState {
-                density_g_cm3: rho,
-                temperature_k: t,
-                hydrogen_x: 0.7,
-                metals_z: 0.02,
-            })
-        })
+        OpacityTable::from_grid(
+            "narrow",
+            &log_grid(4.0, 8.0, 20),
+            &log_grid(-6.0, 3.0, 20),
+            |t, rho| {
+                law.opacity_cm2_g(&GasState {
+                    density_g_cm3: rho,
+                    temperature_k: t,
+                    hydrogen_x: 0.7,
+                    metals_z: 0.02,
+                })
+            },
+        )
         .unwrap()
     };
     let folder = tempfile::tempdir().unwrap();
@@ -135,7 +151,12 @@ fn points_outside_the_table_are_refused_or_clamped_when_asked() {
         .unwrap();
     assert_eq!(used.outside, "clamp");
     assert!(used.clamped_rows > 0);
-    assert!(report.notes.iter().any(|n| n.contains("clamped to its edges")));
+    assert!(
+        report
+            .notes
+            .iter()
+            .any(|n| n.contains("clamped to its edges"))
+    );
 }
 
 #[test]
@@ -170,7 +191,10 @@ fn malformed_tables_name_the_file_the_line_and_the_value() {
         ),
         (
             "temperature_k,density_g_cm3,opacity_cm2_g\n1e4,1,1\n1e5,1,1\n".to_string(),
-            vec!["2 temperature(s) × 1 density", "at least 2 temperatures × 2 densities"],
+            vec![
+                "2 temperature(s) × 1 density",
+                "at least 2 temperatures × 2 densities",
+            ],
         ),
     ];
     for (text, needles) in cases {
@@ -188,13 +212,17 @@ fn malformed_tables_name_the_file_the_line_and_the_value() {
 fn the_demo_table_star_keeps_its_opacity_inside_the_table() {
     // The shipped demo (an invented table) covers the Sun-like star without clamping, and
     // its bump raises the envelope opacity over the law it was made from.
-    let medium = sojourn::medium::model_file::load_model(Path::new(
-        "models/veyra-n3-demo-table.json",
-    ))
-    .unwrap();
+    let medium =
+        sojourn::medium::model_file::load_model(Path::new("models/veyra-n3-demo-table.json"))
+            .unwrap();
     let summary = &medium.profiles()[0];
     assert_eq!(summary.opacity_table.as_ref().unwrap().clamped_rows, 0);
-    assert!(StellarAnalysis::of(&medium).unwrap().luminosity_erg_s.is_some());
+    assert!(
+        StellarAnalysis::of(&medium)
+            .unwrap()
+            .luminosity_erg_s
+            .is_some()
+    );
     let spec = OpacitySpec::parse_short("smooth").unwrap();
     assert!(spec.build().is_ok());
 }
