@@ -173,9 +173,9 @@ fn stop_at_convective_base(medium: Medium, file: &str) -> Result<Medium> {
              radiation carries none of its luminosity; there is no radiative interior to walk"
         );
     }
-    Ok(medium
+    medium
         .truncated_at(base)
-        .with_context(|| format!("{file}: cannot stop the walk at r = {base} cm"))?)
+        .with_context(|| format!("{file}: cannot stop the walk at r = {base} cm"))
 }
 
 /// Runs the subcommand.

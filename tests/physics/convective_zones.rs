@@ -6,7 +6,7 @@
 use sojourn::medium::Medium;
 use sojourn::medium::model_file::{model_from_value, profile_model_json};
 use sojourn::medium::profile::{ColumnValues, ProfileTable};
-use sojourn::opacity::{GasState, OpacityLaw, OpacitySpec};
+use sojourn::opacity::{GasState, OpacitySpec};
 use sojourn::star::analysis::StellarAnalysis;
 use sojourn::star::builder::{PolytropeStar, PressureChoice};
 use sojourn::star::energy::{cno_cycle_erg_g_s, pp_chain_erg_g_s};

@@ -204,3 +204,42 @@ fn monte_carlo_from_the_energy_generation_matches_the_luminosity_weighted_time()
     assert!(reference < 0.8 * central);
     assert!(mean < central - 10.0 * stderr);
 }
+
+#[test]
+#[ignore = "about 15 s: cargo test --release -- --ignored sun_like_energy_source"]
+fn sun_like_energy_source_to_the_convective_base() {
+    // The Sun-like demo with the demo opacity table (τ ≈ 3.4e12), photons from the energy
+    // generation, the walk stopped at the base of the outer convective zone: the accelerated
+    // walk's mean against the luminosity-weighted mean exit time to the base. 10 000 photons,
+    // seed 5: 1σ ≈ 0.7 %; tolerance 2 % and 4σ.
+    let text = std::fs::read_to_string("models/veyra-n3-demo-table.json").unwrap();
+    let mut model: Value = serde_json::from_str(&text).unwrap();
+    model["source"] = serde_json::json!({ "kind": "energy_generation" });
+    let medium = model_from_value(&model, "models/veyra-n3-demo-table.json").unwrap();
+    let base = StellarAnalysis::of(&medium)
+        .unwrap()
+        .convective_base_radius_cm
+        .unwrap();
+    let walked = medium.truncated_at(base).unwrap();
+    let reference = StellarAnalysis::of(&walked)
+        .unwrap()
+        .times
+        .luminosity_weighted_time_extrapolated_s
+        .unwrap();
+    let result = run(
+        &walked,
+        &RunConfig {
+            photons: 10_000,
+            seed: 5,
+            ..RunConfig::default()
+        },
+    );
+    let escapes = result.tally.all_escapes();
+    let mean = escapes.time_s.mean().unwrap();
+    let stderr = escapes.time_s.std_error().unwrap();
+    assert!(
+        (mean / reference - 1.0).abs() < 0.02 && (mean - reference).abs() < 4.0 * stderr,
+        "MC {mean} ± {stderr} s vs {reference} s ({:.2} σ)",
+        (mean - reference) / stderr
+    );
+}

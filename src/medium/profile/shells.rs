@@ -635,8 +635,8 @@ impl ProfileTable {
         if radius[0] > inner_cm {
             rows.push(row_of(inner_cm, self.point_at(law, 0, 0.0)));
         }
-        for row in 0..=top_row {
-            rows.push(row_of(radius[row], self.point_at(law, row, 0.0)));
+        for (row, &r) in radius.iter().enumerate().take(top_row + 1) {
+            rows.push(row_of(r, self.point_at(law, row, 0.0)));
         }
         let mut atmosphere = Vec::new();
         if cut {
@@ -652,9 +652,9 @@ impl ProfileTable {
                 metals_z: p.metals,
             };
             atmosphere.push(gas(top_cm, at_cut));
-            for row in top_row + 1..self.rows() {
-                if radius[row] > top_cm {
-                    atmosphere.push(gas(radius[row], self.point_at(law, row, 0.0)));
+            for (row, &r) in radius.iter().enumerate().skip(top_row + 1) {
+                if r > top_cm {
+                    atmosphere.push(gas(r, self.point_at(law, row, 0.0)));
                 }
             }
         }
