@@ -134,7 +134,7 @@ fn points_outside_the_table_are_refused_or_clamped_when_asked() {
     for needle in [
         "star.json",
         "layers[0].profile.density",
-        "inside the opacity table table.csv",
+        "lies outside the opacity table table.csv",
         "rho 1e-6 – 1e3 g/cm^3",
         "clamp",
     ] {

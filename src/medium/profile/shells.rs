@@ -689,8 +689,11 @@ impl ProfileTable {
             let rho = density[top_row] + w * (density[top_row + 1] - density[top_row]);
             points.push((None, cut.temperature_k, rho));
         }
+        let short = |x: f64| crate::units::format_significant(x, 6);
         let fix = format!(
-            "(T, rho) inside the opacity table {file} ({}); extend the table, or write              \"opacity_table\": {{\"file\": ..., \"outside\": \"clamp\"}} to clamp to its edges",
+            "lies outside the opacity table {file} ({}): extend the table, or write \
+             \"opacity_table\": {{\"file\": ..., \"outside\": \"clamp\"}} to clamp to its \
+             edges",
             range.describe()
         );
         let mut clamped_rows = 0;
@@ -703,29 +706,34 @@ impl ProfileTable {
                 continue;
             }
             let t_inside = (range.temperature_min_k..=range.temperature_max_k).contains(&t);
-            return Err(match row {
-                Some(row) if !t_inside => MediumError::value(
+            let (field, problem) = match row {
+                Some(row) if !t_inside => (
                     format!("temperature[{row}]"),
-                    t,
-                    Quantity::Dimensionless,
-                    format!("{fix} (density there {rho} g/cm^3)"),
-                ),
-                Some(row) => MediumError::value(
-                    format!("density[{row}]"),
-                    rho,
-                    Quantity::Dimensionless,
-                    format!("{fix} (temperature there {t} K)"),
-                ),
-                None => MediumError::value(
-                    "density",
-                    rho,
-                    Quantity::Dimensionless,
                     format!(
-                        "{fix}: this is the density at the surface cut r = {top_cm} cm, where T \
-                         falls to the table's lowest temperature {t} K"
+                        "T = {} K (rho = {} g/cm^3 there) {fix}",
+                        short(t),
+                        short(rho)
                     ),
                 ),
-            });
+                Some(row) => (
+                    format!("density[{row}]"),
+                    format!(
+                        "rho = {} g/cm^3 (T = {} K there) {fix}",
+                        short(rho),
+                        short(t)
+                    ),
+                ),
+                None => (
+                    "density".to_string(),
+                    format!(
+                        "rho = {} g/cm^3 at the surface cut r = {top_cm:e} cm, where T falls to \
+                         the table's lowest temperature {} K, {fix}",
+                        short(rho),
+                        short(t)
+                    ),
+                ),
+            };
+            return Err(MediumError::Invalid { field, problem });
         }
         if clamped_rows > 0 {
             notes.push(format!(
@@ -816,13 +824,21 @@ impl ProfileTable {
             table_radius_cm: radius[last],
             dropped_mass_g,
         };
+        let temperature = if range.min_k.fract() == 0.0 {
+            format!("{}", range.min_k)
+        } else {
+            crate::units::format_significant(range.min_k, 5)
+        };
+        let whose = match &self.columns.opacity {
+            ProfileOpacity::Table { .. } => "opacity table's",
+            _ => "opacity law's",
+        };
         notes.push(format!(
             "surface cut at r = {:.6e} cm ({:.6} of the table's outer radius), where T falls to \
-             {} K, the lower end of the opacity law's range; {:.3e} g of gas above it is \
+             {temperature} K, the lower end of the {whose} range; {:.3e} g of gas above it is \
              dropped",
             cut_cm,
             cut_cm / radius[last],
-            range.min_k,
             dropped_mass_g
         ));
         Ok((top_row, cut_cm, Some(cut)))
