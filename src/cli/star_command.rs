@@ -136,10 +136,13 @@ pub fn execute(args: StarArgs) -> Result<()> {
         built.table.rows(),
         match &star.opacity_table {
             Some(table) => format!(
-                "table {} ({}, outside points {})",
+                "table {} ({}; points outside it {})",
                 table.file,
                 table.table.range().describe(),
-                table.outside.name()
+                match table.outside {
+                    sojourn::opacity::OutsidePolicy::Refuse => "refused",
+                    sojourn::opacity::OutsidePolicy::Clamp => "clamped to its edges",
+                }
             ),
             None => star.opacity.describe(),
         },

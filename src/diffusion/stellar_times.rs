@@ -4,7 +4,8 @@
 //!
 //! With A(r) = (1/c) ∫₀^r r′ σ_tr(r′) dr′ on the model's shells, the mean first-passage time
 //! of steady diffusion from radius r₀ to the surface R is T(r₀) = A(R) − A(r₀) (the mean
-//! exit time from the centre is A(R); docs/references.md, "first passage"). Then:
+//! exit time from the centre is A(R): the steady first-passage equation ∇·(D∇T) = −1 with
+//! D = c l / 3, Redner 2001, *A Guide to First-Passage Processes*). Then:
 //!
 //! * **Luminosity-weighted** ([`luminosity_weighted_time_s`]): the mean of T(r₀) over where
 //!   the energy is released, t_L = ∫ T(r₀) dL(r₀) / L, which by exchanging the integrals is

@@ -107,7 +107,7 @@ fn csv_has_one_line_per_shell_and_plain_models_work() {
     assert!(lines[0].starts_with("index,layer,inner_radius_cm,radius_cm,"));
     assert!(lines[1].starts_with("0,opaque core,"));
     // Ember: core 300 per R☉ to 0.3 R☉, envelope 3 per R☉: T = (R☉/c)(300·0.09/2 +
-    // 3·0.91/2) in units where lengths are R☉ (REFERENCES item 3).
+    // 3·0.91/2) in units where lengths are R☉ (Redner 2001, A Guide to First-Passage Processes).
     let report = profile_json("models/ember-two-zone.json");
     let expected = 6.957e10 * (300.0 * 0.09 / 2.0 + 3.0 * 0.91 / 2.0) / 2.997_924_58e10;
     let mean = report["diffusion"]["mean_time_s"].as_f64().unwrap();

@@ -1,5 +1,8 @@
 //! Tabulated profiles as media: the diffusion time through the profile path against closed
-//! forms (../shared/REFERENCES.md item 3), and the accuracy of the sub-shell representation.
+//! forms (the mean exit time of 3-D diffusion from the centre of a sphere, R²/(6D), and with a
+//! variable mean free path (1/c) ∫ r / l dr: Redner 2001, *A Guide to First-Passage
+//! Processes*; Krapivsky, Redner & Ben-Naim 2010, *A Kinetic View of Statistical Physics*),
+//! the accuracy of the sub-shell representation, and the photosphere.
 
 use serde_json::json;
 
@@ -43,7 +46,7 @@ fn uniform_profile(
 
 #[test]
 fn uniform_sphere_through_the_profile_path_is_r_squared_over_2lc() {
-    // REFERENCES item 3: mean exit time from the centre R²/(6D) = R²/(2 l c).
+    // Redner 2001: mean exit time from the centre R²/(6D) = R²/(2 l c).
     let (radius, rho, kappa) = (3.0e10, 2.0, 0.5); // σ = 1 per cm, τ = 3e10
     let medium = load(json!({
         "geometry": "sphere",
@@ -68,7 +71,7 @@ fn uniform_sphere_through_the_profile_path_is_r_squared_over_2lc() {
 
 #[test]
 fn two_zone_sphere_through_the_profile_path_is_the_piecewise_integral() {
-    // REFERENCES item 3, variable l: T(0) = (1/c) ∫ r / l(r) dr
+    // Redner 2001, variable l: T(0) = (1/c) ∫ r / l(r) dr
     //   = (1/c) [σ₁ a²/2 + σ₂ (R² − a²)/2] for a core of σ₁ to a and an envelope of σ₂ to R.
     let (a, r) = (2.0e10, 7.0e10);
     let (sigma1, sigma2) = (300.0 * 1e-10, 3.0 * 1e-10);
@@ -236,7 +239,7 @@ fn sun_like_n3_star_representation() {
         "{}",
         mass / SOLAR_MASS_G
     );
-    // ρc/ρ̄ of the n = 3 polytrope, 54.1825 (Chandrasekhar 1939; REFERENCES item 8), with ρ̄
+    // ρc/ρ̄ of the n = 3 polytrope, 54.1825 (Chandrasekhar 1939, An Introduction to the Study of Stellar Structure), with ρ̄
     // over the cut radius (R_cut/R☉)³ smaller volume, and the model's own mass.
     let shrink = (medium.size_cm() / 6.957e10).powi(3);
     let mean_full = report.mean_density_g_cm3.unwrap() * shrink * SOLAR_MASS_G / mass;
