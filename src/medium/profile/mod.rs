@@ -252,9 +252,11 @@ impl ProfileTable {
     /// # Errors
     /// Fewer than 2 rows; a column whose length differs from the radii; a radius that is
     /// negative, not finite or not above the previous one; a negative or non-finite density,
-    /// temperature or opacity; X or Z outside 0 ..= 1 or X + Z > 1; a scattering fraction
-    /// outside 0 ..= 1; an opacity law without temperature, X or Z, or with invalid
-    /// parameters; a scattering fraction with an opacity law.
+    /// temperature, opacity or energy generation; X or Z outside 0 ..= 1 or X + Z > 1; a
+    /// scattering fraction outside 0 ..= 1; an opacity law without temperature, X or Z, or
+    /// with invalid parameters; an opacity table without temperature; a scattering fraction
+    /// with an opacity law. (Whether the rows lie inside an opacity table is checked by
+    /// [`ProfileTable::to_shells`], once the surface cut is known.)
     pub fn new(columns: ProfileColumns) -> Result<Self, MediumError> {
         let rows = columns.radius_cm.len();
         if rows < 2 {

@@ -19,6 +19,10 @@
 //! [`ProfileSummary::time_error_relative`] does the same for the diffusion-time integral
 //! ∫ r σ dr, where piecewise-constant extinction is a genuine (second-order) approximation.
 //!
+//! **Opacity tables.** A table's lowest temperature is its lower limit, as for a law; every
+//! row the medium keeps, and the surface cut, must lie inside the table's range, unless the
+//! model asks for clamping ([`OpacityTableUse::clamped_rows`] counts what was clamped).
+//!
 //! **Surface.** A stellar profile ends where density and temperature fall to 0, where two
 //! things break:
 //! * *Opacity-law validity.* With an opacity law, the medium ends at the outermost radius where
@@ -307,8 +311,10 @@ impl ProfileTable {
     ///
     /// # Errors
     /// `tolerance` outside (0, 1); `inner_cm` above the first radius; every row below the
-    /// opacity law's temperature range; a non-finite extinction (a T^−3.5 law at T = 0
-    /// inside the star); more than [`MAX_SUB_SHELLS`] sub-shells needed.
+    /// opacity law's temperature range; a row (or the surface cut) outside an opacity table
+    /// that refuses outside points, naming the row, the value and the table's range; a
+    /// non-finite extinction (a T^−3.5 law at T = 0 inside the star); more than
+    /// [`MAX_SUB_SHELLS`] sub-shells needed.
     pub fn to_shells(
         &self,
         name: &str,
