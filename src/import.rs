@@ -10,8 +10,8 @@
 //! centre outwards or from the surface inwards; radii must be strictly monotonic.
 //!
 //! **Mapping** ([`ColumnMapping::parse`]): comma-separated `QUANTITY=COLUMN[:SCALE]`, where
-//! * QUANTITY is `radius`, `density`, `temperature`, `opacity`, `hydrogen`, `metals` or
-//!   `scattering_fraction`; a `log_` prefix (`log_density=logRho`) says the column holds
+//! * QUANTITY is `radius`, `density`, `temperature`, `opacity`, `hydrogen`, `metals`,
+//!   `scattering_fraction` or `energy_generation` (erg g⁻¹ s⁻¹); a `log_` prefix (`log_density=logRho`) says the column holds
 //!   log₁₀ of the quantity;
 //! * COLUMN is a header name, or, if no header field has that name, a 1-based column number;
 //! * SCALE multiplies the (un-logged) value into cgs: a number (`density=rho:1e-3` for
@@ -19,8 +19,10 @@
 //!   `solar_radius`). Radius is in cm by default.
 //!
 //! With a total radius (`total_radius_cm`) the radius column is a fraction r/R of it.
-//! Required: radius and density, plus either an opacity column or temperature with an opacity
-//! law; X and Z come from columns or from single values.
+//! Required: radius and density, plus either an opacity column, or temperature with an
+//! opacity law (X and Z from columns or single values), or temperature with an opacity table
+//! ([`crate::opacity::table`]). The energy generation comes from a column or from
+//! energy-generation laws evaluated at every row ([`crate::star::energy`]).
 //!
 //! Every problem is reported with the file, the line and the column: a missing column, a
 //! radius that is not strictly monotonic, a negative density, a NaN, a number that does not
@@ -30,7 +32,9 @@ use thiserror::Error;
 
 use crate::medium::MediumError;
 use crate::medium::profile::{ColumnValues, ProfileColumns, ProfileOpacity, ProfileTable};
-use crate::opacity::OpacitySpec;
+use crate::opacity::{GasState, OpacitySpec};
+use crate::star::builder::TableChoice;
+use crate::star::energy::EnergyLaws;
 use crate::units::LengthUnit;
 
 /// A table that could not be imported.
@@ -102,10 +106,12 @@ pub enum TableQuantity {
     Metals,
     /// Scattering fraction of the opacity.
     ScatteringFraction,
+    /// Nuclear energy generation (erg g⁻¹ s⁻¹ after scaling).
+    EnergyGeneration,
 }
 
 impl TableQuantity {
-    const ALL: [TableQuantity; 7] = [
+    const ALL: [TableQuantity; 8] = [
         TableQuantity::Radius,
         TableQuantity::Density,
         TableQuantity::Temperature,
@@ -113,6 +119,7 @@ impl TableQuantity {
         TableQuantity::Hydrogen,
         TableQuantity::Metals,
         TableQuantity::ScatteringFraction,
+        TableQuantity::EnergyGeneration,
     ];
 
     /// The name used in mappings.
@@ -125,6 +132,7 @@ impl TableQuantity {
             TableQuantity::Hydrogen => "hydrogen",
             TableQuantity::Metals => "metals",
             TableQuantity::ScatteringFraction => "scattering_fraction",
+            TableQuantity::EnergyGeneration => "energy_generation",
         }
     }
 }
@@ -218,8 +226,8 @@ impl ColumnMapping {
                 .ok_or_else(|| {
                     error(format!(
                         "unknown quantity {key:?}: expected one of radius, density, temperature, \
-                         opacity, hydrogen, metals, scattering_fraction (with a log_ prefix for \
-                         log10 columns)"
+                         opacity, hydrogen, metals, scattering_fraction, energy_generation (with a \
+                         log_ prefix for log10 columns)"
                     ))
                 })?;
             let (column, scale) = match value.rsplit_once(':') {
@@ -302,6 +310,11 @@ pub struct ImportOptions {
     pub metals_z: Option<f64>,
     /// Opacity law, where no opacity column is mapped.
     pub opacity_law: Option<OpacitySpec>,
+    /// Opacity table, where no opacity column and no law is given (needs temperature).
+    pub opacity_table: Option<TableChoice>,
+    /// Energy-generation laws evaluated at every row, where no energy-generation column is
+    /// mapped (needs temperature, X and Z).
+    pub energy: Option<EnergyLaws>,
     /// If set, the radius column is a fraction r/R of this radius, cm.
     pub total_radius_cm: Option<f64>,
     /// Lines skipped before looking for the header.
@@ -318,6 +331,8 @@ impl ImportOptions {
             hydrogen_x: None,
             metals_z: None,
             opacity_law: None,
+            opacity_table: None,
+            energy: None,
             total_radius_cm: None,
             skip_rows: 0,
             delimiter: Delimiter::Auto,
@@ -502,18 +517,70 @@ pub fn import_table(
         }
     }
     let has_opacity_column = mapping.get(TableQuantity::Opacity).is_some();
-    if has_opacity_column && options.opacity_law.is_some() {
+    let opacity_sources = [
+        has_opacity_column,
+        options.opacity_law.is_some(),
+        options.opacity_table.is_some(),
+    ];
+    if opacity_sources.iter().filter(|given| **given).count() > 1 {
         return Err(ImportError::Mapping {
             entry: String::new(),
-            problem: "both an opacity column and an opacity law were given; choose one".into(),
+            problem: "more than one opacity was given (an opacity column, a law, a table); choose \
+                      one"
+            .into(),
         });
     }
-    if !has_opacity_column {
+    let uses_table = options.opacity_table.is_some();
+    if uses_table && mapping.get(TableQuantity::Temperature).is_none() {
+        return Err(ImportError::Mapping {
+            entry: String::new(),
+            problem: "an opacity table needs temperature: map it, e.g. temperature=T".into(),
+        });
+    }
+    if uses_table && mapping.get(TableQuantity::ScatteringFraction).is_some() {
+        return Err(ImportError::Mapping {
+            entry: String::new(),
+            problem: "scattering_fraction goes with an opacity column".into(),
+        });
+    }
+    if options.energy.is_some() {
+        if mapping.get(TableQuantity::EnergyGeneration).is_some() {
+            return Err(ImportError::Mapping {
+                entry: String::new(),
+                problem: "energy_generation is both mapped to a column and given by laws; choose \
+                          one"
+                .into(),
+            });
+        }
+        if mapping.get(TableQuantity::Temperature).is_none() {
+            return Err(ImportError::Mapping {
+                entry: String::new(),
+                problem: "energy-generation laws need temperature: map it, e.g. temperature=T"
+                    .into(),
+            });
+        }
+        for (quantity, single, flag) in [
+            (TableQuantity::Hydrogen, options.hydrogen_x, "--hydrogen"),
+            (TableQuantity::Metals, options.metals_z, "--metals"),
+        ] {
+            if mapping.get(quantity).is_none() && single.is_none() {
+                return Err(ImportError::Mapping {
+                    entry: String::new(),
+                    problem: format!(
+                        "energy-generation laws need {}: map a column or give {flag}",
+                        quantity.name()
+                    ),
+                });
+            }
+        }
+    }
+    if !has_opacity_column && !uses_table {
         if options.opacity_law.is_none() {
             return Err(ImportError::Mapping {
                 entry: String::new(),
-                problem: "no opacity: map an opacity column (opacity=NAME, cm^2/g) or give an \
-                          opacity law (--opacity) with a temperature column"
+                problem: "no opacity: map an opacity column (opacity=NAME, cm^2/g), or give an \
+                          opacity law (--opacity) or an opacity table (--opacity-table) with a \
+                          temperature column"
                     .into(),
             });
         }
@@ -545,7 +612,8 @@ pub fn import_table(
                 ),
             });
         }
-        if !has_opacity_column && mapping.get(quantity).is_none() && single.is_none() {
+        if !has_opacity_column && !uses_table && mapping.get(quantity).is_none() && single.is_none()
+        {
             return Err(ImportError::Mapping {
                 entry: String::new(),
                 problem: format!(
@@ -610,6 +678,9 @@ pub fn import_table(
                 }
                 TableQuantity::ScatteringFraction => {
                     ((0.0..=1.0).contains(&value), "a fraction in [0, 1]")
+                }
+                TableQuantity::EnergyGeneration => {
+                    (value >= 0.0, "an energy generation >= 0 (erg/g/s)")
                 }
             };
             if !ok {
@@ -707,28 +778,61 @@ pub fn import_table(
             .map(ColumnValues::PerRow)
             .or(single.map(ColumnValues::Constant))
     };
-    let opacity = match take(TableQuantity::Opacity) {
-        Some(opacity_cm2_g) => ProfileOpacity::Tabulated {
+    let opacity = match (take(TableQuantity::Opacity), &options.opacity_table) {
+        (Some(opacity_cm2_g), _) => ProfileOpacity::Tabulated {
             opacity_cm2_g,
             scattering_fraction: take(TableQuantity::ScatteringFraction).map(ColumnValues::PerRow),
         },
-        None => ProfileOpacity::Law(options.opacity_law.clone().expect("checked above")),
+        (None, Some(table)) => ProfileOpacity::Table {
+            file: table.file.clone(),
+            table: table.table.clone(),
+            outside: table.outside,
+        },
+        (None, None) => ProfileOpacity::Law(options.opacity_law.clone().expect("checked above")),
+    };
+    let density = take(TableQuantity::Density).expect("mapped");
+    let temperature = take(TableQuantity::Temperature);
+    let hydrogen_x = column_or(hydrogen, options.hydrogen_x);
+    let metals_z = column_or(metals, options.metals_z);
+    let energy_generation_erg_g_s = match (take(TableQuantity::EnergyGeneration), options.energy) {
+        (Some(column), _) => Some(ColumnValues::PerRow(column)),
+        (None, Some(laws)) => {
+            let (t, x, z) = (
+                temperature.as_ref().expect("checked above"),
+                hydrogen_x.as_ref().expect("checked above"),
+                metals_z.as_ref().expect("checked above"),
+            );
+            Some(ColumnValues::PerRow(
+                (0..rows)
+                    .map(|row| {
+                        laws.erg_g_s(&GasState {
+                            density_g_cm3: density[row],
+                            temperature_k: t[row],
+                            hydrogen_x: x.at(row),
+                            metals_z: z.at(row),
+                        })
+                    })
+                    .collect(),
+            ))
+        }
+        (None, None) => None,
     };
     ProfileTable::new(ProfileColumns {
         radius_cm,
-        density_g_cm3: take(TableQuantity::Density).expect("mapped"),
-        temperature_k: take(TableQuantity::Temperature),
-        hydrogen_x: column_or(hydrogen, options.hydrogen_x),
-        metals_z: column_or(metals, options.metals_z),
+        density_g_cm3: density,
+        temperature_k: temperature,
+        hydrogen_x,
+        metals_z,
         opacity,
+        energy_generation_erg_g_s,
     })
     .map_err(|error: MediumError| table_error(error.to_string()))
 }
 
 /// Writes `table` as a comma-separated table that [`import_table`] reads back exactly
 /// (numbers in full precision): columns `radius_cm`, `density_g_cm3`, then `temperature_k`,
-/// `hydrogen`, `metals`, `opacity_cm2_g`, `scattering_fraction` where the table has them
-/// (constant X, Z written on every row).
+/// `hydrogen`, `metals`, `opacity_cm2_g`, `scattering_fraction`, `energy_generation_erg_g_s`
+/// where the table has them (constant X, Z written on every row).
 pub fn table_csv(table: &ProfileTable) -> String {
     let c = table.columns();
     let rows = table.rows();
@@ -760,6 +864,10 @@ pub fn table_csv(table: &ProfileTable) -> String {
             names.push("scattering_fraction");
             columns.push(Box::new(move |row| f.at(row)));
         }
+    }
+    if let Some(energy) = &c.energy_generation_erg_g_s {
+        names.push("energy_generation_erg_g_s");
+        columns.push(Box::new(move |row| energy.at(row)));
     }
     let mut out = names.join(",");
     out.push('\n');

@@ -36,6 +36,7 @@ pub mod profile;
 pub mod resolved_layout;
 pub mod run;
 pub mod slab_optics;
+pub mod stellar;
 pub mod theory;
 pub mod verdict;
 

@@ -13,9 +13,12 @@
 use serde::Serialize;
 
 use super::theory::{DiffusionSummary, EscapeTimeTheory};
+use crate::analysis::stellar::StellarAnalysis;
 use crate::diffusion::{self, MILNE_EXTRAPOLATION_LENGTH};
 use crate::medium::profile::ProfileSummary;
 use crate::medium::{Geometry, Medium, MediumError};
+use crate::star::photosphere::Photosphere;
+use crate::star::zones::Zone;
 use crate::units::SPEED_OF_LIGHT_CM_S;
 
 /// Optical depth from the surface that defines the photosphere (Eddington: τ = 2/3).
@@ -59,6 +62,9 @@ pub struct ShellRow {
     /// Share of the mean exit time that diffusing radiation spends inside the shell (the
     /// residence time of steady diffusion from a central source).
     pub residence_share: f64,
+    /// Luminosity inside the shell's outer radius, L(r) = ∫ ε dm, erg s⁻¹ (null without
+    /// energy generation).
+    pub luminosity_erg_s: Option<f64>,
 }
 
 /// Diffusion-theory times from the centre.
@@ -85,6 +91,23 @@ pub struct ProfileDiffusion {
     /// The escape time from the centre, conditional on escape, as in a run's
     /// `diffusion.escape_time` ([`DiffusionSummary`]).
     pub escape_time: EscapeTimeTheory,
+    /// Mean exit time averaged over where the energy is released, ∫ T(r₀) dL / L, s (null
+    /// without energy generation).
+    pub luminosity_weighted_time_s: Option<f64>,
+    /// The same with the Milne extrapolated boundary, s.
+    pub luminosity_weighted_time_extrapolated_s: Option<f64>,
+    /// Flux-weighted mean residence time U_F / L, s (equal to the luminosity-weighted time by
+    /// Little's law; computed from the radiative flux).
+    pub flux_weighted_time_s: Option<f64>,
+    /// Radiant energy content over luminosity, U_rad / L with U_rad = ∫ a T⁴ dV, s.
+    pub energy_content_time_s: Option<f64>,
+    /// Mean exit time from the centre to the base of the outer convective zone, s (null when
+    /// there is none).
+    pub time_to_convective_base_s: Option<f64>,
+    /// Luminosity-weighted mean exit time to the base of the outer convective zone, s.
+    pub luminosity_weighted_time_to_convective_base_s: Option<f64>,
+    /// Time convection takes to cross the outer convective zone (mixing-length estimate), s.
+    pub convective_crossing_time_s: Option<f64>,
 }
 
 /// Where the diffusion time accrues: radii inside which given fractions of
@@ -123,9 +146,19 @@ pub struct ProfileAnalysis {
     pub radius_cm: f64,
     /// Optical depth from the centre to the surface along a radius.
     pub optical_depth: f64,
-    /// Radius where the optical depth from the surface is 2/3, cm (null if the whole
-    /// sphere is thinner than that).
+    /// Radius where the optical depth from the top of the model is 2/3, cm (null if the whole
+    /// sphere is thinner than that); see `photosphere` for how it was found.
     pub photosphere_radius_cm: Option<f64>,
+    /// The photosphere of a stellar model: radius, temperature and method (τ counted from the
+    /// top of the table, with the H⁻ blend in the gas above a surface cut); null otherwise.
+    pub photosphere: Option<Photosphere>,
+    /// Luminosity L = ∫ ε dm, erg s⁻¹ (null without energy generation).
+    pub luminosity_erg_s: Option<f64>,
+    /// Radiative and convective zones (Schwarzschild criterion), innermost first (empty
+    /// without energy generation).
+    pub zones: Vec<Zone>,
+    /// Inner radius of the outer convective zone, cm (null when there is none).
+    pub convective_base_radius_cm: Option<f64>,
     /// Density at the centre, g cm⁻³ (null if the model gives none).
     pub central_density_g_cm3: Option<f64>,
     /// Mass of the model over its volume, 3M / (4πR³), g cm⁻³ (null unless every shell
@@ -232,10 +265,15 @@ impl ProfileAnalysis {
                 cumulative_time_s: cumulative,
                 time_share: share(time_s[k], total_time),
                 residence_share: share(estimate.layer_residence_s[k], estimate.mean_time_s),
+                luminosity_erg_s: medium.structure().and_then(|s| s.luminosity_at(b)),
             });
         }
 
-        let photosphere_radius_cm = photosphere(&shells);
+        let stellar = StellarAnalysis::of(medium);
+        let photosphere_radius_cm = stellar
+            .as_ref()
+            .and_then(|s| s.photosphere.as_ref().map(|p| p.radius_cm))
+            .or_else(|| photosphere(&shells));
         let profiles = medium.profiles();
         let in_profile = |k: usize| {
             profiles
@@ -319,11 +357,25 @@ impl ProfileAnalysis {
              transport optical depths (Milne); it is the better estimate of a Monte Carlo mean \
              at moderate optical depth"
         ));
+        if let Some(stellar) = &stellar {
+            notes.extend(stellar.notes.iter().cloned());
+        }
+        let times = stellar
+            .as_ref()
+            .map(|s| s.times.clone())
+            .unwrap_or_default();
 
         Ok(Self {
             radius_cm,
             optical_depth,
             photosphere_radius_cm,
+            photosphere: stellar.as_ref().and_then(|s| s.photosphere.clone()),
+            luminosity_erg_s: stellar.as_ref().and_then(|s| s.luminosity_erg_s),
+            zones: stellar
+                .as_ref()
+                .map(|s| s.zones.clone())
+                .unwrap_or_default(),
+            convective_base_radius_cm: stellar.as_ref().and_then(|s| s.convective_base_radius_cm),
             central_density_g_cm3,
             mean_density_g_cm3: mass.map(|m| m / volume),
             mass_g: mass,
@@ -340,6 +392,17 @@ impl ProfileAnalysis {
                 naive_over_diffusion: share(estimate.naive_time_s, estimate.mean_time_s),
                 escape_probability: theory.escape_probability,
                 escape_time: theory.escape_time,
+                luminosity_weighted_time_s: times.luminosity_weighted_time_s,
+                luminosity_weighted_time_extrapolated_s: times
+                    .luminosity_weighted_time_extrapolated_s,
+                flux_weighted_time_s: times.flux_weighted_time_s,
+                energy_content_time_s: times.energy_content_time_s,
+                time_to_convective_base_s: times.time_to_convective_base_s,
+                luminosity_weighted_time_to_convective_base_s: times
+                    .luminosity_weighted_time_to_convective_base_s,
+                convective_crossing_time_s: stellar
+                    .as_ref()
+                    .and_then(|s| s.convective_crossing_time_s),
             },
             time_budget,
             profile,

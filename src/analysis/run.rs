@@ -6,8 +6,10 @@
 
 use serde::Serialize;
 
-use crate::medium::{Geometry, Medium};
+use crate::analysis::stellar::StellarAnalysis;
+use crate::medium::{Geometry, Medium, Source};
 use crate::simulation::{Method, RunConfig};
+use crate::star::zones::Zone;
 use crate::tally::{PathStats, Tally};
 
 use super::comparison::{Comparison, compare};
@@ -162,6 +164,17 @@ pub struct TimeSummary {
     pub p95_s: Option<f64>,
 }
 
+/// Where a walk was stopped below the surface (`sojourn run --stop-at convective-base`).
+#[derive(Debug, Clone, Serialize)]
+pub struct StopAt {
+    /// Radius the walk stops at (photons reaching it count as escaped), cm.
+    pub radius_cm: f64,
+    /// The model's surface radius, cm.
+    pub surface_radius_cm: f64,
+    /// Time convection takes from there to the surface (mixing-length estimate), s.
+    pub convective_crossing_time_s: Option<f64>,
+}
+
 /// How the walk went: method, absorption treatment and cost.
 #[derive(Debug, Clone, Serialize)]
 pub struct WalkSummary {
@@ -221,6 +234,12 @@ pub struct RunAnalysis {
     /// Resolved slab tallies (with `--resolve`): time of flight, depth, angle, radius.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub resolved: Option<ResolvedSummary>,
+    /// Stellar models with energy generation: L = ∫ ε dm of the star, erg s⁻¹.
+    pub luminosity_erg_s: Option<f64>,
+    /// Stellar models with energy generation: radiative and convective zones of the star.
+    pub zones: Option<Vec<Zone>>,
+    /// Where the walk stopped below the surface (null when it ran to the surface).
+    pub stop_at: Option<StopAt>,
     /// One-line caveats for the reader.
     pub notes: Vec<String>,
 }
@@ -232,15 +251,26 @@ impl RunAnalysis {
         let escape_time = DistributionSummary::of_time(&escapes);
         let scatterings = DistributionSummary::of_scatterings(&escapes);
         let is_slab = medium.geometry() == Geometry::Slab;
+        let stellar = StellarAnalysis::of(medium);
+        let energy_source = medium.source() == Source::EnergyGeneration;
         let launched = tally.launched().max(1) as f64;
         let entering = 1.0 - tally.specular().count() as f64 / launched;
         let slab = slab_diffusion(medium, tally);
-        let (diffusion, theory_notes) = DiffusionSummary::new(medium, slab.as_ref(), entering);
+        let (mut diffusion, theory_notes) = DiffusionSummary::new(medium, slab.as_ref(), entering);
+        if let Some(stellar) = &stellar {
+            diffusion.add_stellar_times(&stellar.times);
+        }
+        // Photons from the energy generation: compare with the luminosity-weighted times.
+        let reference = if energy_source {
+            diffusion.luminosity_weighted_reference()
+        } else {
+            diffusion.clone()
+        };
         let comparison = compare(
             medium,
             tally,
             &escapes,
-            &diffusion,
+            &reference,
             theory_notes,
             slab.as_ref(),
         );
@@ -264,6 +294,41 @@ impl RunAnalysis {
             notes.push(format!(
                 "{not_finite} escape times or scattering counts were not finite (NaN or \
                  infinite): they are counted, but left out of the means and extremes"
+            ));
+        }
+        if energy_source {
+            notes.push(
+                "photons start where the energy is released (probability ∝ ε ρ r² dr): the \
+                 time ratios compare with the luminosity-weighted diffusion times; \
+                 diffusion.mean_time_s is from the centre"
+                    .to_string(),
+            );
+        }
+        let stop_at = medium
+            .truncation()
+            .map(|(radius_cm, surface_radius_cm)| StopAt {
+                radius_cm,
+                surface_radius_cm,
+                convective_crossing_time_s: stellar
+                    .as_ref()
+                    .filter(|s| {
+                        s.convective_base_radius_cm
+                            .is_some_and(|base| (base - radius_cm).abs() <= 1e-9 * radius_cm)
+                    })
+                    .and_then(|s| s.convective_crossing_time_s),
+            });
+        if let Some(stop) = &stop_at {
+            notes.push(format!(
+                "the walk stops at r = {:.6e} cm ({:.3} of the surface radius): photons reaching \
+                 it count as escaped, and every diffusion time is to that radius{}",
+                stop.radius_cm,
+                stop.radius_cm / stop.surface_radius_cm,
+                stop.convective_crossing_time_s
+                    .map_or_else(String::new, |t| format!(
+                        "; convection carries the energy on to the surface in about {} \
+                     (mixing-length estimate)",
+                        crate::units::format_duration(t)
+                    ))
             ));
         }
         if tally.censored().count() > 0 {
@@ -294,6 +359,12 @@ impl RunAnalysis {
             walk: WalkSummary::new(config, tally),
             slab_diffusion: slab,
             resolved: resolved_summary(medium, tally),
+            luminosity_erg_s: stellar.as_ref().and_then(|s| s.luminosity_erg_s),
+            zones: stellar
+                .as_ref()
+                .filter(|s| s.luminosity_erg_s.is_some())
+                .map(|s| s.zones.clone()),
+            stop_at,
             notes,
         }
     }

@@ -20,6 +20,7 @@
 
 use serde::Serialize;
 
+use crate::analysis::stellar::StellarTimes;
 use crate::diffusion::{self, DiffusionEstimate, equivalent_sphere, first_passage};
 use crate::medium::{Geometry, Medium, Source};
 use crate::units::format_significant;
@@ -154,6 +155,17 @@ pub struct DiffusionSummary {
     pub reflected: Option<f64>,
     /// Slabs lit from outside: diffuse transmittance per launched photon; null otherwise.
     pub transmitted: Option<f64>,
+    /// Stellar models with energy generation: the mean exit time averaged over where the
+    /// energy is released (to the medium's surface, or to where the walk stops), s.
+    pub luminosity_weighted_time_s: Option<f64>,
+    /// The same with the Milne extrapolated boundary, s.
+    pub luminosity_weighted_time_extrapolated_s: Option<f64>,
+    /// Flux-weighted mean residence time U_F / L (to the same boundary), s.
+    pub flux_weighted_time_s: Option<f64>,
+    /// Radiant energy content of the star over its luminosity, U_rad / L, s.
+    pub energy_content_time_s: Option<f64>,
+    /// Mean exit time from the centre to the base of the outer convective zone, s.
+    pub time_to_convective_base_s: Option<f64>,
 }
 
 impl DiffusionSummary {
@@ -246,7 +258,39 @@ impl DiffusionSummary {
             escape_time,
             reflected: slab.map(|s| s.reflectance),
             transmitted: slab.map(|s| s.transmittance),
+            luminosity_weighted_time_s: None,
+            luminosity_weighted_time_extrapolated_s: None,
+            flux_weighted_time_s: None,
+            energy_content_time_s: None,
+            time_to_convective_base_s: None,
         };
         (summary, notes)
+    }
+
+    /// Adds the stellar diffusion times of a model with energy generation.
+    pub fn add_stellar_times(&mut self, times: &StellarTimes) {
+        self.luminosity_weighted_time_s = times.luminosity_weighted_time_s;
+        self.luminosity_weighted_time_extrapolated_s =
+            times.luminosity_weighted_time_extrapolated_s;
+        self.flux_weighted_time_s = times.flux_weighted_time_s;
+        self.energy_content_time_s = times.energy_content_time_s;
+        self.time_to_convective_base_s = times.time_to_convective_base_s;
+    }
+
+    /// The theory a run whose photons start where the energy is released is compared with:
+    /// the luminosity-weighted mean times in place of the times from the centre, and no
+    /// scattering count or escape-time quantiles (those are from the centre).
+    pub fn luminosity_weighted_reference(&self) -> Self {
+        Self {
+            mean_time_s: self.luminosity_weighted_time_s,
+            mean_time_extrapolated_s: self.luminosity_weighted_time_extrapolated_s,
+            mean_scatterings: None,
+            mean_scatterings_extrapolated: None,
+            escape_time: EscapeTimeTheory {
+                mean_s: self.luminosity_weighted_time_extrapolated_s,
+                ..EscapeTimeTheory::default()
+            },
+            ..self.clone()
+        }
     }
 }

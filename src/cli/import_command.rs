@@ -13,6 +13,7 @@ use sojourn::units::{LengthUnit, format_significant};
 
 use super::args;
 use super::output::write_atomically;
+use super::stellar_args::{EnergyChoice, energy, table_for_model};
 
 /// Field separators.
 #[derive(Debug, Clone, Copy, ValueEnum)]
@@ -36,8 +37,8 @@ pub struct ImportArgs {
     /// commas or whitespace; '#' starts a comment line.
     table: PathBuf,
     /// Column mapping, QUANTITY=COLUMN[:SCALE],... with quantities radius, density,
-    /// temperature, opacity, hydrogen, metals, scattering_fraction (log_ prefix for log10
-    /// columns); COLUMN is a header name or a 1-based number; SCALE a factor to cgs or, for
+    /// temperature, opacity, hydrogen, metals, scattering_fraction, energy_generation (erg/g/s)
+    /// (log_ prefix for log10 columns); COLUMN is a header name or a 1-based number; SCALE a factor to cgs or, for
     /// radius, a unit (um, mm, cm, m, km, R_sun). Radius is in cm by default.
     #[arg(long, value_name = "MAPPING")]
     columns: String,
@@ -52,8 +53,21 @@ pub struct ImportArgs {
     metals: Option<f64>,
     /// Opacity law when no opacity column is mapped (as for `sojourn star`; default
     /// es+kramers).
-    #[arg(long, value_name = "LAW", value_parser = args::opacity)]
+    #[arg(long, value_name = "LAW", value_parser = args::opacity, conflicts_with = "opacity_table")]
     opacity: Option<OpacitySpec>,
+    /// Opacity table (CSV: temperature_k,density_g_cm3,opacity_cm2_g) evaluated at every row
+    /// instead of a law (needs a temperature column); the model refers to it by a path
+    /// relative to itself.
+    #[arg(long, value_name = "CSV")]
+    opacity_table: Option<PathBuf>,
+    /// With --opacity-table: clamp rows outside the table to its edges (the reports flag
+    /// them) instead of refusing the model.
+    #[arg(long, requires = "opacity_table")]
+    clamp_opacity_table: bool,
+    /// Energy-generation laws evaluated at every row when no energy_generation column is
+    /// mapped: pp, cno, pp+cno or none (default none).
+    #[arg(long, value_name = "LAWS", default_value = "none", value_parser = energy)]
+    energy: EnergyChoice,
     /// The radius column is a fraction r/R of this total radius: a length such as
     /// 6.957e10 (cm), 0.8R_sun or 5e5km.
     #[arg(long, value_name = "LENGTH", value_parser = sojourn::import::parse_length_cm)]
@@ -81,7 +95,12 @@ pub struct ImportArgs {
 pub fn execute(args: ImportArgs) -> Result<()> {
     let mapping = ColumnMapping::parse(&args.columns)?;
     let mapped = |q: TableQuantity| mapping.entries().iter().any(|e| e.quantity == q);
-    let uses_law = !mapped(TableQuantity::Opacity);
+    let opacity_table = match &args.opacity_table {
+        Some(table) => Some(table_for_model(table, &args.out, args.clamp_opacity_table)?),
+        None => None,
+    };
+    let uses_law = !mapped(TableQuantity::Opacity) && opacity_table.is_none();
+    let needs_composition = uses_law || args.energy.0.is_some();
     let mut assumed = Vec::new();
     let opacity_law = if uses_law {
         Some(args.opacity.clone().unwrap_or_else(|| {
@@ -92,7 +111,7 @@ pub fn execute(args: ImportArgs) -> Result<()> {
         args.opacity.clone()
     };
     let mut single = |value: Option<f64>, quantity: TableQuantity, default: f64, flag: &str| {
-        if value.is_some() || mapped(quantity) || !uses_law {
+        if value.is_some() || mapped(quantity) || !needs_composition {
             return value;
         }
         assumed.push(format!(
@@ -117,6 +136,8 @@ pub fn execute(args: ImportArgs) -> Result<()> {
         hydrogen_x,
         metals_z,
         opacity_law,
+        opacity_table,
+        energy: args.energy.0,
         total_radius_cm: args.total_radius,
         skip_rows: args.skip_rows,
         delimiter: match args.delimiter {
@@ -155,9 +176,15 @@ pub fn execute(args: ImportArgs) -> Result<()> {
     );
     if let Some(cut) = &summary.surface_cut {
         out += &format!(
-            "\n  surface cut at r = {} cm where T = {} K (the opacity law's lower limit)",
+            "\n  surface cut at r = {} cm where T = {} K (the lower limit of the opacity law or table)",
             format_significant(cut.radius_cm, 6),
             cut.temperature_k
+        );
+    }
+    if let Some(luminosity) = medium.structure().and_then(|s| s.luminosity_erg_s()) {
+        out += &format!(
+            "\n  luminosity {} erg/s from the energy generation",
+            format_significant(luminosity, 4)
         );
     }
     out += &format!("\n  next: sojourn profile {label}\n");

@@ -11,6 +11,7 @@ mod progress;
 mod run_command;
 mod run_scale;
 mod star_command;
+mod stellar_args;
 mod sweep_command;
 
 use anyhow::Result;

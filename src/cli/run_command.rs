@@ -7,6 +7,7 @@ use clap::Args;
 
 use serde_json::Value;
 use sojourn::analysis::resolved_layout;
+use sojourn::analysis::stellar::StellarAnalysis;
 use sojourn::medium::model_file::{
     DEMO_MODEL_JSON, DEMO_MODEL_LABEL, LoadOptions, load_model_value, model_from_value_with,
     parse_model_value,
@@ -84,6 +85,19 @@ pub struct RunArgs {
     /// whose files rebuild the model with its own tolerance.
     #[arg(long, value_parser = super::args::tolerance, conflicts_with_all = ["shard", "checkpoint"])]
     profile_tolerance: Option<f64>,
+    /// Stop the walk at a radius below the surface: `convective-base`, the base of the outer
+    /// convective zone (Schwarzschild criterion; the model needs energy generation), where
+    /// convection takes over. Photons reaching it count as escaped; diffusion times are to
+    /// it. Not with --shard or --checkpoint.
+    #[arg(long, value_enum, value_name = "WHERE", conflicts_with_all = ["shard", "checkpoint"])]
+    stop_at: Option<StopAtArg>,
+}
+
+/// Where `--stop-at` stops the walk.
+#[derive(Debug, Clone, Copy, clap::ValueEnum)]
+enum StopAtArg {
+    /// The base of the outer convective zone.
+    ConvectiveBase,
 }
 
 /// Walk methods on the command line.
@@ -128,7 +142,40 @@ fn load(args: &RunArgs) -> Result<(Medium, String, Value)> {
     let options = LoadOptions {
         profile_tolerance: args.profile_tolerance,
     };
-    Ok((model_from_value_with(&value, &file, &options)?, file, value))
+    let medium = model_from_value_with(&value, &file, &options)?;
+    let medium = match args.stop_at {
+        None => medium,
+        Some(StopAtArg::ConvectiveBase) => stop_at_convective_base(medium, &file)?,
+    };
+    Ok((medium, file, value))
+}
+
+/// The medium cut at the base of its outer convective zone.
+fn stop_at_convective_base(medium: Medium, file: &str) -> Result<Medium> {
+    let analysis = StellarAnalysis::of(&medium).with_context(|| {
+        format!(
+            "{file}: --stop-at convective-base needs a stellar model (a sphere of profile layers)"
+        )
+    })?;
+    let Some(base) = analysis.convective_base_radius_cm else {
+        anyhow::bail!(
+            "{file}: --stop-at convective-base: the model has no outer convective zone{}",
+            if analysis.zones.is_empty() {
+                " (zones need energy generation: a profile \"energy_generation\" column)"
+            } else {
+                ""
+            }
+        );
+    };
+    if base <= 0.0 {
+        anyhow::bail!(
+            "{file}: --stop-at convective-base: the whole model is convective (Schwarzschild), so \
+             radiation carries none of its luminosity; there is no radiative interior to walk"
+        );
+    }
+    medium
+        .truncated_at(base)
+        .with_context(|| format!("{file}: cannot stop the walk at r = {base} cm"))
 }
 
 /// Runs the subcommand.

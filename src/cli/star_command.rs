@@ -7,12 +7,12 @@ use clap::Args;
 
 use sojourn::medium::model_file::model_from_value;
 use sojourn::opacity::OpacitySpec;
-use sojourn::star::PressureModel;
-use sojourn::star::builder::{DEFAULT_ROWS, PolytropeStar, interior_opacity};
-use sojourn::units::format_significant;
+use sojourn::star::builder::{DEFAULT_ROWS, PolytropeStar, PressureChoice, interior_opacity};
+use sojourn::units::{SOLAR_LUMINOSITY_ERG_S, format_significant};
 
 use super::args;
 use super::output::write_atomically;
+use super::stellar_args::{EnergyChoice, energy, table_for_model};
 
 /// Arguments of `sojourn star`.
 #[derive(Debug, Args)]
@@ -38,12 +38,32 @@ pub struct StarArgs {
     out: PathBuf,
     /// Opacity law: es, ff, bf, kramers, h_minus, smooth, constant:VALUE, sums such as
     /// es+kramers, or a JSON law. Default: es+kramers.
-    #[arg(long, value_name = "LAW", value_parser = args::opacity)]
+    #[arg(long, value_name = "LAW", value_parser = args::opacity, conflicts_with = "opacity_table")]
     opacity: Option<OpacitySpec>,
-    /// Eddington's standard model (n = 3 only): a constant fraction of the pressure is
-    /// radiation pressure, which lowers the temperature.
+    /// Opacity table (CSV: temperature_k,density_g_cm3,opacity_cm2_g on a rectilinear grid)
+    /// instead of a law; the model file refers to it by a path relative to itself.
+    #[arg(long, value_name = "CSV")]
+    opacity_table: Option<PathBuf>,
+    /// With --opacity-table: clamp points outside the table to its edges (the reports flag
+    /// them) instead of refusing the model.
+    #[arg(long, requires = "opacity_table")]
+    clamp_opacity_table: bool,
+    /// Energy-generation laws written into the model as ε per row (erg/g/s): pp, cno,
+    /// pp+cno or none.
+    #[arg(long, value_name = "LAWS", default_value = "pp+cno", value_parser = energy)]
+    energy: EnergyChoice,
+    /// Photons start where the energy is released (source "energy_generation") instead of
+    /// at the centre.
     #[arg(long)]
+    energy_source: bool,
+    /// Eddington's standard model (n = 3 only): a constant fraction of the pressure is
+    /// radiation pressure, which lowers the temperature. Default: included when Eddington's
+    /// quartic gives 1 - beta >= 1 % (n = 3; M >~ 4.8 M_sun at X = 0.70, Z = 0.02).
+    #[arg(long, conflicts_with = "ideal_gas")]
     eddington: bool,
+    /// All the pressure is ideal gas, whatever the mass.
+    #[arg(long)]
+    ideal_gas: bool,
     /// Table rows from the centre to the surface.
     #[arg(long, default_value_t = DEFAULT_ROWS, value_parser = clap::builder::RangedU64ValueParser::<usize>::new().range(3..=1_000_000))]
     rows: usize,
@@ -62,6 +82,10 @@ pub struct StarArgs {
 
 /// Runs the subcommand.
 pub fn execute(args: StarArgs) -> Result<()> {
+    let opacity_table = match &args.opacity_table {
+        Some(table) => Some(table_for_model(table, &args.out, args.clamp_opacity_table)?),
+        None => None,
+    };
     let star = PolytropeStar {
         index: args.polytrope,
         mass_solar: args.mass,
@@ -69,11 +93,16 @@ pub fn execute(args: StarArgs) -> Result<()> {
         hydrogen_x: args.hydrogen,
         metals_z: args.metals,
         pressure: if args.eddington {
-            PressureModel::EddingtonStandardModel
+            PressureChoice::Eddington
+        } else if args.ideal_gas {
+            PressureChoice::IdealGas
         } else {
-            PressureModel::IdealGas
+            PressureChoice::Auto
         },
         opacity: args.opacity.unwrap_or_else(interior_opacity),
+        opacity_table,
+        energy: args.energy.0,
+        energy_source: args.energy_source,
         rows: args.rows,
         tolerance: args.tolerance,
         name: args.name,
@@ -105,18 +134,55 @@ pub fn execute(args: StarArgs) -> Result<()> {
         format_significant(p.solution().central_to_mean_density(), 6),
         format_significant(p.central_temperature_k(), 4),
         built.table.rows(),
-        star.opacity.describe(),
+        match &star.opacity_table {
+            Some(table) => format!(
+                "table {} ({}; points outside it {})",
+                table.file,
+                table.table.range().describe(),
+                match table.outside {
+                    sojourn::opacity::OutsidePolicy::Refuse => "refused",
+                    sojourn::opacity::OutsidePolicy::Clamp => "clamped to its edges",
+                }
+            ),
+            None => star.opacity.describe(),
+        },
         medium.layers().len(),
     );
+    if let (Some(laws), Some(luminosity)) = (
+        star.energy,
+        medium.structure().and_then(|s| s.luminosity_erg_s()),
+    ) {
+        out += &format!(
+            "\n  energy generation: {}; luminosity {} erg/s ({} L_sun){}",
+            laws.describe(),
+            format_significant(luminosity, 4),
+            format_significant(luminosity / SOLAR_LUMINOSITY_ERG_S, 3),
+            if star.energy_source {
+                ", photons start where it is released"
+            } else {
+                ""
+            }
+        );
+    }
+    for note in &built.notes {
+        match note.strip_prefix("warning: ") {
+            Some(warning) => eprintln!("sojourn: warning: {warning}"),
+            None => out += &format!("\n  {note}"),
+        }
+    }
     if let Some(cut) = medium
         .profiles()
         .first()
         .and_then(|s| s.surface_cut.as_ref())
     {
         out += &format!(
-            "\n  surface cut at r = {:.6} R where T = {} K (the opacity law's lower limit)",
+            "\n  surface cut at r = {:.6} R where T = {} K (the lower limit of the opacity law or table)",
             cut.radius_cm / p.radius_cm(),
-            cut.temperature_k
+            if cut.temperature_k.fract() == 0.0 {
+                format!("{}", cut.temperature_k)
+            } else {
+                format_significant(cut.temperature_k, 6)
+            }
         );
     }
     if let Some(table) = &args.table {

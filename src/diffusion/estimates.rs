@@ -414,7 +414,7 @@ fn slab_source_average(medium: &Medium, layers: &[DiffusionLayer]) -> Residence 
             }
             average
         }
-        Source::SpherePoint { .. } => beam_average(medium, layers, 1.0),
+        Source::SpherePoint { .. } | Source::EnergyGeneration => beam_average(medium, layers, 1.0),
     }
 }
 

@@ -10,6 +10,7 @@ pub mod first_passage;
 pub mod ks;
 mod quadrature;
 mod sphere_check;
+pub mod stellar_times;
 pub mod time_resolved;
 pub mod transient;
 

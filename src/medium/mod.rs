@@ -6,16 +6,20 @@
 //! [`model_file::load_model`]; both paths validate every value, so nothing downstream sees
 //! raw input.
 
+pub mod emission;
 mod error;
 mod layer;
 pub mod model_file;
 pub mod profile;
 
+pub use emission::EmissionSampler;
 pub use error::{MediumError, Quantity};
 pub use layer::{GasSample, Layer};
 
+use std::sync::Arc;
+
 use crate::units::LengthUnit;
-use profile::ProfileSummary;
+use profile::{ProfileSummary, RadialStructure};
 
 /// The shape of the medium.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
@@ -54,6 +58,10 @@ pub enum Source {
     },
     /// Slab: diffuse (Lambertian) illumination of the top face from the ambient medium.
     Diffuse,
+    /// Sphere: isotropic sources distributed like the energy generation, with probability
+    /// ∝ ε ρ r² dr on the model's profile ([`Medium::emission`], [`EmissionSampler`]). Set
+    /// with [`Medium::with_energy_generation_source`].
+    EnergyGeneration,
 }
 
 impl Source {
@@ -89,6 +97,13 @@ pub struct Medium {
     /// How each tabulated profile in the medium was divided into sub-shells (empty for media
     /// of plain layers).
     profiles: Vec<ProfileSummary>,
+    /// The radial structure of a sphere made only of profile layers (rows with m(r), L(r)).
+    structure: Option<Arc<RadialStructure>>,
+    /// Where the energy is released (profiles with energy generation).
+    emission: Option<Arc<EmissionSampler>>,
+    /// The radius the medium was cut at by [`Medium::truncated_at`], and its surface radius
+    /// before, cm.
+    truncation: Option<(f64, f64)>,
 }
 
 impl Medium {
@@ -124,6 +139,15 @@ impl Medium {
                 }
                 boundaries_cm.partition_point(|&b| b <= radius_cm)
             }
+            Source::EnergyGeneration => {
+                return Err(MediumError::Invalid {
+                    field: "source.kind".into(),
+                    problem: "an energy-generation source needs the model's energy-generation \
+                              profile: build the sphere with a point source, then call \
+                              with_energy_generation_source"
+                        .into(),
+                });
+            }
             _ => {
                 return Err(MediumError::Invalid {
                     field: "source.kind".into(),
@@ -144,6 +168,9 @@ impl Medium {
             source_layer,
             display_unit: LengthUnit::Cm,
             profiles: Vec::new(),
+            structure: None,
+            emission: None,
+            truncation: None,
         })
     }
 
@@ -209,7 +236,7 @@ impl Medium {
                     .partition_point(|&b| b <= depth_cm)
                     .min(layers.len() - 1)
             }
-            Source::SpherePoint { .. } => {
+            Source::SpherePoint { .. } | Source::EnergyGeneration => {
                 return Err(MediumError::Invalid {
                     field: "source.kind".into(),
                     problem: "a slab takes \"beam\" or a point source at a \"depth\"".into(),
@@ -228,6 +255,9 @@ impl Medium {
             source_layer,
             display_unit: LengthUnit::Cm,
             profiles: Vec::new(),
+            structure: None,
+            emission: None,
+            truncation: None,
         })
     }
 
@@ -294,6 +324,9 @@ impl Medium {
         medium.display_unit = self.display_unit;
         medium.sharp = self.sharp.clone();
         medium.profiles = self.profiles.clone();
+        medium.structure = self.structure.clone();
+        medium.emission = self.emission.clone();
+        medium.truncation = self.truncation;
         Ok(medium)
     }
 
@@ -323,6 +356,108 @@ impl Medium {
         medium.sharp = self.sharp.clone();
         medium.profiles = self.profiles.clone();
         Ok(medium)
+    }
+
+    /// The same sphere recording its radial structure (a sphere made only of profile layers:
+    /// rows with m(r) and L(r)); where the structure has energy generation, the
+    /// [`EmissionSampler`] of [`Source::EnergyGeneration`] is built from it.
+    pub fn with_structure(mut self, structure: RadialStructure) -> Self {
+        self.emission = EmissionSampler::new(&structure, &self.boundaries_cm).map(Arc::new);
+        self.structure = Some(Arc::new(structure));
+        self
+    }
+
+    /// The radial structure of a sphere made only of profile layers (None otherwise).
+    pub fn structure(&self) -> Option<&RadialStructure> {
+        self.structure.as_deref()
+    }
+
+    /// Where the energy is released: the sampler of [`Source::EnergyGeneration`] (None
+    /// without energy generation).
+    pub fn emission(&self) -> Option<&Arc<EmissionSampler>> {
+        self.emission.as_ref()
+    }
+
+    /// The same sphere with photons starting where the energy is released
+    /// ([`Source::EnergyGeneration`]).
+    ///
+    /// # Errors
+    /// [`MediumError::Invalid`] for a slab, or a sphere without energy generation (the
+    /// model's profile layers need an `energy_generation` column and a luminosity > 0).
+    pub fn with_energy_generation_source(mut self) -> Result<Self, MediumError> {
+        if self.geometry != Geometry::Sphere {
+            return Err(MediumError::Invalid {
+                field: "source.kind".into(),
+                problem: "an energy-generation source needs a sphere".into(),
+            });
+        }
+        if self.emission.is_none() {
+            return Err(MediumError::Invalid {
+                field: "source.kind".into(),
+                problem: "\"energy_generation\" needs a sphere made of profile layers that all \
+                          give \"energy_generation\" (erg/g/s per row), with a luminosity > 0"
+                    .into(),
+            });
+        }
+        self.source = Source::EnergyGeneration;
+        self.source_layer = 0;
+        Ok(self)
+    }
+
+    /// The same sphere ending at `radius_cm` (the shell holding it cut there; every layer
+    /// above dropped; the new surface is sharp): where a walk stops, e.g. at the base of an
+    /// outer convective zone. The structure is kept whole (it describes the star); the
+    /// energy-generation source is restricted to r < `radius_cm`.
+    ///
+    /// # Errors
+    /// [`MediumError`] for a slab, a radius outside (0, surface), a point source at or above
+    /// the radius, or an energy-generation source with nothing released below it.
+    pub fn truncated_at(&self, radius_cm: f64) -> Result<Self, MediumError> {
+        let outer = self.size_cm();
+        if self.geometry != Geometry::Sphere || !(radius_cm > 0.0 && radius_cm < outer) {
+            return Err(MediumError::value(
+                "stop_radius",
+                radius_cm,
+                Quantity::Length,
+                format!("a radius inside the sphere, in (0, {outer} cm)"),
+            ));
+        }
+        let keep = self.boundaries_cm.partition_point(|&b| b < radius_cm) + 1;
+        let mut shells: Vec<(f64, Layer)> = self
+            .boundaries_cm
+            .iter()
+            .copied()
+            .zip(self.layers.iter().cloned())
+            .take(keep)
+            .collect();
+        shells.last_mut().expect("a layer holds the radius").0 = radius_cm;
+        let source = match self.source {
+            Source::EnergyGeneration => Source::centre(),
+            other => other,
+        };
+        let mut medium = Medium::sphere(shells, source)?;
+        medium.name = self.name.clone();
+        medium.display_unit = self.display_unit;
+        medium.sharp = self.sharp[..keep].to_vec();
+        medium.sharp[keep - 1] = true;
+        medium.profiles = self.profiles.clone();
+        medium.structure = self.structure.clone();
+        medium.emission = self
+            .emission
+            .as_ref()
+            .and_then(|e| e.truncated_at(radius_cm, &medium.boundaries_cm))
+            .map(Arc::new);
+        medium.truncation = Some((radius_cm, self.truncation.map_or(outer, |t| t.1)));
+        if self.source == Source::EnergyGeneration {
+            medium = medium.with_energy_generation_source()?;
+        }
+        Ok(medium)
+    }
+
+    /// Where the medium was cut by [`Medium::truncated_at`]: (the cut radius, the surface
+    /// radius before), cm; None if it was not.
+    pub fn truncation(&self) -> Option<(f64, f64)> {
+        self.truncation
     }
 
     /// Whether the boundary at the outer edge (sphere) or bottom (slab) of layer `index` is a

@@ -3,6 +3,7 @@
 //! the field, the value and what was expected.
 
 use std::path::Path;
+use std::sync::Arc;
 
 use serde::Deserialize;
 use thiserror::Error;
@@ -11,9 +12,10 @@ use serde::Serialize;
 
 use super::profile::{
     ColumnValues, DEFAULT_TOLERANCE, ProfileColumns, ProfileOpacity, ProfileSummary, ProfileTable,
+    RadialStructure,
 };
 use super::{GasSample, Layer, Medium, MediumError, Quantity, Source};
-use crate::opacity::OpacitySpec;
+use crate::opacity::{OpacitySpec, OpacityTable, OutsidePolicy};
 use crate::transport::PhaseFunction;
 use crate::units::LengthUnit;
 
@@ -162,12 +164,92 @@ pub struct ProfileSpec {
     /// Mass opacity per row, cm² g⁻¹ (exclusive with `opacity_law`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub opacity: Option<Vec<f64>>,
+    /// An opacity table κ(T, ρ) evaluated at each radius (exclusive with `opacity_law` and
+    /// `opacity`): its path, relative to the model file, or `{"file": PATH, "outside":
+    /// "refuse" | "clamp"}`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub opacity_table: Option<OpacityTableSpec>,
     /// With `opacity`: fraction of it that is scattering, a number or one per row.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub scattering_fraction: Option<ColumnValues>,
     /// Relative tolerance between neighbouring sub-shell extinctions (default 0.01).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub tolerance: Option<f64>,
+    /// Nuclear energy generation ε, erg g⁻¹ s⁻¹: a number or one per row (optional; needed
+    /// for L(r), convective zones and the energy-generation source).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub energy_generation: Option<ColumnValues>,
+}
+
+/// The `opacity_table` of a profile: a path (relative to the model file), and what to do
+/// with points outside the table. Written as `"PATH"` (outside points refused) or
+/// `{"file": "PATH", "outside": "clamp"}`.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct OpacityTableSpec {
+    /// Path of the table, relative to the model file's folder (or absolute).
+    pub file: String,
+    /// What to do with points outside the table.
+    pub outside: OutsidePolicy,
+}
+
+impl Serialize for OpacityTableSpec {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        if self.outside == OutsidePolicy::Refuse {
+            return serializer.serialize_str(&self.file);
+        }
+        let mut map = serializer.serialize_map(Some(2))?;
+        map.serialize_entry("file", &self.file)?;
+        map.serialize_entry("outside", &self.outside)?;
+        map.end()
+    }
+}
+
+impl<'de> Deserialize<'de> for OpacityTableSpec {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct TableVisitor;
+        impl<'de> serde::de::Visitor<'de> for TableVisitor {
+            type Value = OpacityTableSpec;
+
+            fn expecting(&self, formatter: &mut std::fmt::Formatter) -> std::fmt::Result {
+                formatter.write_str(
+                    "the path of an opacity table, or {\"file\": PATH, \"outside\": \
+                     \"refuse\" | \"clamp\"}",
+                )
+            }
+
+            fn visit_str<E: serde::de::Error>(self, path: &str) -> Result<Self::Value, E> {
+                Ok(OpacityTableSpec {
+                    file: path.to_string(),
+                    outside: OutsidePolicy::Refuse,
+                })
+            }
+
+            fn visit_map<A: serde::de::MapAccess<'de>>(
+                self,
+                mut map: A,
+            ) -> Result<Self::Value, A::Error> {
+                let (mut file, mut outside) = (None, None);
+                while let Some(key) = map.next_key::<String>()? {
+                    match key.as_str() {
+                        "file" => file = Some(map.next_value::<String>()?),
+                        "outside" => outside = Some(map.next_value::<OutsidePolicy>()?),
+                        other => {
+                            return Err(serde::de::Error::unknown_field(
+                                other,
+                                &["file", "outside"],
+                            ));
+                        }
+                    }
+                }
+                Ok(OpacityTableSpec {
+                    file: file.ok_or_else(|| serde::de::Error::missing_field("file"))?,
+                    outside: outside.unwrap_or_default(),
+                })
+            }
+        }
+        deserializer.deserialize_any(TableVisitor)
+    }
 }
 
 impl ProfileSpec {
@@ -185,6 +267,14 @@ impl ProfileSpec {
                 Some(opacity_cm2_g.clone()),
                 scattering_fraction.clone(),
             ),
+            ProfileOpacity::Table { .. } => (None, None, None),
+        };
+        let opacity_table = match &columns.opacity {
+            ProfileOpacity::Table { file, outside, .. } => Some(OpacityTableSpec {
+                file: file.clone(),
+                outside: *outside,
+            }),
+            _ => None,
         };
         Self {
             radius: columns
@@ -198,48 +288,76 @@ impl ProfileSpec {
             metals: columns.metals_z.clone(),
             opacity_law,
             opacity,
+            opacity_table,
             scattering_fraction,
             tolerance,
+            energy_generation: columns.energy_generation_erg_g_s.clone(),
         }
     }
 
-    /// The validated table, radii converted to cm with `to_cm` (cm per length unit).
+    /// The validated table, radii converted to cm with `to_cm` (cm per length unit); an
+    /// opacity table's path is taken relative to the current folder.
     ///
     /// # Errors
-    /// As [`ProfileTable::new`], or both or neither of `opacity_law` and `opacity`, or a
-    /// `scattering_fraction` with an opacity law.
+    /// As [`ProfileSpec::to_table_in`].
     pub fn to_table(&self, to_cm: f64) -> Result<ProfileTable, MediumError> {
-        let opacity = match (&self.opacity_law, &self.opacity) {
-            (Some(law), None) => {
-                if self.scattering_fraction.is_some() {
-                    return Err(MediumError::Invalid {
-                        field: "scattering_fraction".into(),
-                        problem: "not used with \"opacity_law\": the law gives its own \
-                                  scattering fraction"
-                            .into(),
-                    });
-                }
-                ProfileOpacity::Law(law.clone())
-            }
-            (None, Some(values)) => ProfileOpacity::Tabulated {
+        self.to_table_in(to_cm, Path::new(""))
+    }
+
+    /// The validated table, radii converted to cm with `to_cm` (cm per length unit); an
+    /// opacity table's relative path is taken relative to `folder` (the model file's).
+    ///
+    /// # Errors
+    /// As [`ProfileTable::new`]; not exactly one of `opacity_law`, `opacity` and
+    /// `opacity_table`; a `scattering_fraction` without `opacity`; an opacity table that
+    /// cannot be read or is invalid (the error names the table's file, line and value).
+    pub fn to_table_in(&self, to_cm: f64, folder: &Path) -> Result<ProfileTable, MediumError> {
+        let given = [
+            self.opacity_law.is_some(),
+            self.opacity.is_some(),
+            self.opacity_table.is_some(),
+        ];
+        let count = given.iter().filter(|g| **g).count();
+        let choices = "\"opacity_law\" (a law, e.g. {\"kind\": \"electron_scattering\"}), \
+                       \"opacity\" (cm^2/g per row) or \"opacity_table\" (a table file)";
+        if count == 0 {
+            return Err(MediumError::Invalid {
+                field: "opacity_law".into(),
+                problem: format!("missing: give one of {choices}"),
+            });
+        }
+        if count > 1 {
+            return Err(MediumError::Invalid {
+                field: "opacity".into(),
+                problem: format!("give only one of {choices}, not both"),
+            });
+        }
+        if self.scattering_fraction.is_some() && self.opacity.is_none() {
+            return Err(MediumError::Invalid {
+                field: "scattering_fraction".into(),
+                problem: "only with \"opacity\" (cm^2/g per row): a law gives its own scattering \
+                          fraction, and a table none"
+                    .into(),
+            });
+        }
+        let opacity = if let Some(law) = &self.opacity_law {
+            ProfileOpacity::Law(law.clone())
+        } else if let Some(values) = &self.opacity {
+            ProfileOpacity::Tabulated {
                 opacity_cm2_g: values.clone(),
                 scattering_fraction: self.scattering_fraction.clone(),
-            },
-            (Some(_), Some(_)) => {
-                return Err(MediumError::Invalid {
-                    field: "opacity".into(),
-                    problem: "give either \"opacity_law\" (a law) or \"opacity\" (cm^2/g per \
-                              row), not both"
-                        .into(),
-                });
             }
-            (None, None) => {
-                return Err(MediumError::Invalid {
-                    field: "opacity_law".into(),
-                    problem: "missing: give \"opacity_law\" (e.g. {\"kind\": \
-                              \"electron_scattering\"}) or \"opacity\" (cm^2/g per row)"
-                        .into(),
-                });
+        } else {
+            let spec = self.opacity_table.as_ref().expect("one opacity given");
+            let path = folder.join(&spec.file);
+            let table = OpacityTable::read(&path).map_err(|error| MediumError::Invalid {
+                field: "opacity_table".into(),
+                problem: error.to_string(),
+            })?;
+            ProfileOpacity::Table {
+                file: spec.file.clone(),
+                table: Arc::new(table),
+                outside: spec.outside,
             }
         };
         ProfileTable::new(ProfileColumns {
@@ -249,6 +367,7 @@ impl ProfileSpec {
             hydrogen_x: self.hydrogen.clone(),
             metals_z: self.metals.clone(),
             opacity,
+            energy_generation_erg_g_s: self.energy_generation.clone(),
         })
     }
 }
@@ -311,6 +430,7 @@ enum SourceKind {
     Plane,
     Beam,
     Diffuse,
+    EnergyGeneration,
 }
 
 /// The source, as written.
@@ -418,7 +538,9 @@ pub fn model_from_value_with(
             message: strip_position(&error.into_inner().to_string()),
         }
     })?;
-    build_medium(&spec, options).map_err(|error| describe(error, file, spec.length_unit))
+    // An opacity table's path is relative to the model file's folder.
+    let folder = Path::new(file).parent().unwrap_or(Path::new(""));
+    build_medium(&spec, options, folder).map_err(|error| describe(error, file, spec.length_unit))
 }
 
 /// serde_json appends " at line L column C" to messages; for a parsed `Value` that position
@@ -489,19 +611,38 @@ fn convert_cm_mentions(text: &str, unit: LengthUnit) -> String {
     out.join(" ")
 }
 
-fn build_medium(spec: &ModelSpec, options: &LoadOptions) -> Result<Medium, MediumError> {
+fn build_medium(
+    spec: &ModelSpec,
+    options: &LoadOptions,
+    folder: &Path,
+) -> Result<Medium, MediumError> {
     let to_cm = spec.length_unit.to_cm();
     let mut items = Vec::with_capacity(spec.layers.len());
     let mut smooth = Vec::new();
     let mut profiles: Vec<ProfileSummary> = Vec::new();
     let mut previous_profile_outer: Option<f64> = None;
+    // The radial structure of a sphere made only of profile layers.
+    let mut structure: Option<RadialStructure> = None;
+    let all_profiles = spec.layers.iter().all(|layer| layer.profile.is_some());
     for (index, layer_spec) in spec.layers.iter().enumerate() {
         let prefix = format!("layers[{index}]");
         if let Some(profile) = &layer_spec.profile {
             let inner = items.last().map_or(0.0, |(outer, _): &(f64, Layer)| *outer);
-            let shells =
-                build_profile_layer(layer_spec, profile, spec.geometry, to_cm, inner, options)
-                    .map_err(|e| e.within(&prefix))?;
+            let shells = build_profile_layer(
+                layer_spec,
+                profile,
+                spec.geometry,
+                (to_cm, inner),
+                options,
+                folder,
+            )
+            .map_err(|e| e.within(&prefix))?;
+            if all_profiles {
+                match &mut structure {
+                    None => structure = Some(shells.structure.clone()),
+                    Some(joined) => joined.append(&shells.structure),
+                }
+            }
             if shells.summary.surface_cut.is_some() && index + 1 < spec.layers.len() {
                 return Err(MediumError::Invalid {
                     field: format!("{prefix}.profile.temperature"),
@@ -558,6 +699,10 @@ fn build_medium(spec: &ModelSpec, options: &LoadOptions) -> Result<Medium, Mediu
         items.push((boundary * to_cm, layer));
     }
     let source = build_source(spec.source.as_ref(), spec.geometry, to_cm)?;
+    let energy_source = spec
+        .source
+        .as_ref()
+        .is_some_and(|s| s.kind == SourceKind::EnergyGeneration);
     let medium = match spec.geometry {
         GeometrySpec::Sphere => {
             if spec.ambient_index.is_some() {
@@ -595,11 +740,18 @@ fn build_medium(spec: &ModelSpec, options: &LoadOptions) -> Result<Medium, Mediu
                 .with_ambient_below(below)?
         }
     };
-    Ok(medium
+    let mut medium = medium
         .with_smooth_boundaries(smooth)
         .with_profiles(profiles)
         .with_name(spec.name.clone().unwrap_or_default())
-        .with_display_unit(spec.length_unit))
+        .with_display_unit(spec.length_unit);
+    if let Some(structure) = structure {
+        medium = medium.with_structure(structure);
+    }
+    if energy_source {
+        medium = medium.with_energy_generation_source()?;
+    }
+    Ok(medium)
 }
 
 /// A sphere layer given as a tabulated `profile`: checks that no plain-layer keys are mixed
@@ -608,9 +760,9 @@ fn build_profile_layer(
     spec: &LayerSpec,
     profile: &ProfileSpec,
     geometry: GeometrySpec,
-    to_cm: f64,
-    inner_cm: f64,
+    (to_cm, inner_cm): (f64, f64),
     options: &LoadOptions,
+    folder: &Path,
 ) -> Result<super::profile::ProfileShells, MediumError> {
     if geometry != GeometrySpec::Sphere {
         return Err(MediumError::Invalid {
@@ -649,7 +801,9 @@ fn build_profile_layer(
             ),
         });
     }
-    let table = profile.to_table(to_cm).map_err(|e| e.within("profile"))?;
+    let table = profile
+        .to_table_in(to_cm, folder)
+        .map_err(|e| e.within("profile"))?;
     let tolerance = options
         .profile_tolerance
         .or(profile.tolerance)
@@ -855,9 +1009,26 @@ fn build_source(
                 radius_cm: spec.radius.unwrap_or(0.0) * to_cm,
             })
         }
-        (GeometrySpec::Sphere, SourceKind::Beam) => {
-            Err(unexpected("kind", "a sphere takes only \"point\" sources"))
+        (GeometrySpec::Sphere, SourceKind::EnergyGeneration) => {
+            if spec.radius.is_some() || spec.depth.is_some() || spec.polar_angle_deg.is_some() {
+                return Err(unexpected(
+                    "kind",
+                    "an energy-generation source takes no other field: photons start where the \
+                     profile's energy_generation releases the luminosity",
+                ));
+            }
+            // Placeholder: the medium switches to the energy-generation source once its
+            // structure is known.
+            Ok(Source::centre())
         }
+        (GeometrySpec::Slab, SourceKind::EnergyGeneration) => Err(unexpected(
+            "kind",
+            "an energy-generation source needs a sphere of profile layers",
+        )),
+        (GeometrySpec::Sphere, SourceKind::Beam) => Err(unexpected(
+            "kind",
+            "a sphere takes only \"point\" or \"energy_generation\" sources",
+        )),
         (GeometrySpec::Slab, SourceKind::Beam) => {
             if spec.depth.is_some() || spec.radius.is_some() {
                 return Err(unexpected("depth", "a beam takes only \"polar_angle_deg\""));
@@ -898,8 +1069,9 @@ fn build_source(
             }
             Ok(Source::Diffuse)
         }
-        (GeometrySpec::Sphere, SourceKind::Plane | SourceKind::Diffuse) => {
-            Err(unexpected("kind", "a sphere takes only \"point\" sources"))
-        }
+        (GeometrySpec::Sphere, SourceKind::Plane | SourceKind::Diffuse) => Err(unexpected(
+            "kind",
+            "a sphere takes only \"point\" or \"energy_generation\" sources",
+        )),
     }
 }

@@ -4,7 +4,7 @@ use std::fmt::Write;
 
 use super::profile_document::ProfileReport;
 use crate::analysis::profile::ShellRow;
-use crate::units::format_significant;
+use crate::units::{format_duration, format_significant};
 
 fn number(value: Option<f64>, digits: usize) -> String {
     value.map_or_else(|| "-".to_string(), |v| format_significant(v, digits))
@@ -133,14 +133,64 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
         "  optical depth, centre → surface   {}",
         format_significant(report.analysis.optical_depth, 5)
     );
-    let _ = writeln!(
-        out,
-        "  photosphere (τ = 2/3)             {}",
-        report
-            .analysis
-            .photosphere_radius_cm
-            .map_or_else(|| "none (optically thin)".to_string(), length)
-    );
+    if let Some(luminosity) = report.analysis.luminosity_erg_s {
+        let _ = writeln!(
+            out,
+            "  luminosity L = ∫ ε dm             {} erg/s ({} L_sun)",
+            format_significant(luminosity, 4),
+            format_significant(luminosity / crate::units::SOLAR_LUMINOSITY_ERG_S, 3)
+        );
+    }
+    let cut = report
+        .analysis
+        .profile
+        .as_ref()
+        .and_then(|p| p.layers.iter().find_map(|l| l.surface_cut.as_ref()));
+    match (&report.analysis.photosphere, cut) {
+        (Some(p), _) => {
+            let _ = writeln!(
+                out,
+                "  photosphere (τ = 2/3)             {}{}{}",
+                length(p.radius_cm),
+                p.temperature_k.map_or_else(String::new, |t| format!(
+                    ", T = {} K",
+                    format_significant(t, 4)
+                )),
+                if p.above_surface_cut {
+                    ", above the surface cut (H⁻ blend there)"
+                } else if cut.is_some() {
+                    ", τ from the table's top (H⁻ blend above the cut)"
+                } else {
+                    ""
+                }
+            );
+        }
+        (None, Some(cut)) => {
+            let _ = writeln!(
+                out,
+                "  surface cut (τ = 2/3 not computed) {}",
+                length(cut.radius_cm)
+            );
+        }
+        (None, None) => {
+            let _ = writeln!(
+                out,
+                "  photosphere (τ = 2/3)             {}",
+                report
+                    .analysis
+                    .photosphere_radius_cm
+                    .map_or_else(|| "none (optically thin)".to_string(), length)
+            );
+        }
+    }
+    if let Some(cut) = cut {
+        let _ = writeln!(
+            out,
+            "  surface cut (walk ends)           {} where T = {} K",
+            length(cut.radius_cm),
+            format_significant(cut.temperature_k, 4)
+        );
+    }
     let _ = writeln!(
         out,
         "  mean free path                    {} – {} cm",
@@ -174,6 +224,7 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
         format_significant(d.naive_over_diffusion, 4)
     );
     let _ = writeln!(out);
+    write_stellar_times(&mut out, report, &length);
     let b = &report.analysis.time_budget;
     let radius = report.analysis.radius_cm;
     let _ = writeln!(out, "Time budget: where (1/c)∫ r/l dr accrues");
@@ -225,6 +276,87 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
     out
 }
 
+/// The other diffusion-time definitions and the zones, where the model has them.
+fn write_stellar_times(out: &mut String, report: &ProfileReport, length: &dyn Fn(f64) -> String) {
+    let d = &report.analysis.diffusion;
+    let time = |t: Option<f64>| t.map_or_else(|| "-".to_string(), format_duration);
+    if d.luminosity_weighted_time_s.is_some() || d.energy_content_time_s.is_some() {
+        let _ = writeln!(out, "Diffusion time, other definitions");
+        let rows = [
+            (
+                "from where the energy is released (L-weighted)",
+                d.luminosity_weighted_time_s,
+            ),
+            (
+                "same, Milne extrapolated boundary",
+                d.luminosity_weighted_time_extrapolated_s,
+            ),
+            ("flux-weighted residence U_F/L", d.flux_weighted_time_s),
+            (
+                "radiant energy / luminosity U_rad/L",
+                d.energy_content_time_s,
+            ),
+        ];
+        for (label, value) in rows {
+            let _ = writeln!(out, "  {label:<48} {}", time(value));
+        }
+        let _ = writeln!(out);
+    }
+    if report.analysis.zones.is_empty() {
+        return;
+    }
+    let radius = report.analysis.radius_cm;
+    let _ = writeln!(
+        out,
+        "Energy transport (Schwarzschild: convective where ∇_rad > ∇_ad)"
+    );
+    for zone in &report.analysis.zones {
+        let _ = writeln!(
+            out,
+            "  {:<11} {:.3}–{:.3} R",
+            zone.kind.name(),
+            zone.inner_radius_cm / radius,
+            zone.outer_radius_cm / radius
+        );
+    }
+    match report.analysis.convective_base_radius_cm {
+        Some(base) if base <= 0.0 => {
+            let _ = writeln!(
+                out,
+                "  convective from the centre: radiation carries none of the luminosity"
+            );
+            let _ = writeln!(
+                out,
+                "  convection across the star          {} (mixing length)",
+                time(d.convective_crossing_time_s)
+            );
+        }
+        Some(base) => {
+            let _ = writeln!(
+                out,
+                "  base of the outer convective zone  {} ({:.3} R)",
+                length(base),
+                base / radius
+            );
+            let _ = writeln!(
+                out,
+                "  diffusion to the base: from the centre {}, L-weighted {}",
+                time(d.time_to_convective_base_s),
+                time(d.luminosity_weighted_time_to_convective_base_s)
+            );
+            let _ = writeln!(
+                out,
+                "  convection across the zone          {} (mixing length)",
+                time(d.convective_crossing_time_s)
+            );
+        }
+        None => {
+            let _ = writeln!(out, "  no outer convective zone");
+        }
+    }
+    let _ = writeln!(out);
+}
+
 /// A CSV field: quoted if it holds a comma, a quote or a line break.
 fn csv_field(text: &str) -> String {
     if text.contains([',', '"', '\n', '\r']) {
@@ -244,7 +376,7 @@ pub fn render_profile_csv(report: &ProfileReport) -> String {
     let mut out = String::from(
         "index,layer,inner_radius_cm,radius_cm,density_g_cm3,temperature_k,opacity_cm2_g,\
          scattering_fraction,extinction_per_cm,mean_free_path_cm,tau_shell,tau_from_surface,\
-         time_s,cumulative_time_s,time_share,residence_share\n",
+         time_s,cumulative_time_s,time_share,residence_share,luminosity_erg_s\n",
     );
     for s in &report.analysis.shells {
         let fields = [
@@ -264,6 +396,7 @@ pub fn render_profile_csv(report: &ProfileReport) -> String {
             csv_number(Some(s.cumulative_time_s)),
             csv_number(Some(s.time_share)),
             csv_number(Some(s.residence_share)),
+            csv_number(s.luminosity_erg_s),
         ];
         out.push_str(&fields.join(","));
         out.push('\n');

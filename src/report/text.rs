@@ -47,6 +47,41 @@ pub(super) fn scattering_time_rows(out: &mut String, rows: &[(&str, f64, f64)], 
     }
 }
 
+/// The stellar diffusion times of a run (energy generation, zones), where the model has them.
+fn write_stellar_rows(out: &mut String, report: &RunReport) {
+    let d = &report.analysis.diffusion;
+    for (label, value) in [
+        (
+            "from where the energy is released (L-weighted)",
+            d.luminosity_weighted_time_s,
+        ),
+        (
+            "same, Milne extrapolated boundary",
+            d.luminosity_weighted_time_extrapolated_s,
+        ),
+        (
+            "radiant energy / luminosity U_rad/L",
+            d.energy_content_time_s,
+        ),
+        (
+            "from the centre to the convective base",
+            d.time_to_convective_base_s,
+        ),
+    ] {
+        if let Some(value) = value {
+            let _ = writeln!(out, "  {label:<48} t = {}", format_duration(value));
+        }
+    }
+    if let Some(stop) = &report.analysis.stop_at {
+        let _ = writeln!(
+            out,
+            "  walk stops at r = {:.4} R (convective base); convection onward {}",
+            stop.radius_cm / stop.surface_radius_cm,
+            time(stop.convective_crossing_time_s)
+        );
+    }
+}
+
 /// Renders the report as a table for a terminal.
 pub fn render_run_report(report: &RunReport) -> String {
     let mut out = String::new();
@@ -159,6 +194,7 @@ pub fn render_run_report(report: &RunReport) -> String {
         rows.push(("same, Milne extrapolated boundary", n, t));
     }
     scattering_time_rows(&mut out, &rows, 39);
+    write_stellar_rows(&mut out, report);
     let e = &d.escape_time;
     if let (Some(median), Some(p05), Some(p95)) = (e.median_s, e.p05_s, e.p95_s) {
         let _ = writeln!(

@@ -5,10 +5,18 @@
 //! density, temperature, pressure and enclosed mass on a surface-refined grid, for an
 //! ideal gas or Eddington's standard model. [`builder`] turns a polytrope and an opacity law
 //! into a model file with a tabulated profile layer.
+//!
+//! [`energy`] holds the energy-generation laws (pp chain, CNO cycle); [`zones`] the
+//! Schwarzschild criterion and the mixing-length crossing time; [`photosphere`] where τ = 2/3;
+//! `analysis::stellar` gathers them, with the diffusion times of
+//! `diffusion::stellar_times`, for the reports.
 
 pub mod builder;
+pub mod energy;
 pub mod lane_emden;
+pub mod photosphere;
 pub mod polytrope;
+pub mod zones;
 
 pub use lane_emden::{LaneEmdenError, LaneEmdenSolution, LaneEmdenTable};
 pub use polytrope::{

@@ -87,7 +87,7 @@ pub struct Regrouped {
     /// Bar edges, increasing: the requested edges moved down to the nearest fine-bin edge
     /// (by less than 0.1 %), repeats removed.
     pub edges: Vec<f64>,
-    /// Values in each bar [edges[i], edges[i + 1]).
+    /// Values in each bar `[edges[i], edges[i + 1])`.
     pub counts: Vec<u64>,
     /// Their weight sums.
     pub weights: Vec<f64>,

@@ -16,7 +16,7 @@
 //!
 //! **Estimates.** The fraction of photons ending one way is f = Σw / N (N launched), with
 //! standard error √((Σw²/N − f²)/N): the standard error of the mean of the per-photon
-//! scores wᵢ·1[outcome] (for analog photons the binomial √(p(1 − p)/N)). Means and their
+//! scores wᵢ·𝟙(outcome) (for analog photons the binomial √(p(1 − p)/N)). Means and their
 //! errors are in [`Moments`]; quantiles in [`LogHistogram`]. Kish's effective number of
 //! photons (Σw)²/Σw² says how many analog photons the weighted ones are worth.
 //!

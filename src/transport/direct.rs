@@ -14,7 +14,7 @@ use super::direction;
 use super::fresnel::{fresnel_reflectance, refract_across_z};
 use super::geometry::{Exit, plane_exit, segment_inside_shell, shell_exit};
 use super::phase::PhaseFunction;
-use crate::medium::{Geometry, Medium, Source};
+use crate::medium::{EmissionSampler, Geometry, Medium, Source};
 use crate::tally::{Outcome, PhotonRecord};
 use crate::units::SPEED_OF_LIGHT_CM_S;
 
@@ -104,6 +104,8 @@ pub struct DirectWalker {
     ambient_below: f64,
     /// Whether any slab interface joins different indices (Fresnel checks needed).
     index_mismatch: bool,
+    /// Where an energy-generation source releases photons.
+    emission: Option<std::sync::Arc<EmissionSampler>>,
 }
 
 impl DirectWalker {
@@ -140,6 +142,7 @@ impl DirectWalker {
             ambient_above: medium.ambient_above(),
             ambient_below: medium.ambient_below(),
             index_mismatch: geometry == Geometry::Slab && medium.has_index_mismatch(),
+            emission: medium.emission().cloned(),
         }
     }
 
@@ -201,7 +204,14 @@ impl DirectWalker {
     /// A photon at the source, with its initial direction, and whether it was reflected
     /// specularly at the top face before entering (beam and diffuse sources).
     pub(super) fn launch<R: Rng + ?Sized>(&self, rng: &mut R) -> (Photon, bool) {
+        let mut layer = self.source_layer;
         let (position, incoming) = match self.source {
+            Source::EnergyGeneration => {
+                let emission = self.emission.as_ref().expect("validated with the medium");
+                let (radius_cm, holding) = emission.sample(rng);
+                layer = holding;
+                (Vector3::new(0.0, 0.0, radius_cm), direction::isotropic(rng))
+            }
             Source::SpherePoint { radius_cm } => {
                 (Vector3::new(0.0, 0.0, radius_cm), direction::isotropic(rng))
             }
@@ -222,7 +232,7 @@ impl DirectWalker {
         let mut photon = Photon {
             position,
             direction: incoming,
-            layer: self.source_layer,
+            layer,
             time_s: 0.0,
             scatterings: 0.0,
             steps: 0,

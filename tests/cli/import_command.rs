@@ -299,3 +299,75 @@ fn ragged_row_and_bad_mapping() {
     );
     assert_mentions(&stderr, &["scale \"parsec\""]);
 }
+
+#[test]
+fn import_with_an_opacity_table_and_energy_laws() {
+    // The example table with the demo opacity table and pp + CNO evaluated at every row.
+    let directory = tempfile::tempdir().unwrap();
+    let out = directory.path().join("orrin-2.json");
+    let table = std::fs::canonicalize("models/tables/demo-opacity-bump.csv").unwrap();
+    let output = sojourn()
+        .arg("import")
+        .arg("examples/orrin-2-profile.txt")
+        .args([
+            "--columns",
+            "radius=r_rsun:R_sun,log_density=logRho,log_temperature=logT,hydrogen=X,metals=Z",
+            "--length-unit",
+            "solar_radius",
+            "--energy",
+            "pp+cno",
+            "--opacity-table",
+        ])
+        .arg(&table)
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(
+        output.status.success(),
+        "{}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+    assert!(String::from_utf8_lossy(&output.stdout).contains("luminosity"));
+    let model: Value = serde_json::from_str(&std::fs::read_to_string(&out).unwrap()).unwrap();
+    let profile = &model["layers"][0]["profile"];
+    assert!(
+        profile["opacity_table"]
+            .as_str()
+            .unwrap()
+            .ends_with("demo-opacity-bump.csv")
+    );
+    assert!(profile["opacity_law"].is_null());
+    assert!(profile["energy_generation"].is_array());
+    let report = profile_json(&out);
+    assert!(report["luminosity_erg_s"].as_f64().unwrap() > 0.0);
+    // An energy_generation column is read as such; laws and a column together are refused.
+    let both = import(
+        Path::new("examples/orrin-2-profile.txt"),
+        &[
+            "--columns",
+            "radius=r_rsun:R_sun,log_density=logRho,log_temperature=logT,energy_generation=X",
+            "--energy",
+            "pp",
+        ],
+        &directory.path().join("both.json"),
+    );
+    assert!(!both.status.success());
+    assert!(String::from_utf8_lossy(&both.stderr).contains("energy_generation is both mapped"));
+    // A table without a temperature column cannot use an opacity table.
+    let output = sojourn()
+        .arg("import")
+        .arg("examples/orrin-2-profile.txt")
+        .args([
+            "--columns",
+            "radius=r_rsun:R_sun,log_density=logRho",
+            "--opacity-table",
+        ])
+        .arg(&table)
+        .arg("--out")
+        .arg(directory.path().join("no-t.json"))
+        .output()
+        .unwrap();
+    assert!(!output.status.success());
+    assert!(String::from_utf8_lossy(&output.stderr).contains("an opacity table needs temperature"));
+}

@@ -12,4 +12,5 @@ mod run_command;
 mod scale_support;
 mod shards;
 mod star_command;
+mod stellar_runs;
 mod sweeps;

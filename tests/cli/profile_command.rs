@@ -107,7 +107,7 @@ fn csv_has_one_line_per_shell_and_plain_models_work() {
     assert!(lines[0].starts_with("index,layer,inner_radius_cm,radius_cm,"));
     assert!(lines[1].starts_with("0,opaque core,"));
     // Ember: core 300 per R☉ to 0.3 R☉, envelope 3 per R☉: T = (R☉/c)(300·0.09/2 +
-    // 3·0.91/2) in units where lengths are R☉ (REFERENCES item 3).
+    // 3·0.91/2) in units where lengths are R☉ (Redner 2001, A Guide to First-Passage Processes).
     let report = profile_json("models/ember-two-zone.json");
     let expected = 6.957e10 * (300.0 * 0.09 / 2.0 + 3.0 * 0.91 / 2.0) / 2.997_924_58e10;
     let mean = report["diffusion"]["mean_time_s"].as_f64().unwrap();
@@ -227,4 +227,73 @@ fn run_walks_a_profile_model_and_notes_its_representation() {
             .any(|n| n.contains("sub-shells") && n.contains("error against a fine quadrature")),
         "{notes:?}"
     );
+}
+
+#[test]
+fn stellar_keys_zones_and_times() {
+    // The Sun-like demo with the demo opacity table: an outer convective zone.
+    let report = profile_json("models/veyra-n3-demo-table.json");
+    for path in [
+        "/luminosity_erg_s",
+        "/convective_base_radius_cm",
+        "/photosphere/radius_cm",
+        "/photosphere/temperature_k",
+        "/diffusion/luminosity_weighted_time_s",
+        "/diffusion/luminosity_weighted_time_extrapolated_s",
+        "/diffusion/flux_weighted_time_s",
+        "/diffusion/energy_content_time_s",
+        "/diffusion/time_to_convective_base_s",
+        "/diffusion/luminosity_weighted_time_to_convective_base_s",
+        "/diffusion/convective_crossing_time_s",
+        "/profile/layers/0/opacity_table/range/temperature_min_k",
+    ] {
+        let value = report
+            .pointer(path)
+            .unwrap_or_else(|| panic!("missing {path}"));
+        assert!(value.is_number(), "{path} = {value}");
+    }
+    let zones = report["zones"].as_array().unwrap();
+    assert!(zones.len() >= 2);
+    for zone in zones {
+        assert!(zone["inner_radius_cm"].is_number() && zone["outer_radius_cm"].is_number());
+        assert!(["radiative", "convective"].contains(&zone["kind"].as_str().unwrap()));
+    }
+    assert!(report["shells"][10]["luminosity_erg_s"].is_number());
+    // Eddington-like radiative stars have no outer convective zone: null.
+    let radiative = profile_json("models/test-polytrope-n3-tau50.json");
+    assert!(radiative["diffusion"]["time_to_convective_base_s"].is_null());
+    assert!(
+        radiative["zones"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .all(|z| z["kind"] == "radiative")
+    );
+    // A plain model has none of it.
+    let plain = profile_json("models/ember-two-zone.json");
+    assert!(plain["luminosity_erg_s"].is_null() && plain["zones"].as_array().unwrap().is_empty());
+    assert!(plain["diffusion"]["luminosity_weighted_time_s"].is_null());
+}
+
+#[test]
+fn text_report_lists_zones_and_the_other_times() {
+    let output = sojourn()
+        .args(["profile", "models/veyra-n3-demo-table.json", "--rows", "4"])
+        .output()
+        .unwrap();
+    assert!(output.status.success());
+    let text = String::from_utf8(output.stdout).unwrap();
+    for expected in [
+        "luminosity L = ∫ ε dm",
+        "photosphere (τ = 2/3)",
+        "surface cut (walk ends)",
+        "Diffusion time, other definitions",
+        "from where the energy is released (L-weighted)",
+        "radiant energy / luminosity U_rad/L",
+        "Energy transport",
+        "base of the outer convective zone",
+        "convection across the zone",
+    ] {
+        assert!(text.contains(expected), "{expected:?} missing:\n{text}");
+    }
 }

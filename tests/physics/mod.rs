@@ -3,9 +3,12 @@
 
 mod accelerated;
 mod comparison;
+mod convective_zones;
 mod diffusion_solver;
+mod energy_generation;
 mod exact_stepping;
 mod h_function;
+mod opacity_tables;
 mod phase_functions;
 mod profile_media;
 mod profile_monte_carlo;

@@ -24,6 +24,9 @@ pub enum SolverError {
         /// Its transport extinction, 1/cm.
         value: f64,
     },
+    /// An energy-generation source on a medium that records no energy generation.
+    #[error("the source follows the energy generation, but the model records none")]
+    NoEnergyGeneration,
     /// The source lies in a transparent layer at the surface, outside the region where
     /// photons diffuse; the solver treats such layers as part of the outside.
     #[error(

@@ -27,6 +27,7 @@ use super::error::SolverError;
 use super::model_1d::{Model1d, SegmentKind};
 use crate::diffusion::boundary::fresnel_reflectance;
 use crate::diffusion::quadrature::gauss_legendre_unit;
+use crate::medium::emission::EmissionSampler;
 use crate::medium::{Geometry, Medium, Source};
 use crate::units::SPEED_OF_LIGHT_CM_S;
 
@@ -130,6 +131,10 @@ impl SourceTerms {
                 let mu = polar_angle_deg.to_radians().cos();
                 terms.add_beam(medium, model, mu, 1.0);
             }
+            Source::EnergyGeneration => {
+                let emission = medium.emission().ok_or(SolverError::NoEnergyGeneration)?;
+                terms.points.extend(emission_points(emission));
+            }
             Source::Diffuse => {
                 for (u, weight) in gauss_legendre_unit(DIFFUSE_DIRECTIONS) {
                     // Cosine-weighted incidence: μ² uniform on (0, 1).
@@ -225,3 +230,30 @@ impl SourceTerms {
         });
     }
 }
+
+/// Point sources standing for the energy generation: one at each of
+/// [`EMISSION_POINTS`] equally spaced quantiles of the luminosity L(r), each carrying an
+/// equal share (the midpoint rule in the luminosity coordinate; the exit-time
+/// distribution depends on the source only through where it starts).
+fn emission_points(emission: &EmissionSampler) -> Vec<(f64, f64)> {
+    let total = emission.luminosity_erg_s();
+    let outer = emission.outer_radius_cm();
+    (0..EMISSION_POINTS)
+        .map(|k| {
+            let target = total * (k as f64 + 0.5) / EMISSION_POINTS as f64;
+            let (mut low, mut high) = (0.0, outer);
+            for _ in 0..100 {
+                let mid = 0.5 * (low + high);
+                if emission.luminosity_inside(mid) < target {
+                    low = mid;
+                } else {
+                    high = mid;
+                }
+            }
+            (0.5 * (low + high), 1.0 / EMISSION_POINTS as f64)
+        })
+        .collect()
+}
+
+/// Number of point sources standing for an energy-generation source.
+const EMISSION_POINTS: usize = 64;

@@ -2,26 +2,32 @@
 //! walker can step through exactly ([`shells`]).
 //!
 //! A [`ProfileTable`] holds, per row, a radius with density, temperature and composition
-//! (X, Z) and an opacity law κ(ρ, T, X, Z) ([`crate::opacity`]), or a tabulated opacity κ
-//! directly. Between rows every column is interpolated linearly in radius; the extinction is
-//! σ(r) = κ(ρ(r), T(r), X(r), Z(r)) · ρ(r) per cm. If the first row lies above the layer's
-//! inner boundary, the first row's values hold from the boundary up to it.
+//! (X, Z) and an opacity law κ(ρ, T, X, Z) ([`crate::opacity`]), an opacity table κ(T, ρ)
+//! ([`crate::opacity::table`]), or a tabulated opacity κ directly; optionally the energy
+//! generation ε per row. Between rows every column is interpolated linearly in radius; the
+//! extinction is σ(r) = κ(ρ(r), T(r), X(r), Z(r)) · ρ(r) per cm. If the first row lies above
+//! the layer's inner boundary, the first row's values hold from the boundary up to it.
 //!
 //! [`ProfileTable::to_shells`] divides a profile into sub-shells of constant extinction; see
 //! [`shells`] for the method, the treatment of the stellar surface and the accuracy report.
+//! [`structure`] keeps the rows as point values with m(r) and L(r).
 
 pub mod shells;
+pub mod structure;
 
 pub use shells::{
-    DEFAULT_TOLERANCE, MAX_SUB_SHELLS, ProfileShells, ProfileSummary, SurfaceCut,
+    DEFAULT_TOLERANCE, MAX_SUB_SHELLS, OpacityTableUse, ProfileShells, ProfileSummary, SurfaceCut,
     THIN_PAIR_OPTICAL_DEPTH,
 };
+pub use structure::{AtmosphereRow, RadialStructure, StructureRow};
+
+use std::sync::Arc;
 
 use serde::de::{self, Deserializer, SeqAccess, Visitor};
 use serde::{Deserialize, Serialize, Serializer};
 
 use super::error::{MediumError, Quantity};
-use crate::opacity::{OpacityLaw, OpacitySpec};
+use crate::opacity::{OpacityLaw, OpacitySpec, OpacityTable, OutsidePolicy, TableOpacity};
 
 /// One column of values: the same for every row, or one per row.
 #[derive(Debug, Clone, PartialEq)]
@@ -105,6 +111,29 @@ pub enum ProfileOpacity {
         /// Fraction of κ that is scattering, per row or constant; None if unknown.
         scattering_fraction: Option<ColumnValues>,
     },
+    /// An opacity table κ(T, ρ) evaluated at each radius; needs temperature (not X, Z: a
+    /// table is for one composition).
+    Table {
+        /// The table's path as the model file gives it (relative to the model file).
+        file: String,
+        /// The table, read and validated.
+        table: Arc<OpacityTable>,
+        /// What to do with points outside the table.
+        outside: OutsidePolicy,
+    },
+}
+
+impl ProfileOpacity {
+    /// The opacity as a law evaluated at each radius (None for a κ column).
+    pub fn law(&self) -> Option<Box<dyn OpacityLaw>> {
+        match self {
+            ProfileOpacity::Law(spec) => spec.build().ok(),
+            ProfileOpacity::Table { table, outside, .. } => {
+                Some(Box::new(TableOpacity::new(table.clone(), *outside)))
+            }
+            ProfileOpacity::Tabulated { .. } => None,
+        }
+    }
 }
 
 /// The columns of a profile as given, in cgs, before validation
@@ -123,6 +152,9 @@ pub struct ProfileColumns {
     pub metals_z: Option<ColumnValues>,
     /// The opacity.
     pub opacity: ProfileOpacity,
+    /// Nuclear energy generation ε, erg g⁻¹ s⁻¹ (≥ 0), one value or one per row; None if the
+    /// profile gives none.
+    pub energy_generation_erg_g_s: Option<ColumnValues>,
 }
 
 /// A validated radial profile (cgs), ready to be divided into sub-shells.
@@ -138,6 +170,10 @@ struct Point {
     temperature: f64,
     hydrogen: f64,
     metals: f64,
+    /// Mass opacity, cm² g⁻¹.
+    opacity: f64,
+    /// Energy generation, erg g⁻¹ s⁻¹ (NaN without a column).
+    energy: f64,
     extinction: f64,
     scattering: f64,
 }
@@ -216,9 +252,11 @@ impl ProfileTable {
     /// # Errors
     /// Fewer than 2 rows; a column whose length differs from the radii; a radius that is
     /// negative, not finite or not above the previous one; a negative or non-finite density,
-    /// temperature or opacity; X or Z outside 0 ..= 1 or X + Z > 1; a scattering fraction
-    /// outside 0 ..= 1; an opacity law without temperature, X or Z, or with invalid
-    /// parameters; a scattering fraction with an opacity law.
+    /// temperature, opacity or energy generation; X or Z outside 0 ..= 1 or X + Z > 1; a
+    /// scattering fraction outside 0 ..= 1; an opacity law without temperature, X or Z, or
+    /// with invalid parameters; an opacity table without temperature; a scattering fraction
+    /// with an opacity law. (Whether the rows lie inside an opacity table is checked by
+    /// [`ProfileTable::to_shells`], once the surface cut is known.)
     pub fn new(columns: ProfileColumns) -> Result<Self, MediumError> {
         let rows = columns.radius_cm.len();
         if rows < 2 {
@@ -301,7 +339,24 @@ impl ProfileTable {
                 }
             }
         }
+        if let Some(energy) = &columns.energy_generation_erg_g_s {
+            check_column(
+                "energy_generation",
+                energy,
+                rows,
+                finite_non_negative,
+                "an energy generation in erg/g/s, finite and >= 0",
+            )?;
+        }
         match &columns.opacity {
+            ProfileOpacity::Table { .. } => {
+                if columns.temperature_k.is_none() {
+                    return Err(invalid(
+                        "temperature",
+                        "missing: an opacity table needs \"temperature\" (K per row)",
+                    ));
+                }
+            }
             ProfileOpacity::Law(spec) => {
                 spec.build()
                     .map_err(|error| invalid("opacity_law", error.to_string()))?;
@@ -368,10 +423,7 @@ impl ProfileTable {
     }
 
     fn law(&self) -> Option<Box<dyn OpacityLaw>> {
-        match &self.columns.opacity {
-            ProfileOpacity::Law(spec) => Some(spec.build().expect("validated in new")),
-            ProfileOpacity::Tabulated { .. } => None,
-        }
+        self.columns.opacity.law()
     }
 
     /// Linear interpolation weight pair for `radius` in piece `row` (None: first row).
@@ -387,6 +439,12 @@ impl ProfileTable {
 
     fn point(&self, law: Option<&dyn OpacityLaw>, row: Option<usize>, radius: f64) -> Point {
         let (row, w) = self.weights(row, radius);
+        self.point_at(law, row, w)
+    }
+
+    /// The gas at fraction `w` of the way from row `row` to the next (`w = 0`: the row
+    /// itself, which may be the last).
+    fn point_at(&self, law: Option<&dyn OpacityLaw>, row: usize, w: f64) -> Point {
         let lerp = |values: &[f64]| {
             if w == 0.0 {
                 values[row]
@@ -415,8 +473,8 @@ impl ProfileTable {
                 });
                 (lerp(opacity_cm2_g).max(0.0), fraction)
             }
-            ProfileOpacity::Law(_) => {
-                let law = law.expect("a law profile always has its law built");
+            ProfileOpacity::Law(_) | ProfileOpacity::Table { .. } => {
+                let law = law.expect("a law or table profile always has its law built");
                 let state = crate::opacity::GasState {
                     density_g_cm3: density,
                     temperature_k: temperature,
@@ -432,6 +490,8 @@ impl ProfileTable {
             temperature,
             hydrogen,
             metals,
+            opacity,
+            energy: column(&c.energy_generation_erg_g_s),
             extinction,
             scattering: extinction * fraction,
         }
@@ -454,6 +514,7 @@ mod tests {
                 value_cm2_g: 1.0,
                 scattering_fraction: 1.0,
             }),
+            energy_generation_erg_g_s: None,
         };
         let field = |columns: ProfileColumns| match ProfileTable::new(columns).unwrap_err() {
             MediumError::InvalidValue { field, .. } | MediumError::Invalid { field, .. } => field,
@@ -476,6 +537,9 @@ mod tests {
         let mut c = base();
         c.temperature_k = None;
         assert_eq!(field(c), "temperature");
+        let mut c = base();
+        c.energy_generation_erg_g_s = Some(ColumnValues::PerRow(vec![1.0, -1.0, 0.0]));
+        assert_eq!(field(c), "energy_generation[1]");
         let mut c = base();
         c.radius_cm = vec![0.0];
         c.density_g_cm3 = vec![1.0];

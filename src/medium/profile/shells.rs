@@ -19,6 +19,10 @@
 //! [`ProfileSummary::time_error_relative`] does the same for the diffusion-time integral
 //! ∫ r σ dr, where piecewise-constant extinction is a genuine (second-order) approximation.
 //!
+//! **Opacity tables.** A table's lowest temperature is its lower limit, as for a law; every
+//! row the medium keeps, and the surface cut, must lie inside the table's range, unless the
+//! model asks for clamping ([`OpacityTableUse::clamped_rows`] counts what was clamped).
+//!
 //! **Surface.** A stellar profile ends where density and temperature fall to 0, where two
 //! things break:
 //! * *Opacity-law validity.* With an opacity law, the medium ends at the outermost radius where
@@ -43,8 +47,9 @@
 use serde::Serialize;
 
 use super::super::layer::{GasSample, Layer};
+use super::structure::{AtmosphereRow, RadialStructure, StructureRow};
 use super::{MediumError, ProfileOpacity, ProfileTable, Quantity, invalid};
-use crate::opacity::{OpacityLaw, TemperatureRange};
+use crate::opacity::{OpacityLaw, OpacityTable, OutsidePolicy, TableRange, TemperatureRange};
 use crate::transport::PhaseFunction;
 
 /// Default relative tolerance between neighbouring sub-shell extinctions (1 %).
@@ -130,6 +135,29 @@ pub struct SurfaceCut {
     pub dropped_mass_g: f64,
 }
 
+/// How a profile used an opacity table.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OpacityTableUse {
+    /// The table's path as the model file gives it.
+    pub file: String,
+    /// Grid temperatures × densities.
+    pub grid: [usize; 2],
+    /// The range the table covers.
+    pub range: TableRange,
+    /// How the table is interpolated.
+    pub interpolation: String,
+    /// What happens to points outside the table ("refuse" or "clamp").
+    pub outside: String,
+    /// Table rows of the profile (kept by the medium, the surface cut included) whose
+    /// (T, ρ) lay outside the table and were moved to its edge (0 unless clamping was asked
+    /// for).
+    pub clamped_rows: usize,
+}
+
+/// How the monotone interpolation of opacity tables is described in reports.
+pub const TABLE_INTERPOLATION: &str =
+    "monotone cubic (Steffen 1990) in log kappa over log T x log rho, tensor product";
+
 /// How a profile was represented, and how well.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ProfileSummary {
@@ -155,6 +183,11 @@ pub struct ProfileSummary {
     pub opacity: String,
     /// The opacity law's temperature range, K (None for tabulated opacity).
     pub temperature_range_k: Option<TemperatureRange>,
+    /// The opacity table, if the profile uses one: its file, range and how many rows were
+    /// clamped to its edges.
+    pub opacity_table: Option<OpacityTableUse>,
+    /// Luminosity of the layer, ∫ ε dm over it, erg s⁻¹ (None without energy generation).
+    pub luminosity_erg_s: Option<f64>,
     /// Inner radius of the profile layer, cm.
     pub inner_radius_cm: f64,
     /// Outer radius of the represented profile, cm (the surface cut, if any).
@@ -190,6 +223,9 @@ pub struct ProfileShells {
     pub within_tolerance: Vec<bool>,
     /// How the profile was represented.
     pub summary: ProfileSummary,
+    /// The profile's rows as point values with m(r) and L(r) (mass and luminosity counted
+    /// from the layer's inner boundary).
+    pub structure: RadialStructure,
 }
 
 impl ProfileTable {
@@ -275,8 +311,10 @@ impl ProfileTable {
     ///
     /// # Errors
     /// `tolerance` outside (0, 1); `inner_cm` above the first radius; every row below the
-    /// opacity law's temperature range; a non-finite extinction (a T^−3.5 law at T = 0
-    /// inside the star); more than [`MAX_SUB_SHELLS`] sub-shells needed.
+    /// opacity law's temperature range; a row (or the surface cut) outside an opacity table
+    /// that refuses outside points, naming the row, the value and the table's range; a
+    /// non-finite extinction (a T^−3.5 law at T = 0 inside the star); more than
+    /// [`MAX_SUB_SHELLS`] sub-shells needed.
     pub fn to_shells(
         &self,
         name: &str,
@@ -314,6 +352,21 @@ impl ProfileTable {
                 self.surface_cut(law_ref, range, temperature, &mut notes)?
             }
             _ => (self.rows() - 1, self.outer_radius_cm(), None),
+        };
+        let opacity_table = match &self.columns.opacity {
+            ProfileOpacity::Table {
+                file,
+                table,
+                outside,
+            } => Some(self.check_table(
+                file,
+                table,
+                *outside,
+                (top_row, top_cm),
+                surface_cut.as_ref(),
+                &mut notes,
+            )?),
+            _ => None,
         };
 
         // Pieces on which σ is smooth.
@@ -481,6 +534,7 @@ impl ProfileTable {
         let has_metals = self.columns.metals_z.is_some();
         let known_fraction = match &self.columns.opacity {
             ProfileOpacity::Law(_) => true,
+            ProfileOpacity::Table { .. } => false,
             ProfileOpacity::Tabulated {
                 scattering_fraction,
                 ..
@@ -515,6 +569,7 @@ impl ProfileTable {
             layers.push((shell.outer_cm, layer.with_gas(gas)));
         }
         let inner_point = self.point(law_ref, None, inner_cm);
+        let structure = self.structure(law_ref, inner_cm, top_row, top_cm, surface_cut.is_some());
         let summary = ProfileSummary {
             layer_name: name.to_string(),
             model_layer: 0,
@@ -527,8 +582,11 @@ impl ProfileTable {
             opacity: match &self.columns.opacity {
                 ProfileOpacity::Law(spec) => spec.describe(),
                 ProfileOpacity::Tabulated { .. } => "tabulated".to_string(),
+                ProfileOpacity::Table { file, .. } => format!("opacity table {file}"),
             },
             temperature_range_k: range,
+            opacity_table,
+            luminosity_erg_s: structure.luminosity_erg_s(),
             inner_radius_cm: inner_cm,
             outer_radius_cm: top_cm,
             surface_cut,
@@ -545,6 +603,159 @@ impl ProfileTable {
             shells: layers,
             within_tolerance,
             summary,
+            structure,
+        })
+    }
+
+    /// The profile's rows from `inner_cm` to the surface `top_cm` (row `top_row` the last one
+    /// kept, the cut interpolated after it) as a [`RadialStructure`], and the rows above a
+    /// cut as its atmosphere.
+    fn structure(
+        &self,
+        law: Option<&dyn OpacityLaw>,
+        inner_cm: f64,
+        top_row: usize,
+        top_cm: f64,
+        cut: bool,
+    ) -> RadialStructure {
+        let c = &self.columns;
+        let radius = &c.radius_cm;
+        let has = (
+            c.temperature_k.is_some(),
+            c.hydrogen_x.is_some(),
+            c.metals_z.is_some(),
+            c.energy_generation_erg_g_s.is_some(),
+        );
+        let row_of = |r: f64, p: super::Point| StructureRow {
+            radius_cm: r,
+            density_g_cm3: p.density,
+            temperature_k: has.0.then_some(p.temperature),
+            hydrogen_x: has.1.then_some(p.hydrogen),
+            metals_z: has.2.then_some(p.metals),
+            opacity_cm2_g: p.opacity,
+            energy_generation_erg_g_s: has.3.then_some(p.energy),
+            mass_g: 0.0,
+            luminosity_erg_s: None,
+        };
+        let mut rows = Vec::with_capacity(top_row + 3);
+        if radius[0] > inner_cm {
+            rows.push(row_of(inner_cm, self.point_at(law, 0, 0.0)));
+        }
+        for (row, &r) in radius.iter().enumerate().take(top_row + 1) {
+            rows.push(row_of(r, self.point_at(law, row, 0.0)));
+        }
+        let mut atmosphere = Vec::new();
+        if cut {
+            let at_cut = self.point(law, Some(top_row), top_cm);
+            if top_cm > radius[top_row] {
+                rows.push(row_of(top_cm, at_cut));
+            }
+            let gas = |r: f64, p: super::Point| AtmosphereRow {
+                radius_cm: r,
+                density_g_cm3: p.density,
+                temperature_k: p.temperature,
+                hydrogen_x: p.hydrogen,
+                metals_z: p.metals,
+            };
+            atmosphere.push(gas(top_cm, at_cut));
+            for (row, &r) in radius.iter().enumerate().skip(top_row + 1) {
+                if r > top_cm {
+                    atmosphere.push(gas(r, self.point_at(law, row, 0.0)));
+                }
+            }
+        }
+        RadialStructure::new(rows, atmosphere, 0.0, 0.0)
+    }
+
+    /// Checks every row the medium keeps (and the surface cut) against the opacity table's
+    /// range: an error naming the row and the value, or, with clamping asked for, a count of
+    /// the clamped rows and a note.
+    fn check_table(
+        &self,
+        file: &str,
+        table: &OpacityTable,
+        outside: OutsidePolicy,
+        (top_row, top_cm): (usize, f64),
+        cut: Option<&SurfaceCut>,
+        notes: &mut Vec<String>,
+    ) -> Result<OpacityTableUse, MediumError> {
+        let range = table.range();
+        let temperature = self
+            .columns
+            .temperature_k
+            .as_deref()
+            .expect("validated: a table needs temperatures");
+        let density = &self.columns.density_g_cm3;
+        let mut points: Vec<(Option<usize>, f64, f64)> = (0..=top_row)
+            .map(|row| (Some(row), temperature[row], density[row]))
+            .collect();
+        if let Some(cut) = cut {
+            let r = &self.columns.radius_cm;
+            let w = (top_cm - r[top_row]) / (r[top_row + 1] - r[top_row]);
+            let rho = density[top_row] + w * (density[top_row + 1] - density[top_row]);
+            points.push((None, cut.temperature_k, rho));
+        }
+        let short = |x: f64| crate::units::format_significant(x, 6);
+        let fix = format!(
+            "lies outside the opacity table {file} ({}): extend the table, or write \
+             \"opacity_table\": {{\"file\": ..., \"outside\": \"clamp\"}} to clamp to its \
+             edges",
+            range.describe()
+        );
+        let mut clamped_rows = 0;
+        for (row, t, rho) in points {
+            if range.contains(t, rho) {
+                continue;
+            }
+            if outside == OutsidePolicy::Clamp {
+                clamped_rows += 1;
+                continue;
+            }
+            let t_inside = (range.temperature_min_k..=range.temperature_max_k).contains(&t);
+            let (field, problem) = match row {
+                Some(row) if !t_inside => (
+                    format!("temperature[{row}]"),
+                    format!(
+                        "T = {} K (rho = {} g/cm^3 there) {fix}",
+                        short(t),
+                        short(rho)
+                    ),
+                ),
+                Some(row) => (
+                    format!("density[{row}]"),
+                    format!(
+                        "rho = {} g/cm^3 (T = {} K there) {fix}",
+                        short(rho),
+                        short(t)
+                    ),
+                ),
+                None => (
+                    "density".to_string(),
+                    format!(
+                        "rho = {} g/cm^3 at the surface cut r = {top_cm:e} cm, where T falls to \
+                         the table's lowest temperature {} K, {fix}",
+                        short(rho),
+                        short(t)
+                    ),
+                ),
+            };
+            return Err(MediumError::Invalid { field, problem });
+        }
+        if clamped_rows > 0 {
+            notes.push(format!(
+                "opacity table {file}: {clamped_rows} row(s) lie outside the table ({}) and \
+                 were clamped to its edges, as asked (\"outside\": \"clamp\"); their opacity is \
+                 an extrapolation by a constant",
+                range.describe()
+            ));
+        }
+        Ok(OpacityTableUse {
+            file: file.to_string(),
+            grid: [table.temperatures_k().len(), table.densities_g_cm3().len()],
+            range,
+            interpolation: TABLE_INTERPOLATION.to_string(),
+            outside: outside.name().to_string(),
+            clamped_rows,
         })
     }
 
@@ -619,13 +830,21 @@ impl ProfileTable {
             table_radius_cm: radius[last],
             dropped_mass_g,
         };
+        let temperature = if range.min_k.fract() == 0.0 {
+            format!("{}", range.min_k)
+        } else {
+            crate::units::format_significant(range.min_k, 5)
+        };
+        let whose = match &self.columns.opacity {
+            ProfileOpacity::Table { .. } => "opacity table's",
+            _ => "opacity law's",
+        };
         notes.push(format!(
             "surface cut at r = {:.6e} cm ({:.6} of the table's outer radius), where T falls to \
-             {} K, the lower end of the opacity law's range; {:.3e} g of gas above it is \
+             {temperature} K, the lower end of the {whose} range; {:.3e} g of gas above it is \
              dropped",
             cut_cm,
             cut_cm / radius[last],
-            range.min_k,
             dropped_mass_g
         ));
         Ok((top_row, cut_cm, Some(cut)))
@@ -654,6 +873,7 @@ mod tests {
             hydrogen_x: Some(ColumnValues::Constant(0.7)),
             metals_z: Some(ColumnValues::Constant(0.02)),
             opacity,
+            energy_generation_erg_g_s: None,
         })
         .unwrap()
     }
@@ -717,6 +937,7 @@ mod tests {
             hydrogen_x: Some(ColumnValues::Constant(0.7)),
             metals_z: Some(ColumnValues::Constant(0.02)),
             opacity: ProfileOpacity::Law(spec),
+            energy_generation_erg_g_s: None,
         })
         .unwrap();
         let shells = t.to_shells("", 0.0, 0.01).unwrap();

@@ -11,7 +11,8 @@
 //! electron-scattering and Kramers laws so that one law covers a whole star.
 //!
 //! Model files describe a law with [`OpacitySpec`] (JSON, tagged by `"kind"`), which
-//! [`OpacitySpec::build`] validates into a boxed [`OpacityLaw`].
+//! [`OpacitySpec::build`] validates into a boxed [`OpacityLaw`]. Tabulated opacities κ(T, ρ)
+//! (a long-form CSV of our own, interpolated in log space) are in [`table`].
 //!
 //! ```
 //! use sojourn::opacity::{GasState, OpacitySpec};
@@ -31,6 +32,13 @@
 
 use serde::{Deserialize, Serialize};
 use thiserror::Error;
+
+mod steffen;
+pub mod table;
+
+pub use table::{
+    OpacityTable, OpacityTableError, OutsidePolicy, OutsideTable, TableOpacity, TableRange,
+};
 
 /// Coefficient of the electron-scattering opacity κ_es = 0.2 (1 + X), cm² g⁻¹.
 /// Carroll & Ostlie, *An Introduction to Modern Astrophysics*, ch. 9.
