@@ -32,6 +32,8 @@
 
 pub mod comparison;
 pub mod decay_fit;
+pub mod escape_ks;
+pub mod late_decay;
 pub mod profile;
 pub mod resolved_layout;
 pub mod run;
@@ -40,7 +42,9 @@ pub mod stellar;
 pub mod theory;
 pub mod verdict;
 
-pub use comparison::Comparison;
+pub use comparison::{Comparison, OutcomeComparison};
+pub use escape_ks::{EscapeKs, escape_time_ks};
+pub use late_decay::{LateDecay, late_decay};
 pub use decay_fit::{DecayFit, fit_late_decay};
 pub use profile::ProfileAnalysis;
 pub use resolved_layout::resolved_layout;
@@ -48,5 +52,5 @@ pub use run::{
     DistributionSummary, OutcomeFractions, OutcomeStderr, RunAnalysis, TimeSummary, WalkSummary,
 };
 pub use slab_optics::{ResolvedSummary, SlabDiffusion};
-pub use theory::{DiffusionSummary, EscapeTimeTheory, TheorySource};
+pub use theory::{DiffusionSummary, EscapeTimeTheory, TheorySource, solve_diffusion};
 pub use verdict::{Evidence, Verdict, verdict};

@@ -64,7 +64,7 @@ fn uniform_sphere_escape_time_quantiles_follow_the_first_passage_series() {
     // The theory beside a run: the extrapolated sphere, τ_e = τ + q∞, time = (N/τ²) τ_e² l / c.
     let (tau, radius) = (20.0, 1.0);
     let medium = uniform_sphere(tau);
-    let (theory, _) = DiffusionSummary::new(&medium, None, 1.0);
+    let (theory, _) = DiffusionSummary::new(&medium, None);
     let tau_e = tau + MILNE_EXTRAPOLATION_LENGTH;
     let l = radius / tau;
     let time = |p: f64| 3.0 * quantile_s(p) * tau_e * tau_e * l / SPEED_OF_LIGHT_CM_S;
@@ -85,7 +85,7 @@ fn uniform_sphere_escape_time_quantiles_follow_the_first_passage_series() {
         Source::centre(),
     )
     .unwrap();
-    let (theory, _) = DiffusionSummary::new(&two, None, 1.0);
+    let (theory, _) = DiffusionSummary::new(&two, None);
     assert!(theory.escape_time.mean_s.is_some());
     assert!(theory.escape_time.median_s.is_none());
 }
