@@ -520,7 +520,8 @@ mod tests {
             transport_depth,
             worst_absorption: None,
             layers: 1,
-            averaged_layers: false,
+            thin_layer: None,
+            lit_from_outside: false,
         }
     }
 
@@ -545,9 +546,22 @@ mod tests {
             regime(Geometry::Sphere, 50.0),
         ));
         assert_eq!(v.trustworthy, Some(true));
+        assert_eq!(v.tolerance, Some(MEAN_TOLERANCE));
         assert_eq!(
             v.reason,
-            "diffusion describes this medium: mean within 1.2 %, KS D = 0.0040"
+            "diffusion describes this medium to 5 % but not to 1 %: mean within 1.2 %, \
+             KS D = 0.0040"
+        );
+        let v = verdict(&evidence(
+            Some((1.004, 0.002)),
+            Some((0.004, 0.9)),
+            regime(Geometry::Sphere, 50.0),
+        ));
+        assert_eq!(v.trustworthy, Some(true));
+        assert_eq!(v.tolerance, Some(CLOSE_TOLERANCE));
+        assert_eq!(
+            v.reason,
+            "diffusion describes this medium to 1 %: mean within 0.40 %, KS D = 0.0040"
         );
     }
 
@@ -632,17 +646,17 @@ mod tests {
         assert_eq!(v.trustworthy, Some(true));
         assert_eq!(
             v.reason,
-            "diffusion describes this medium: R within 0.012, T within 0.018 (times not \
-             compared: the medium absorbs)"
+            "diffusion describes this medium to 5 % but not to 1 %: R within 0.012, T within \
+             0.018 (times not compared: the medium absorbs)"
         );
         slab.fractions[0].diffusion = 0.65;
-        slab.regime.averaged_layers = true;
+        slab.regime.lit_from_outside = true;
         let v = verdict(&slab);
         assert_eq!(v.trustworthy, Some(false));
         assert_eq!(
             v.reason,
-            "diffusion is off: R is 0.650 by diffusion, 0.825 by Monte Carlo: slab theory \
-             averages the layers over the thickness"
+            "diffusion is off: R is 0.650 by diffusion, 0.825 by Monte Carlo: diffusion \
+             cannot follow the first transport mean free times after the light enters"
         );
     }
 }

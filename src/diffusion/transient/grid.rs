@@ -55,16 +55,13 @@ pub(super) fn element_nodes(
                 nodes.push(Vec::new());
                 continue;
             }
-            SegmentKind::Extension | SegmentKind::Diffusing => {}
+            SegmentKind::Extension => {
+                nodes.push(vec![segment.start_cm, segment.end_cm]);
+                continue;
+            }
+            SegmentKind::Diffusing => {}
         }
-        // The continuation of a face is resolved from the face outward only: its length
-        // is set by the boundary condition, not by the modes of the medium, and may exceed
-        // the medium by far where that is optically thin.
-        let uniform = if segment.kind == SegmentKind::Extension {
-            f64::INFINITY
-        } else {
-            step_xi * segment.diffusion_cm2_s.sqrt()
-        };
+        let uniform = step_xi * segment.diffusion_cm2_s.sqrt();
         let size = |x: f64| {
             refinements.iter().fold(uniform, |h, r| {
                 h.min(

@@ -92,7 +92,7 @@ impl System {
                 continue;
             }
             let diffusivity = segment.diffusion_cm2_s / (scale * scale);
-            if segment.kind == SegmentKind::Extension && false {
+            if segment.kind == SegmentKind::Extension {
                 // The boundary condition: the exact steady conductance of a continuation
                 // that holds and absorbs nothing, out to the extrapolated face.
                 let (sa, sb) = (segment.start_cm / scale, segment.end_cm / scale);
