@@ -51,7 +51,7 @@ pub struct EscapeKs {
 /// (conditional on escape). `Err` holds the note saying why there is none.
 pub fn escape_time_ks(escapes: &PathStats, solution: &EscapeSolution) -> Result<EscapeKs, String> {
     let effective = escapes.effective_count();
-    if !(effective >= KS_MIN_ESCAPES as f64) {
+    if effective.is_nan() || effective < KS_MIN_ESCAPES as f64 {
         return Err(format!(
             "no KS test: {} photons escaped{}, fewer than {KS_MIN_ESCAPES}",
             format_significant(effective, 4),

@@ -255,7 +255,8 @@ impl RunAnalysis {
         let energy_source = medium.source() == Source::EnergyGeneration;
         let slab = slab_diffusion(medium, tally);
         let solution = solve_diffusion(medium);
-        let (mut diffusion, mut theory_notes) = DiffusionSummary::new(medium, solution.as_ref().ok());
+        let (mut diffusion, mut theory_notes) =
+            DiffusionSummary::new(medium, solution.as_ref().ok());
         if let Err(note) = &solution {
             theory_notes.push(note.clone());
         }

@@ -39,8 +39,8 @@
 //! agree in the mean within 0.4 % and in distribution to a KS distance below 0.004 with
 //! 10⁵ photons (`tests/physics/diffusion_solver.rs`, `tests/physics/comparison.rs`). The
 //! 5 % level is what diffusion still gets right near the edge of its regime: a uniform
-//! sphere 10 transport mean free paths deep is within about 1 % in the mean and 0.02 in
-//! distribution, one 5 deep is off by 0.04 in distribution
+//! sphere 10 transport mean free paths deep is within 1.6 % in the mean and 0.018 in
+//! distribution, one 5 deep is off by 0.06 in distribution (20 000 photons each)
 //! (`cargo run --release --example verdict_thresholds`). A dense core under a thin
 //! envelope (the demo star *Ember*: τ 90 under τ 2.1) sits between the two: +1.4 % in the
 //! mean and KS 0.013, because photons leaving the core meet a nearly free surface and
