@@ -32,7 +32,7 @@ use nalgebra::Vector3;
 use rand::{Rng, RngExt};
 
 use super::crossing::sample_crossing_cosine;
-use super::direct::{DirectWalker, Photon, WalkLimits};
+use super::direct::{DirectWalker, JumpSites, Photon, Stop, WalkLimits};
 use super::direction;
 use crate::diffusion::{MILNE_EXTRAPOLATION_LENGTH, first_passage};
 use crate::medium::{Geometry, Medium};
@@ -115,45 +115,43 @@ impl AcceleratedWalker {
             return photon.record(Outcome::Specular, 0.0, 0.0, 0.0);
         }
         let max_steps = self.direct.limits().max_steps;
-        let mut isotropic = self.direct.source_is_isotropic();
-        let (mut jumps, mut jump_time_s, mut flights) = (0.0, 0.0, 0.0);
+        let (mut jumps, mut jump_time_s) = (0.0, 0.0);
+        let mut at_jump_site = self.direct.source_is_isotropic()
+            && self.jump_radius(&photon.position, photon.layer).is_some();
         let outcome = loop {
-            if photon.steps >= max_steps {
-                break Outcome::Censored;
-            }
-            if isotropic && let Some((radius_cm, coordinate)) = self.jump_radius(&photon) {
-                photon.steps += 1;
-                jumps += 1.0;
-                let (elapsed_s, absorbed) = self.jump(&mut photon, radius_cm, coordinate, rng);
-                jump_time_s += elapsed_s;
-                if absorbed {
-                    break Outcome::Absorbed;
+            if at_jump_site {
+                match self.jump_radius(&photon.position, photon.layer) {
+                    Some((radius_cm, coordinate)) if photon.steps < max_steps => {
+                        photon.steps += 1;
+                        jumps += 1.0;
+                        let (elapsed_s, absorbed) =
+                            self.jump(&mut photon, radius_cm, coordinate, rng);
+                        jump_time_s += elapsed_s;
+                        if absorbed {
+                            break Outcome::Absorbed;
+                        }
+                    }
+                    Some(_) => break Outcome::Censored,
+                    None => self.direct.scatter(&mut photon, rng),
                 }
-                if photon.steps >= max_steps {
-                    break Outcome::Censored;
-                }
             }
-            photon.steps += 1;
-            flights += 1.0;
-            if let Some(outcome) = self.direct.fly(&mut photon, rng) {
-                break outcome;
+            match self.direct.follow(&mut photon, rng, &Sites(self)) {
+                Stop::Ended(outcome) => break outcome,
+                Stop::JumpSite => at_jump_site = true,
             }
-            if let Some(outcome) = self.direct.interact(&mut photon, rng) {
-                break outcome;
-            }
-            isotropic = true;
         };
+        let flights = photon.steps as f64 - jumps;
         photon.record(outcome, jumps, flights, jump_time_s)
     }
 
-    /// Radius of the jump sphere at the photon's position, if a jump applies there, with the
-    /// photon's radius (sphere) or depth (slab), cm.
-    fn jump_radius(&self, photon: &Photon) -> Option<(f64, f64)> {
-        let region = &self.regions[photon.layer];
+    /// Radius of the jump sphere at `position` in layer `layer`, if a jump applies there,
+    /// with the photon's radius (sphere) or depth (slab), cm.
+    fn jump_radius(&self, position: &Vector3<f64>, layer: usize) -> Option<(f64, f64)> {
+        let region = &self.regions[layer];
         if region.transport_per_cm <= 0.0 {
             return None;
         }
-        let coordinate = self.coordinate(&photon.position);
+        let coordinate = self.coordinate(position);
         let radius_cm = if region.reaches_centre {
             region.upper_cm - coordinate
         } else {
@@ -223,6 +221,16 @@ impl AcceleratedWalker {
         self.boundaries_cm
             .partition_point(|&b| b <= coordinate)
             .min(self.boundaries_cm.len() - 1)
+    }
+}
+
+/// The jump sites of an accelerated walker, as the direct walker asks for them.
+struct Sites<'a>(&'a AcceleratedWalker);
+
+impl JumpSites for Sites<'_> {
+    #[inline]
+    fn jump_here(&self, position: &Vector3<f64>, layer: usize) -> bool {
+        self.0.jump_radius(position, layer).is_some()
     }
 }
 

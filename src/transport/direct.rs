@@ -5,6 +5,14 @@
 //! it layer by layer along the ray, using exact ray–sphere or ray–plane distances, until it
 //! is used up (an interaction) or the photon leaves the medium. No step ever uses the mean
 //! free path of its starting point alone, so the walk is exact for any layering.
+//!
+//! Most flights end inside the layer they start in, so the walk first tries that: the end
+//! point p + s u is tested against the layer with squared radii (sphere) or depths (slab),
+//! with no square root. Only a flight that fails the test goes through the exact
+//! boundary-crossing code (ray–shell distances, Fresnel and Snell at index steps). The loop
+//! over in-layer flights keeps the photon in local variables and is compiled separately for
+//! isotropic scattering (no phase-function dispatch, a Marsaglia direction per scattering)
+//! and for the other phase functions.
 
 use nalgebra::Vector3;
 use rand::{Rng, RngExt};
@@ -12,7 +20,7 @@ use rand_distr::Exp1;
 
 use super::direction;
 use super::fresnel::{fresnel_reflectance, refract_across_z};
-use super::geometry::{Exit, plane_exit, segment_inside_shell, shell_exit};
+use super::geometry::{Exit, plane_exit, shell_exit};
 use super::phase::PhaseFunction;
 use crate::medium::{Geometry, Medium, Source};
 use crate::tally::{Outcome, PhotonRecord};
@@ -21,7 +29,7 @@ use crate::units::SPEED_OF_LIGHT_CM_S;
 /// Limits on a single photon's walk.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct WalkLimits {
-    /// Free flights allowed before the photon is counted as censored.
+    /// Free flights (and diffusion jumps) allowed before the photon is counted as censored.
     pub max_steps: u64,
 }
 
@@ -37,6 +45,8 @@ impl Default for WalkLimits {
 #[derive(Debug, Clone)]
 struct LayerOptics {
     extinction_per_cm: f64,
+    /// 1/σ, cm (infinite for a transparent layer).
+    mean_free_path_cm: f64,
     albedo: f64,
     phase: PhaseFunction,
     /// n / c, s/cm: time per unit path length.
@@ -89,6 +99,40 @@ impl Photon {
     }
 }
 
+/// Where a diffusion jump may replace the walk: asked at every scattering site.
+pub(super) trait JumpSites {
+    /// Whether a jump may start at `position` in layer `layer`.
+    fn jump_here(&self, position: &Vector3<f64>, layer: usize) -> bool;
+}
+
+/// No jumps anywhere: the direct walk.
+pub(super) struct NoJumps;
+
+impl JumpSites for NoJumps {
+    #[inline(always)]
+    fn jump_here(&self, _: &Vector3<f64>, _: usize) -> bool {
+        false
+    }
+}
+
+/// Why [`DirectWalker::follow`] returned.
+pub(super) enum Stop {
+    /// The walk ended.
+    Ended(Outcome),
+    /// The photon scattered at a site where a jump may start; its direction is still the
+    /// incoming one (no outgoing direction was drawn).
+    JumpSite,
+}
+
+/// Why the in-layer loop returned.
+enum InLayer {
+    /// The walk stopped (ended, or a jump site).
+    Stop(Stop),
+    /// The current flight, of optical depth `tau`, leaves the layer; the photon has not
+    /// moved yet.
+    Leaves(f64),
+}
+
 /// The direct Monte Carlo walker for one medium. Immutable and `Sync`: share it between
 /// threads and give each photon its own random stream.
 #[derive(Debug, Clone)]
@@ -121,6 +165,7 @@ impl DirectWalker {
                 };
                 LayerOptics {
                     extinction_per_cm: layer.extinction_per_cm(),
+                    mean_free_path_cm: 1.0 / layer.extinction_per_cm(),
                     albedo: layer.albedo(),
                     phase: *layer.phase(),
                     slowness_s_cm: layer.refractive_index() / SPEED_OF_LIGHT_CM_S,
@@ -148,17 +193,9 @@ impl DirectWalker {
         let outcome = if reflected_at_entry {
             Outcome::Specular
         } else {
-            loop {
-                if photon.steps >= self.limits.max_steps {
-                    break Outcome::Censored;
-                }
-                photon.steps += 1;
-                if let Some(outcome) = self.fly(&mut photon, rng) {
-                    break outcome;
-                }
-                if let Some(outcome) = self.interact(&mut photon, rng) {
-                    break outcome;
-                }
+            match self.follow(&mut photon, rng, &NoJumps) {
+                Stop::Ended(outcome) => outcome,
+                Stop::JumpSite => unreachable!("the direct walk has no jump sites"),
             }
         };
         photon.record(outcome, 0.0, photon.steps as f64, 0.0)
@@ -174,27 +211,121 @@ impl DirectWalker {
         !matches!(self.source, Source::Beam { .. } | Source::Diffuse)
     }
 
-    /// An interaction at the photon's position: absorption (returns the outcome) or a
-    /// scattering into a new direction drawn from the layer's phase function.
+    /// The phase function of layer `layer`.
+    pub(super) fn phase(&self, layer: usize) -> PhaseFunction {
+        self.layers[layer].phase
+    }
+
+    /// A scattering at the photon's position into a direction drawn from the layer's phase
+    /// function (the scattering itself is already counted).
     #[inline(always)]
-    pub(super) fn interact<R: Rng + ?Sized>(
-        &self,
-        photon: &mut Photon,
-        rng: &mut R,
-    ) -> Option<Outcome> {
-        let layer = &self.layers[photon.layer];
-        if layer.albedo < 1.0 && rng.random::<f64>() >= layer.albedo {
-            return Some(Outcome::Absorbed);
-        }
-        photon.scatterings += 1.0;
-        photon.direction = match layer.phase {
+    pub(super) fn scatter<R: Rng + ?Sized>(&self, photon: &mut Photon, rng: &mut R) {
+        photon.direction = match self.layers[photon.layer].phase {
             PhaseFunction::Isotropic => direction::isotropic(rng),
             phase => {
                 let cos_theta = phase.sample_cosine(rng);
                 direction::scatter(&photon.direction, cos_theta, rng)
             }
         };
-        None
+    }
+
+    /// Flights and interactions from the photon's current state: starts with a flight,
+    /// and returns when the walk ends or, after an interaction that is a scattering, where
+    /// `jumps` allows a jump (before the scattering direction is drawn).
+    #[inline(always)]
+    pub(super) fn follow<R: Rng + ?Sized, J: JumpSites>(
+        &self,
+        photon: &mut Photon,
+        rng: &mut R,
+        jumps: &J,
+    ) -> Stop {
+        let mut interaction_pending = false;
+        loop {
+            let run = match self.layers[photon.layer].phase {
+                PhaseFunction::Isotropic => {
+                    self.in_layer::<R, J, true>(photon, interaction_pending, rng, jumps)
+                }
+                _ => self.in_layer::<R, J, false>(photon, interaction_pending, rng, jumps),
+            };
+            match run {
+                InLayer::Stop(stop) => return stop,
+                InLayer::Leaves(tau) => {
+                    if let Some(outcome) = self.cross(photon, tau, rng) {
+                        return Stop::Ended(outcome);
+                    }
+                    interaction_pending = true;
+                }
+            }
+        }
+    }
+
+    /// The loop over flights that end inside the photon's current layer, with the photon in
+    /// local variables. Starts with the pending interaction, if any, then alternates flight
+    /// and interaction. Returns at the first flight that leaves the layer (the photon not
+    /// yet moved), at the end of the walk, or at a jump site.
+    #[inline(always)]
+    fn in_layer<R: Rng + ?Sized, J: JumpSites, const ISOTROPIC: bool>(
+        &self,
+        photon: &mut Photon,
+        mut interaction_pending: bool,
+        rng: &mut R,
+        jumps: &J,
+    ) -> InLayer {
+        let layer = &self.layers[photon.layer];
+        let index = photon.layer;
+        let sphere = self.geometry == Geometry::Sphere;
+        let (inner, outer) = (layer.inner, layer.outer);
+        let (mean_free_path, slowness, albedo) =
+            (layer.mean_free_path_cm, layer.slowness_s_cm, layer.albedo);
+        let absorbing = albedo < 1.0;
+        let max_steps = self.limits.max_steps;
+        let mut p = photon.position;
+        let mut u = photon.direction;
+        let mut time_s = photon.time_s;
+        let mut scatterings = photon.scatterings;
+        let mut steps = photon.steps;
+        let stop = loop {
+            if interaction_pending {
+                if absorbing && rng.random::<f64>() >= albedo {
+                    break InLayer::Stop(Stop::Ended(Outcome::Absorbed));
+                }
+                scatterings += 1.0;
+                if jumps.jump_here(&p, index) {
+                    break InLayer::Stop(Stop::JumpSite);
+                }
+                u = if ISOTROPIC {
+                    direction::isotropic(rng)
+                } else {
+                    let cos_theta = layer.phase.sample_cosine(rng);
+                    direction::scatter(&u, cos_theta, rng)
+                };
+            }
+            interaction_pending = true;
+            if steps >= max_steps {
+                break InLayer::Stop(Stop::Ended(Outcome::Censored));
+            }
+            steps += 1;
+            let tau: f64 = rng.sample(Exp1);
+            let s = tau * mean_free_path;
+            let end = p + s * u;
+            let inside = if sphere {
+                let end_sq = end.norm_squared();
+                end_sq <= outer && (inner == 0.0 || clear_of_inner_sphere(&p, &u, s, inner))
+            } else {
+                end.z >= inner && end.z <= outer
+            };
+            if !inside {
+                break InLayer::Leaves(tau);
+            }
+            p = end;
+            time_s += s * slowness;
+        };
+        photon.position = p;
+        photon.direction = u;
+        photon.time_s = time_s;
+        photon.scatterings = scatterings;
+        photon.steps = steps;
+        stop
     }
 
     /// A photon at the source, with its initial direction, and whether it was reflected
@@ -265,28 +396,17 @@ impl DirectWalker {
         false
     }
 
-    /// One free flight: spends a fresh exponential optical depth across layers. Returns the
-    /// outcome if the photon leaves the medium (or can never interact), `None` at an
-    /// interaction point.
-    #[inline(always)]
-    pub(super) fn fly<R: Rng + ?Sized>(&self, photon: &mut Photon, rng: &mut R) -> Option<Outcome> {
-        let mut tau: f64 = rng.sample(Exp1);
+    /// The rest of a flight of optical depth `tau` that leaves the photon's layer: spends
+    /// it across layers with exact distances. Returns the outcome if the photon leaves the
+    /// medium (or can never interact), `None` at an interaction point.
+    fn cross<R: Rng + ?Sized>(
+        &self,
+        photon: &mut Photon,
+        mut tau: f64,
+        rng: &mut R,
+    ) -> Option<Outcome> {
         loop {
             let layer = &self.layers[photon.layer];
-            if self.geometry == Geometry::Sphere && layer.extinction_per_cm > 0.0 {
-                let s = tau / layer.extinction_per_cm;
-                if segment_inside_shell(
-                    &photon.position,
-                    &photon.direction,
-                    s,
-                    layer.inner,
-                    layer.outer,
-                ) {
-                    photon.position += s * photon.direction;
-                    photon.time_s += s * layer.slowness_s_cm;
-                    return None;
-                }
-            }
             let (distance, exit) = match self.geometry {
                 Geometry::Sphere => shell_exit(
                     &photon.position,
@@ -301,16 +421,16 @@ impl DirectWalker {
                     layer.outer,
                 ),
             };
-            if !distance.is_finite() {
-                // Gliding parallel to the faces of a transparent layer: it never interacts.
-                return Some(Outcome::Censored);
-            }
             let tau_to_exit = layer.extinction_per_cm * distance;
             if tau < tau_to_exit {
-                let s = tau / layer.extinction_per_cm;
+                let s = tau * layer.mean_free_path_cm;
                 photon.position += s * photon.direction;
                 photon.time_s += s * layer.slowness_s_cm;
                 return None;
+            }
+            if !distance.is_finite() {
+                // Gliding parallel to the faces of a transparent layer: it never interacts.
+                return Some(Outcome::Censored);
             }
             tau -= tau_to_exit;
             photon.position += distance * photon.direction;
@@ -330,5 +450,32 @@ impl DirectWalker {
                 Exit::Previous => photon.layer -= 1,
             }
         }
+    }
+}
+
+/// Whether the segment from `p` along unit `u` of length `s` stays outside the sphere of
+/// squared radius `inner_sq` (the end point is already known to be inside the outer one):
+/// the closest approach to the centre, at t = clamp(−p·u, 0, s), is tested, squared.
+#[inline(always)]
+fn clear_of_inner_sphere(p: &Vector3<f64>, u: &Vector3<f64>, s: f64, inner_sq: f64) -> bool {
+    let b = p.dot(u);
+    let t = (-b).clamp(0.0, s);
+    p.norm_squared() + t * (2.0 * b + t) >= inner_sq
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn inner_sphere_test_sees_the_core() {
+        let p = Vector3::new(0.0, 0.5, 3.0);
+        let u = Vector3::new(0.0, 0.0, -1.0);
+        // Passes through the core of radius 1 on the way to z = -3.
+        assert!(!clear_of_inner_sphere(&p, &u, 6.0, 1.0));
+        // Stops before reaching it.
+        assert!(clear_of_inner_sphere(&p, &u, 1.5, 1.0));
+        // Moving away from the core.
+        assert!(clear_of_inner_sphere(&p, &(-u), 5.0, 1.0));
     }
 }

@@ -36,29 +36,6 @@ pub fn shell_exit(p: &Vector3<f64>, u: &Vector3<f64>, inner_sq: f64, outer_sq: f
     (distance, Exit::Next)
 }
 
-/// Whether the straight segment from `p` to `p + s u` stays inside the shell
-/// `inner ≤ |x| ≤ outer` (radii squared), without computing any square root.
-#[inline]
-pub fn segment_inside_shell(
-    p: &Vector3<f64>,
-    u: &Vector3<f64>,
-    s: f64,
-    inner_sq: f64,
-    outer_sq: f64,
-) -> bool {
-    let b = p.dot(u);
-    let pp = p.dot(p);
-    let end_sq = pp + s * (2.0 * b + s);
-    if end_sq > outer_sq {
-        return false;
-    }
-    if inner_sq == 0.0 {
-        return true;
-    }
-    let t = (-b).clamp(0.0, s);
-    pp + t * (2.0 * b + t) >= inner_sq
-}
-
 /// Distance along direction cosine `uz` from depth `z` to the faces `top ≤ z ≤ bottom` of a
 /// plane layer (depth increases downward), and which face is hit. Infinite for `uz = 0`.
 #[inline]
@@ -107,18 +84,6 @@ mod tests {
         let u = Vector3::new(0.0, 0.0, -1.0);
         let (d, _) = shell_exit(&p, &u, 0.0, 4.0);
         assert!((d - 4.0).abs() < 1e-14);
-    }
-
-    #[test]
-    fn segment_test_sees_the_inner_core() {
-        let p = Vector3::new(0.0, 0.5, 3.0);
-        let u = Vector3::new(0.0, 0.0, -1.0);
-        // Passes through the core of radius 1 on the way to z = -3.
-        assert!(!segment_inside_shell(&p, &u, 6.0, 1.0, 16.0));
-        // Stops before reaching it.
-        assert!(segment_inside_shell(&p, &u, 1.5, 1.0, 16.0));
-        // Leaves the outer sphere.
-        assert!(!segment_inside_shell(&p, &u, 7.5, 0.0, 16.0));
     }
 
     #[test]
