@@ -2,20 +2,26 @@
 //! polytrope, τ ≈ 2.3 × 10¹³), 10⁴ photons with the full escape-time distribution, on all
 //! cores, against the diffusion mean exit time of the same profile.
 //!
-//! `cargo run --release --example sun_like_benchmark [-- PHOTONS]`
+//! `cargo run --release --example sun_like_benchmark [-- PHOTONS [GAMMA [EPSILON]]]`
 
 use std::time::Instant;
 
 use sojourn::diffusion::estimate;
 use sojourn::medium::model_file::load_model;
 use sojourn::simulation::{RunConfig, run};
+use sojourn::transport::Acceleration;
 use sojourn::units::JULIAN_YEAR_S;
 
 fn main() {
-    let photons: u64 = std::env::args()
-        .nth(1)
-        .and_then(|a| a.parse().ok())
-        .unwrap_or(10_000);
+    let mut args = std::env::args().skip(1);
+    let photons: u64 = args.next().and_then(|a| a.parse().ok()).unwrap_or(10_000);
+    let mut acceleration = Acceleration::default();
+    if let Some(gamma) = args.next().and_then(|a| a.parse().ok()) {
+        acceleration.gamma = gamma;
+    }
+    if let Some(epsilon) = args.next().and_then(|a| a.parse().ok()) {
+        acceleration.epsilon = epsilon;
+    }
     let medium = load_model(std::path::Path::new("models/veyra-n3-sun-like.json"))
         .expect("the demo model loads");
     let reference = estimate(&medium);
@@ -25,6 +31,7 @@ fn main() {
         &RunConfig {
             photons,
             seed: 1,
+            acceleration,
             ..RunConfig::default()
         },
     );

@@ -20,7 +20,7 @@ use rand_distr::Exp1;
 
 use super::direction;
 use super::fresnel::{fresnel_reflectance, refract_across_z};
-use super::geometry::{Exit, plane_exit, shell_exit};
+use super::geometry::{Exit, plane_exit};
 use super::phase::PhaseFunction;
 use crate::medium::{Geometry, Medium, Source};
 use crate::tally::{Outcome, PhotonRecord};
@@ -402,25 +402,77 @@ impl DirectWalker {
     fn cross<R: Rng + ?Sized>(
         &self,
         photon: &mut Photon,
+        tau: f64,
+        rng: &mut R,
+    ) -> Option<Outcome> {
+        match self.geometry {
+            Geometry::Sphere => self.cross_shells(photon, tau),
+            Geometry::Slab => self.cross_planes(photon, tau, rng),
+        }
+    }
+
+    /// [`Self::cross`] in a sphere. Along the ray x(t) = c + t u, with c the point of
+    /// closest approach to the centre and h² = |c|² its squared distance, the radius is
+    /// r² = h² + t²: the distance to a shell boundary of radius ρ is √(ρ² − h²) − t outward,
+    /// −t − √(ρ² − h²) inward. The walk advances the scalar t across shells and moves the
+    /// photon once, at the end.
+    fn cross_shells(&self, photon: &mut Photon, mut tau: f64) -> Option<Outcome> {
+        let start = photon.position;
+        let u = photon.direction;
+        let b = start.dot(&u);
+        let impact_sq = (start.norm_squared() - b * b).max(0.0);
+        let mut along = b;
+        let mut travelled = 0.0;
+        let mut layer_index = photon.layer;
+        let outcome = loop {
+            let layer = &self.layers[layer_index];
+            let inward = along < 0.0 && layer.inner > impact_sq;
+            let distance = if inward {
+                -along - (layer.inner - impact_sq).sqrt()
+            } else {
+                (layer.outer - impact_sq).max(0.0).sqrt() - along
+            }
+            .max(0.0);
+            let tau_to_exit = layer.extinction_per_cm * distance;
+            if tau < tau_to_exit {
+                let s = tau * layer.mean_free_path_cm;
+                travelled += s;
+                photon.time_s += s * layer.slowness_s_cm;
+                break None;
+            }
+            tau -= tau_to_exit;
+            travelled += distance;
+            along += distance;
+            photon.time_s += distance * layer.slowness_s_cm;
+            if inward {
+                layer_index -= 1;
+            } else if layer_index + 1 == self.layers.len() {
+                break Some(Outcome::Escaped);
+            } else {
+                layer_index += 1;
+            }
+        };
+        photon.position = start + travelled * u;
+        photon.layer = layer_index;
+        outcome
+    }
+
+    /// [`Self::cross`] in a slab, with Fresnel reflection and Snell refraction at index
+    /// steps.
+    fn cross_planes<R: Rng + ?Sized>(
+        &self,
+        photon: &mut Photon,
         mut tau: f64,
         rng: &mut R,
     ) -> Option<Outcome> {
         loop {
             let layer = &self.layers[photon.layer];
-            let (distance, exit) = match self.geometry {
-                Geometry::Sphere => shell_exit(
-                    &photon.position,
-                    &photon.direction,
-                    layer.inner,
-                    layer.outer,
-                ),
-                Geometry::Slab => plane_exit(
-                    photon.position.z,
-                    photon.direction.z,
-                    layer.inner,
-                    layer.outer,
-                ),
-            };
+            let (distance, exit) = plane_exit(
+                photon.position.z,
+                photon.direction.z,
+                layer.inner,
+                layer.outer,
+            );
             let tau_to_exit = layer.extinction_per_cm * distance;
             if tau < tau_to_exit {
                 let s = tau * layer.mean_free_path_cm;
@@ -440,10 +492,7 @@ impl DirectWalker {
             }
             match exit {
                 Exit::Next if photon.layer + 1 == self.layers.len() => {
-                    return Some(match self.geometry {
-                        Geometry::Sphere => Outcome::Escaped,
-                        Geometry::Slab => Outcome::Transmitted,
-                    });
+                    return Some(Outcome::Transmitted);
                 }
                 Exit::Next => photon.layer += 1,
                 Exit::Previous if photon.layer == 0 => return Some(Outcome::Reflected),
@@ -466,6 +515,56 @@ fn clear_of_inner_sphere(p: &Vector3<f64>, u: &Vector3<f64>, s: f64, inner_sq: f
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::medium::Layer;
+
+    fn nearly_clear_sphere() -> DirectWalker {
+        // Core of radius 1 inside a sphere of radius 4; extinction so small that a flight
+        // of optical depth 1 crosses everything.
+        let layer = |sigma| Layer::new("", sigma, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
+        let medium = Medium::sphere(
+            vec![(1.0, layer(1e-9)), (4.0, layer(2e-9))],
+            Source::centre(),
+        )
+        .unwrap();
+        DirectWalker::new(&medium, WalkLimits::default())
+    }
+
+    fn photon(position: Vector3<f64>, direction: Vector3<f64>, layer: usize) -> Photon {
+        Photon {
+            position,
+            direction,
+            layer,
+            time_s: 0.0,
+            scatterings: 0.0,
+            steps: 0,
+        }
+    }
+
+    #[test]
+    fn a_ray_through_the_core_leaves_after_the_full_chord() {
+        let walker = nearly_clear_sphere();
+        // From (0, 0.5, 3) straight down: through the core, out at z = −√(16 − 0.25).
+        let mut p = photon(Vector3::new(0.0, 0.5, 3.0), Vector3::new(0.0, 0.0, -1.0), 1);
+        assert_eq!(walker.cross_shells(&mut p, 1.0), Some(Outcome::Escaped));
+        let chord = 3.0 + 15.75f64.sqrt();
+        assert!((p.time_s * SPEED_OF_LIGHT_CM_S / chord - 1.0).abs() < 1e-14);
+        assert!((p.position.z + 15.75f64.sqrt()).abs() < 1e-12);
+        // A ray that misses the core: from (0, 0, 3) along −x, out at x = −√7.
+        let mut p = photon(Vector3::new(0.0, 0.0, 3.0), Vector3::new(-1.0, 0.0, 0.0), 1);
+        assert_eq!(walker.cross_shells(&mut p, 1.0), Some(Outcome::Escaped));
+        assert!((p.time_s * SPEED_OF_LIGHT_CM_S / 7f64.sqrt() - 1.0).abs() < 1e-14);
+    }
+
+    #[test]
+    fn optical_depth_is_spent_layer_by_layer() {
+        let walker = nearly_clear_sphere();
+        // Down from z = 3: 2 cm in the envelope (τ = 4e-9), then into the core (1e-9/cm):
+        // τ = 5e-9 ends 1 cm further, at the centre.
+        let mut p = photon(Vector3::new(0.0, 0.0, 3.0), Vector3::new(0.0, 0.0, -1.0), 1);
+        assert_eq!(walker.cross_shells(&mut p, 5e-9), None);
+        assert_eq!(p.layer, 0);
+        assert!(p.position.z.abs() < 1e-6, "{}", p.position.z);
+    }
 
     #[test]
     fn inner_sphere_test_sees_the_core() {

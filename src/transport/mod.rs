@@ -6,8 +6,13 @@ mod direct;
 pub mod direction;
 pub mod fresnel;
 mod geometry;
+mod jump_spheres;
 mod phase;
+mod radial_chain;
+mod radial_passage;
+mod radial_profile;
 pub mod rng;
+mod tridiagonal;
 
 pub use accelerated::{AcceleratedWalker, Acceleration};
 pub use direct::{DirectWalker, WalkLimits};
