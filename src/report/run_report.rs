@@ -234,6 +234,10 @@ pub struct Comparison {
 /// How the walk went: method, absorption treatment and cost.
 #[derive(Debug, Clone, Serialize)]
 pub struct WalkSummary {
+    /// The walker that ran: "direct" or "accelerated" (what `auto` chose).
+    pub method_used: String,
+    /// Why that walker ([`crate::simulation::plan`]).
+    pub method_reason: String,
     /// Jump threshold γ in transport mean free paths (accelerated walks; null for direct).
     pub gamma: Option<f64>,
     /// Mean-free-path tolerance ε across a jump sphere (accelerated walks; null for direct).
@@ -309,7 +313,8 @@ impl RunReport {
         let launched = tally.launched().max(1) as f64;
         let walk = tally.walk();
         let total_time = walk.total_time_s.value();
-        let accelerated = config.method != Method::Direct;
+        let plan = crate::simulation::plan(medium, config);
+        let accelerated = plan.method == Method::Accelerated;
         let mut notes = vec!["absorption is analog: an absorbed photon ends its walk".to_string()];
         if medium.geometry() == Geometry::Sphere {
             notes.push(
@@ -360,6 +365,8 @@ impl RunReport {
             diffusion: DiffusionSummary::from(&estimate),
             comparison,
             walk: WalkSummary {
+                method_used: plan.method.name().to_string(),
+                method_reason: plan.reason,
                 gamma: accelerated.then_some(config.acceleration.gamma),
                 epsilon: accelerated.then_some(config.acceleration.epsilon),
                 drift_correction: accelerated.then_some(config.acceleration.drift_correction),

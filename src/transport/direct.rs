@@ -211,11 +211,6 @@ impl DirectWalker {
         !matches!(self.source, Source::Beam { .. } | Source::Diffuse)
     }
 
-    /// The phase function of layer `layer`.
-    pub(super) fn phase(&self, layer: usize) -> PhaseFunction {
-        self.layers[layer].phase
-    }
-
     /// A scattering at the photon's position into a direction drawn from the layer's phase
     /// function (the scattering itself is already counted).
     #[inline(always)]

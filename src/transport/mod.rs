@@ -1,6 +1,7 @@
 //! Photon transport: phase functions, random streams, direction sampling and the walkers.
 
 mod accelerated;
+mod cost;
 pub mod crossing;
 mod direct;
 pub mod direction;
@@ -15,5 +16,6 @@ pub mod rng;
 mod tridiagonal;
 
 pub use accelerated::{AcceleratedWalker, Acceleration};
+pub use cost::{STALL_ULPS, Stall, WalkCost};
 pub use direct::{DirectWalker, WalkLimits};
 pub use phase::PhaseFunction;

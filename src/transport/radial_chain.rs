@@ -38,13 +38,13 @@ use crate::units::SPEED_OF_LIGHT_CM_S;
 
 /// Settings the chain needs.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub(super) struct ChainSettings {
+pub(crate) struct ChainSettings {
     /// Smallest distance from a passage's start to its exits, transport mean free paths.
-    pub(super) gamma: f64,
+    pub(crate) gamma: f64,
     /// Largest change of l_tr over γ transport mean free paths where diffusion is trusted.
-    pub(super) epsilon: f64,
+    pub(crate) epsilon: f64,
     /// Extrapolation length of a first crossing, transport mean free paths.
-    pub(super) extrapolation: f64,
+    pub(crate) extrapolation: f64,
 }
 
 /// One passage as the walker applies it.
@@ -88,78 +88,143 @@ struct Shell {
     piece: Piece,
 }
 
-impl RadialChain {
-    /// The chain for a sphere (`medium` must be one); empty if no segment is thick enough.
-    pub(super) fn new(medium: &Medium, settings: ChainSettings) -> Self {
-        let shells: Vec<Shell> = medium
-            .layers()
-            .iter()
-            .enumerate()
-            .map(|(index, layer)| {
-                let (inner_cm, outer_cm) = medium.layer_bounds_cm(index);
-                let transport = layer.transport_extinction_per_cm();
-                let speed = SPEED_OF_LIGHT_CM_S / layer.refractive_index();
-                Shell {
-                    inner_cm,
-                    outer_cm,
-                    transport,
-                    piece: Piece {
-                        lower_cm: inner_cm,
-                        upper_cm: outer_cm,
-                        diffusion: if transport > 0.0 {
-                            speed / (3.0 * transport)
-                        } else {
-                            0.0
-                        },
-                        scattering_rate: speed * layer.scattering_per_cm(),
-                        absorption_rate: speed * layer.absorption_per_cm(),
-                    },
-                }
-            })
-            .collect();
-        let runs = trusted_runs(medium, &shells, settings);
-        let mut specs: Vec<(usize, usize, CellSpec)> = Vec::new();
-        let mut skeletons = Vec::new();
-        for (first, last) in runs {
-            if let Some((nodes, start_cells)) = place_nodes(&shells[first..=last], settings) {
-                let segment = skeletons.len();
-                let run = &shells[first..=last];
-                for &k in &start_cells {
-                    specs.push((segment, k, cell_spec(run, &nodes, k, settings)));
-                }
-                let centre = nodes[0] == 0.0;
-                let lowest = *start_cells.first().expect("a start cell");
-                let highest = *start_cells.last().expect("a start cell");
+/// Where radial passages start in a sphere: the segments' node radii and start domains,
+/// without the passage tables (cheap to compute, for cost estimates).
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct ChainLayout {
+    /// Per segment: first and last shell, node radii (cm), start cells, start domain (cm).
+    segments: Vec<SegmentLayout>,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+struct SegmentLayout {
+    first: usize,
+    last: usize,
+    nodes_cm: Vec<f64>,
+    start_cells: Vec<usize>,
+    start_cm: (f64, f64),
+}
+
+impl ChainLayout {
+    /// The layout for a sphere (`medium` must be one).
+    pub(crate) fn new(medium: &Medium, settings: ChainSettings) -> Self {
+        let shells = shells(medium);
+        let segments = trusted_runs(medium, &shells, settings)
+            .into_iter()
+            .filter_map(|(first, last)| {
+                let (nodes_cm, start_cells) = place_nodes(&shells[first..=last], settings)?;
+                let centre = nodes_cm[0] == 0.0;
+                let lowest = *start_cells.first()?;
+                let highest = *start_cells.last()?;
                 let start_cm = (
                     if centre && lowest == 0 {
                         0.0
                     } else {
-                        nodes[lowest]
+                        nodes_cm[lowest]
                     },
-                    nodes[highest + 1],
+                    nodes_cm[highest + 1],
                 );
-                skeletons.push((first, last, nodes, start_cm));
+                Some(SegmentLayout {
+                    first,
+                    last,
+                    nodes_cm,
+                    start_cells,
+                    start_cm,
+                })
+            })
+            .collect();
+        Self { segments }
+    }
+
+    /// Whether no passage can start anywhere.
+    pub(crate) fn is_empty(&self) -> bool {
+        self.segments.is_empty()
+    }
+
+    /// Number of node radii over all segments.
+    pub(crate) fn node_count(&self) -> usize {
+        self.segments.iter().map(|s| s.nodes_cm.len()).sum()
+    }
+
+    /// The radii (cm) between which passages start, per segment.
+    pub(crate) fn start_domains_cm(&self) -> Vec<(f64, f64)> {
+        self.segments.iter().map(|s| s.start_cm).collect()
+    }
+}
+
+/// The radial properties of every shell of a sphere.
+fn shells(medium: &Medium) -> Vec<Shell> {
+    medium
+        .layers()
+        .iter()
+        .enumerate()
+        .map(|(index, layer)| {
+            let (inner_cm, outer_cm) = medium.layer_bounds_cm(index);
+            let transport = layer.transport_extinction_per_cm();
+            let speed = SPEED_OF_LIGHT_CM_S / layer.refractive_index();
+            Shell {
+                inner_cm,
+                outer_cm,
+                transport,
+                piece: Piece {
+                    lower_cm: inner_cm,
+                    upper_cm: outer_cm,
+                    diffusion: if transport > 0.0 {
+                        speed / (3.0 * transport)
+                    } else {
+                        0.0
+                    },
+                    scattering_rate: speed * layer.scattering_per_cm(),
+                    absorption_rate: speed * layer.absorption_per_cm(),
+                },
             }
-        }
+        })
+        .collect()
+}
+
+impl RadialChain {
+    /// The chain for a sphere (`medium` must be one); empty if no segment is thick enough.
+    pub(super) fn new(medium: &Medium, settings: ChainSettings) -> Self {
+        let shells = shells(medium);
+        let layout = ChainLayout::new(medium, settings);
+        let specs: Vec<(usize, usize, CellSpec)> = layout
+            .segments
+            .iter()
+            .enumerate()
+            .flat_map(|(index, segment)| {
+                let run = &shells[segment.first..=segment.last];
+                segment
+                    .start_cells
+                    .iter()
+                    .map(move |&k| (index, k, cell_spec(run, &segment.nodes_cm, k, settings)))
+            })
+            .collect();
         let built: Vec<(usize, usize, PassageCell)> = specs
             .par_iter()
             .map(|(segment, k, spec)| (*segment, *k, PassageCell::new(spec)))
             .collect();
-        let mut segments: Vec<Segment> = skeletons
+        let mut segments: Vec<Segment> = layout
+            .segments
             .iter()
-            .map(|(_, _, nodes, start_cm)| Segment {
-                nodes_cm: nodes.clone(),
-                cells: vec![None; nodes.len() - 1],
-                start_cm: *start_cm,
+            .map(|s| Segment {
+                nodes_cm: s.nodes_cm.clone(),
+                cells: vec![None; s.nodes_cm.len() - 1],
+                start_cm: s.start_cm,
             })
             .collect();
         for (segment, k, cell) in built {
             segments[segment].cells[k] = Some(cell);
         }
         let mut start_domain = vec![None; shells.len()];
-        for (index, (first, last, _, (low, high))) in skeletons.iter().enumerate() {
-            for (layer, shell) in shells.iter().enumerate().take(last + 1).skip(*first) {
-                if shell.outer_cm > *low && shell.inner_cm < *high {
+        for (index, segment) in layout.segments.iter().enumerate() {
+            let (low, high) = segment.start_cm;
+            for (layer, shell) in shells
+                .iter()
+                .enumerate()
+                .take(segment.last + 1)
+                .skip(segment.first)
+            {
+                if shell.outer_cm > low && shell.inner_cm < high {
                     start_domain[layer] = Some((index, low * low, high * high));
                 }
             }
@@ -186,14 +251,6 @@ impl RadialChain {
     /// Whether the chain has any passage at all.
     pub(super) fn is_empty(&self) -> bool {
         self.segments.is_empty()
-    }
-
-    /// Number of cells with passage tables (for cost estimates and reports).
-    pub(super) fn cell_count(&self) -> usize {
-        self.segments
-            .iter()
-            .map(|s| s.cells.iter().filter(|c| c.is_some()).count())
-            .sum()
     }
 
     /// The squared radii between which passages start in layer `layer`, if any.

@@ -90,6 +90,7 @@ pub(super) struct PassageCell {
     /// Per side and start: E[absorptions; side] / E[T; side], 1/s.
     absorption_rate: [Vec<f64>; 2],
     /// Per side and start: E[T | side], s (for checks).
+    #[cfg(test)]
     mean_time_s: [Vec<f64>; 2],
     /// Centre cells: D in the ball below the first start radius, cm²/s.
     centre_diffusion: Option<f64>,
@@ -243,6 +244,7 @@ impl PassageCell {
         let mut cdf = [Vec::new(), Vec::new()];
         let mut scattering_rate = [Vec::new(), Vec::new()];
         let mut absorption_rate = [Vec::new(), Vec::new()];
+        #[cfg(test)]
         let mut mean_time_s = [Vec::new(), Vec::new()];
         for (s, &j) in starts.iter().enumerate() {
             let scale = 1.0 / masses[j - 1][0].sqrt();
@@ -268,11 +270,13 @@ impl PassageCell {
                     cdf[side].extend(std::iter::repeat_n(1.0, points));
                     scattering_rate[side].push(0.0);
                     absorption_rate[side].push(0.0);
+                    #[cfg(test)]
                     mean_time_s[side].push(0.0);
                     continue;
                 }
                 scattering_rate[side].push(moment(scatter) / mean);
                 absorption_rate[side].push(moment(absorb) / mean);
+                #[cfg(test)]
                 mean_time_s[side].push(mean / h);
                 let mut running: f64 = 0.0;
                 for m in 0..points {
@@ -294,6 +298,7 @@ impl PassageCell {
             tail_rate,
             scattering_rate,
             absorption_rate,
+            #[cfg(test)]
             mean_time_s,
             centre_diffusion: centre_piece.map(|p| p.diffusion),
             centre_rates: centre_piece
