@@ -4,6 +4,7 @@
 //!
 //! `cargo run --release --example drift_bias [-- PHOTONS]`
 
+#[allow(dead_code)]
 #[path = "../tests/support/profiles.rs"]
 mod profiles;
 

@@ -4,11 +4,14 @@
 //! escape-time histograms with its asymptotic p-value. Prints the table quoted in the
 //! README.
 //!
-//! `cargo run --release --example validate_acceleration [-- PHOTONS [CASES [GAMMA [EPSILON]]]]`
+//! `cargo run --release --example validate_acceleration [-- PHOTONS [CASES [GAMMA [EPSILON [ACCELERATED_PHOTONS]]]]]`
 //!
 //! CASES is a comma-separated list of case numbers (default: all); GAMMA and EPSILON
-//! override the acceleration defaults.
+//! override the acceleration defaults; ACCELERATED_PHOTONS (default PHOTONS) sets the
+//! accelerated walker's photons apart. With `SOJOURN_VALIDATION_CACHE=DIR` the direct
+//! walks' tallies are kept in DIR and reused by later runs with the same case and photons.
 
+#[allow(dead_code)]
 #[path = "../tests/support/profiles.rs"]
 mod profiles;
 
@@ -17,7 +20,7 @@ use std::time::Instant;
 use sojourn::diffusion::ks::{kolmogorov_p_value, two_sample_ks_binned};
 use sojourn::medium::{Layer, Medium, Source};
 use sojourn::simulation::{Method, RunConfig, run};
-use sojourn::tally::PathStats;
+use sojourn::tally::{PathStats, Tally};
 use sojourn::transport::{Acceleration, PhaseFunction};
 
 fn phase(g: f64) -> PhaseFunction {
@@ -35,13 +38,15 @@ fn two_zone() -> Medium {
     Medium::sphere(vec![(0.3, core), (3.3, envelope)], Source::centre()).expect("valid")
 }
 
-/// Escapes of one run and (steps per photon, seconds).
+/// Escapes of one run and (steps per photon, seconds). Direct runs are cached in
+/// `SOJOURN_VALIDATION_CACHE` if set (`case` names the file).
 fn escapes(
     medium: &Medium,
     method: Method,
     photons: u64,
     seed: u64,
     acceleration: Acceleration,
+    case: usize,
 ) -> (PathStats, f64, f64) {
     let config = RunConfig {
         photons,
@@ -50,9 +55,35 @@ fn escapes(
         acceleration,
         ..RunConfig::default()
     };
+    let cache = std::env::var_os("SOJOURN_VALIDATION_CACHE")
+        .filter(|_| method == Method::Direct)
+        .map(|dir| {
+            std::path::PathBuf::from(dir).join(format!("case{case}-{photons}-seed{seed}.json"))
+        });
+    let cached: Option<(Tally, f64)> = cache
+        .as_ref()
+        .and_then(|path| std::fs::read_to_string(path).ok())
+        .and_then(|text| serde_json::from_str(&text).ok());
     let started = Instant::now();
-    let result = run(medium, &config);
-    let seconds = started.elapsed().as_secs_f64();
+    let (tally, seconds) = match cached {
+        Some((mut tally, seconds)) => {
+            tally.repair_after_load();
+            (tally, seconds)
+        }
+        None => {
+            let tally = run(medium, &config).tally;
+            let seconds = started.elapsed().as_secs_f64();
+            if let Some(path) = &cache {
+                let text = serde_json::to_string(&(&tally, seconds)).expect("tally serialises");
+                std::fs::write(path, text).expect("cache directory writable");
+            }
+            (tally, seconds)
+        }
+    };
+    let result = sojourn::simulation::RunResult {
+        tally,
+        elapsed_s: seconds,
+    };
     let walk = result.tally.walk();
     let steps = walk.direct_steps.value() + walk.jumps.value();
     (result.tally.all_escapes(), steps / photons as f64, seconds)
@@ -79,6 +110,7 @@ fn main() {
     if let Some(epsilon) = args.next().and_then(|a| a.parse().ok()) {
         acceleration.epsilon = epsilon;
     }
+    let accelerated_photons: u64 = args.next().and_then(|a| a.parse().ok()).unwrap_or(photons);
     let cases: Vec<(&str, Box<dyn Fn() -> Medium>)> = vec![
         (
             "uniform sphere τ = 30",
@@ -118,7 +150,7 @@ fn main() {
         ),
     ];
     println!(
-        "{photons} photons per walker, seeds 1 (direct) and 2 (accelerated); γ = {}, ε = {}",
+        "{photons} direct and {accelerated_photons} accelerated photons, seeds 1 and 2; γ = {}, ε = {}",
         acceleration.gamma, acceleration.epsilon
     );
     println!(
@@ -131,9 +163,15 @@ fn main() {
         }
         let medium = build();
         let (direct, direct_steps, direct_s) =
-            escapes(&medium, Method::Direct, photons, 1, acceleration);
-        let (fast, fast_steps, fast_s) =
-            escapes(&medium, Method::Accelerated, photons, 2, acceleration);
+            escapes(&medium, Method::Direct, photons, 1, acceleration, index);
+        let (fast, fast_steps, fast_s) = escapes(
+            &medium,
+            Method::Accelerated,
+            accelerated_photons,
+            2,
+            acceleration,
+            index,
+        );
         let (time, time_sigma) = ratio(&fast.time_s, &direct.time_s);
         let (scatterings, scatterings_sigma) = ratio(&fast.scatterings, &direct.scatterings);
         let d = two_sample_ks_binned(

@@ -17,7 +17,6 @@
 use nalgebra::Vector3;
 use rand::{Rng, RngExt};
 
-use super::crossing::CrossingLaw;
 use super::direct::{DirectWalker, JumpSites, Photon, Stop, WalkLimits};
 use super::direction;
 use super::jump_spheres::{JumpOutcome, LocalJumps, LocalSettings};
@@ -76,7 +75,6 @@ impl AcceleratedWalker {
                 ChainSettings {
                     gamma: settings.gamma,
                     epsilon: settings.epsilon,
-                    extrapolation: CrossingLaw::isotropic().extrapolation_length(),
                 },
             )),
             Geometry::Slab => Jumps::Local(LocalJumps::new(
@@ -182,7 +180,7 @@ impl Jumper for LocalJumps {
         incoming: Option<&Vector3<f64>>,
         rng: &mut R,
     ) -> Option<JumpOutcome> {
-        LocalJumps::jump(self, photon, incoming, CrossingLaw::isotropic(), rng)
+        LocalJumps::jump(self, photon, incoming, rng)
     }
 }
 
@@ -235,7 +233,7 @@ impl Jumper for Radial<'_> {
             .partition_point(|&b| b <= radius)
             .min(self.boundaries_cm.len() - 1);
         let axis = if passage.outward { normal } else { -normal };
-        let cosine = CrossingLaw::isotropic().sample_cosine(rng);
+        let cosine = transition.exit_law.sample_cosine(rng);
         photon.direction = direction::scatter(&axis, cosine, rng);
         Some(JumpOutcome {
             elapsed_s: passage.time_s,

@@ -133,7 +133,6 @@ fn sphere_direct_zones(medium: &Medium, settings: &Acceleration) -> (Vec<bool>, 
         ChainSettings {
             gamma: settings.gamma,
             epsilon: settings.epsilon,
-            extrapolation: CrossingLaw::isotropic().extrapolation_length(),
         },
     );
     if layout.is_empty() {
@@ -225,7 +224,7 @@ fn slab_direct_zones(
     settings: &Acceleration,
     scatterings: &[f64],
 ) -> (Vec<bool>, f64, f64) {
-    let local = LocalJumps::new(
+    let local = LocalJumps::layout(
         medium,
         LocalSettings {
             gamma: settings.gamma,

@@ -14,9 +14,11 @@
 //! a different route from the iterative solver the test suite uses to check it.
 
 use std::f64::consts::PI;
-use std::sync::OnceLock;
+use std::sync::{Arc, Mutex, OnceLock};
 
 use rand::{Rng, RngExt};
+
+use super::phase::PhaseFunction;
 
 /// Number of intervals of the tabulated cumulative distribution.
 const TABLE_INTERVALS: usize = 512;
@@ -102,6 +104,24 @@ impl CrossingLaw {
         }
     }
 
+    /// The law for conservative scattering with phase function `phase`: the Milne emergent
+    /// intensity computed by doubling ([`super::milne`]); μ H(μ) in closed form for
+    /// isotropic scattering. Henyey–Greenstein with |g| > 0.9 is too peaked for the
+    /// 64-node quadrature and gets the isotropic law (its mean, the extrapolation length,
+    /// still matches the time law, which is what the walk's consistency needs).
+    pub fn for_phase(phase: &PhaseFunction) -> CrossingLaw {
+        match *phase {
+            PhaseFunction::Isotropic => CrossingLaw::isotropic().clone(),
+            PhaseFunction::HenyeyGreenstein { g } if g.abs() > 0.9 => {
+                CrossingLaw::isotropic().clone()
+            }
+            _ => {
+                let (mu, u) = super::milne::emergent_intensity(phase);
+                CrossingLaw::from_intensity(|m| interpolate(&mu, &u, m))
+            }
+        }
+    }
+
     /// The law for conservative isotropic scattering: μ H(μ).
     pub fn isotropic() -> &'static CrossingLaw {
         static LAW: OnceLock<CrossingLaw> = OnceLock::new();
@@ -125,6 +145,48 @@ impl CrossingLaw {
         let fraction = if c1 > c0 { (u - c0) / (c1 - c0) } else { 0.5 };
         (m0 + fraction * (m1 - m0)).clamp(1e-12, 1.0)
     }
+}
+
+/// The crossing laws of a medium's layers: the distinct laws, and per layer the index of
+/// its law. Laws are computed once per phase function and process, and shared.
+pub(crate) fn laws_of(
+    phases: impl Iterator<Item = PhaseFunction>,
+) -> (Vec<Arc<CrossingLaw>>, Vec<usize>) {
+    static CACHE: OnceLock<Mutex<Vec<(PhaseFunction, Arc<CrossingLaw>)>>> = OnceLock::new();
+    let cache = CACHE.get_or_init(|| Mutex::new(Vec::new()));
+    let mut laws: Vec<(PhaseFunction, Arc<CrossingLaw>)> = Vec::new();
+    let indices = phases
+        .map(|phase| {
+            if let Some(k) = laws.iter().position(|(p, _)| *p == phase) {
+                return k;
+            }
+            let known = cache
+                .lock()
+                .expect("crossing-law cache")
+                .iter()
+                .find(|(p, _)| *p == phase)
+                .map(|(_, law)| Arc::clone(law));
+            let law = known.unwrap_or_else(|| {
+                let law = Arc::new(CrossingLaw::for_phase(&phase));
+                cache
+                    .lock()
+                    .expect("crossing-law cache")
+                    .push((phase, Arc::clone(&law)));
+                law
+            });
+            laws.push((phase, law));
+            laws.len() - 1
+        })
+        .collect();
+    (laws.into_iter().map(|(_, law)| law).collect(), indices)
+}
+
+/// Linear interpolation of `values` at `nodes` (ascending), extended linearly beyond the
+/// first and last node.
+fn interpolate(nodes: &[f64], values: &[f64], x: f64) -> f64 {
+    let k = nodes.partition_point(|&n| n <= x).clamp(1, nodes.len() - 1);
+    let (x0, x1) = (nodes[k - 1], nodes[k]);
+    values[k - 1] + (x - x0) / (x1 - x0) * (values[k] - values[k - 1])
 }
 
 /// Draws the cosine between the crossing direction and the outward normal of a sphere, for
@@ -166,6 +228,17 @@ mod tests {
             / samples as f64;
         // Standard deviation of μ is below 0.3: 4σ = 4 · 0.3 / √200000 = 0.0027.
         assert!((mean - expected).abs() < 0.0027, "{mean} vs {expected}");
+    }
+
+    #[test]
+    #[ignore]
+    fn print_extrapolation_lengths() {
+        for g in [0.0, 0.3, 0.5, 0.7, 0.8, 0.9, -0.5] {
+            let law = CrossingLaw::for_phase(&PhaseFunction::HenyeyGreenstein { g });
+            println!("g = {g}: q = {}", law.extrapolation_length());
+        }
+        let law = CrossingLaw::for_phase(&PhaseFunction::Rayleigh);
+        println!("Rayleigh: q = {}", law.extrapolation_length());
     }
 
     #[test]

@@ -24,7 +24,9 @@
 use nalgebra::Vector3;
 use rand::{Rng, RngExt};
 
-use super::crossing::CrossingLaw;
+use std::sync::Arc;
+
+use super::crossing::{CrossingLaw, laws_of};
 use super::direct::Photon;
 use super::direction;
 use crate::diffusion::first_passage;
@@ -65,6 +67,8 @@ struct JumpRegion {
     absorption_rate: f64,
     /// g l_tr, cm: the displacement memory of an anisotropic scattering.
     persistence_cm: f64,
+    /// Index of the layer's crossing law.
+    law: usize,
 }
 
 /// How one jump ended.
@@ -83,16 +87,31 @@ pub(super) struct LocalJumps {
     boundaries_cm: Vec<f64>,
     regions: Vec<JumpRegion>,
     settings: LocalSettings,
+    /// The distinct crossing laws of the layers (empty where only the cost is wanted).
+    laws: Vec<Arc<CrossingLaw>>,
 }
 
 impl LocalJumps {
-    /// The jumps for `medium`.
+    /// The jumps for `medium`, with the crossing law of each layer's phase function.
     pub(super) fn new(medium: &Medium, settings: LocalSettings) -> Self {
+        let (laws, law_of_layer) = laws_of(medium.layers().iter().map(|layer| *layer.phase()));
+        let mut jumps = Self::layout(medium, settings);
+        for (region, law) in jumps.regions.iter_mut().zip(law_of_layer) {
+            region.law = law;
+        }
+        jumps.laws = laws;
+        jumps
+    }
+
+    /// Where the jumps apply, without the crossing laws (for cost estimates; `jump` must
+    /// not be called on it).
+    pub(super) fn layout(medium: &Medium, settings: LocalSettings) -> Self {
         Self {
             geometry: medium.geometry(),
             boundaries_cm: medium.boundaries_cm().to_vec(),
             regions: jump_regions(medium, settings.epsilon),
             settings,
+            laws: Vec::new(),
         }
     }
 
@@ -151,11 +170,11 @@ impl LocalJumps {
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
-        crossing: &CrossingLaw,
         rng: &mut R,
     ) -> Option<JumpOutcome> {
         let (radius_cm, coordinate) = self.jump_radius(&photon.position, photon.layer)?;
         let region = &self.regions[photon.layer];
+        let crossing = &self.laws[region.law];
         let diffusion = (region.diffusion_mid
             + region.diffusion_slope * (coordinate - region.mid_cm))
             .max(0.5 * region.diffusion_mid);
@@ -295,6 +314,7 @@ fn jump_regions(medium: &Medium, epsilon: f64) -> Vec<JumpRegion> {
                 } else {
                     0.0
                 },
+                law: 0,
             }
         })
         .collect()

@@ -8,6 +8,7 @@ pub mod direction;
 pub mod fresnel;
 mod geometry;
 mod jump_spheres;
+mod milne;
 mod phase;
 mod radial_chain;
 mod radial_passage;

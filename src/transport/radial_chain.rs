@@ -31,6 +31,9 @@ use nalgebra::Vector3;
 use rand::Rng;
 use rayon::prelude::*;
 
+use std::sync::Arc;
+
+use super::crossing::{CrossingLaw, laws_of};
 use super::radial_passage::{CellSpec, Passage, PassageCell};
 use super::radial_profile::Piece;
 use crate::medium::Medium;
@@ -43,15 +46,15 @@ pub(crate) struct ChainSettings {
     pub(crate) gamma: f64,
     /// Largest change of l_tr over γ transport mean free paths where diffusion is trusted.
     pub(crate) epsilon: f64,
-    /// Extrapolation length of a first crossing, transport mean free paths.
-    pub(crate) extrapolation: f64,
 }
 
 /// One passage as the walker applies it.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub(super) struct Transition {
+#[derive(Debug, Clone, Copy)]
+pub(super) struct Transition<'a> {
     /// Radius of the exit node reached, cm.
     pub(super) exit_radius_cm: f64,
+    /// The crossing law at the exit (of the shell the photon crosses it from).
+    pub(super) exit_law: &'a CrossingLaw,
     /// The passage itself (side, time, scatterings, absorption hazard).
     pub(super) passage: Passage,
 }
@@ -76,6 +79,12 @@ pub(super) struct RadialChain {
     start_domain: Vec<Option<(usize, f64, f64)>>,
     /// Per layer: g l_tr, cm (the displacement memory of an anisotropic scattering).
     persistence_cm: Vec<f64>,
+    /// The distinct crossing laws of the layers.
+    laws: Vec<Arc<CrossingLaw>>,
+    /// Per layer: the index of its crossing law.
+    law_of_layer: Vec<usize>,
+    /// Outer radius of each layer, cm.
+    boundaries_cm: Vec<f64>,
 }
 
 /// The radial properties of one shell.
@@ -187,16 +196,27 @@ impl RadialChain {
     pub(super) fn new(medium: &Medium, settings: ChainSettings) -> Self {
         let shells = shells(medium);
         let layout = ChainLayout::new(medium, settings);
+        let (laws, law_of_layer) = laws_of(medium.layers().iter().map(|layer| *layer.phase()));
+        // Extrapolation length per shell, cm: q l_tr with q the mean crossing cosine.
+        let extrapolation_cm: Vec<f64> = shells
+            .iter()
+            .zip(&law_of_layer)
+            .map(|(shell, &law)| laws[law].extrapolation_length() / shell.transport)
+            .collect();
         let specs: Vec<(usize, usize, CellSpec)> = layout
             .segments
             .iter()
             .enumerate()
             .flat_map(|(index, segment)| {
                 let run = &shells[segment.first..=segment.last];
-                segment
-                    .start_cells
-                    .iter()
-                    .map(move |&k| (index, k, cell_spec(run, &segment.nodes_cm, k, settings)))
+                let extrapolation = &extrapolation_cm[segment.first..=segment.last];
+                segment.start_cells.iter().map(move |&k| {
+                    (
+                        index,
+                        k,
+                        cell_spec(run, extrapolation, &segment.nodes_cm, k),
+                    )
+                })
             })
             .collect();
         let built: Vec<(usize, usize, PassageCell)> = specs
@@ -245,6 +265,9 @@ impl RadialChain {
             segments,
             start_domain,
             persistence_cm,
+            laws,
+            law_of_layer,
+            boundaries_cm: medium.boundaries_cm().to_vec(),
         }
     }
 
@@ -273,7 +296,7 @@ impl RadialChain {
         layer: usize,
         incoming: Option<&Vector3<f64>>,
         rng: &mut R,
-    ) -> Option<Transition> {
+    ) -> Option<Transition<'_>> {
         let (index, _, _) = self.start_domain[layer]?;
         let effective = match incoming {
             Some(u) if self.persistence_cm[layer] != 0.0 => {
@@ -301,8 +324,16 @@ impl RadialChain {
         } else {
             inner.expect("a passage without an inner exit is always outward")
         };
+        // The shell the photon crosses the exit from: below it going out, above it going in.
+        let from = if passage.outward {
+            self.boundaries_cm.partition_point(|&b| b < exit_radius_cm)
+        } else {
+            self.boundaries_cm.partition_point(|&b| b <= exit_radius_cm)
+        }
+        .min(self.boundaries_cm.len() - 1);
         Some(Transition {
             exit_radius_cm,
+            exit_law: &self.laws[self.law_of_layer[from]],
             passage,
         })
     }
@@ -405,29 +436,30 @@ fn place_nodes(run: &[Shell], settings: ChainSettings) -> Option<(Vec<f64>, Vec<
 }
 
 /// The first-passage problem of start cell `k`: exits at nodes k − 1 and k + 2 (no inner
-/// exit at the centre), widened by the extrapolation length.
-fn cell_spec(run: &[Shell], nodes: &[f64], k: usize, settings: ChainSettings) -> CellSpec {
+/// exit at the centre), each widened by the extrapolation length of its shell
+/// (`extrapolation_cm`, per shell of `run`).
+fn cell_spec(run: &[Shell], extrapolation_cm: &[f64], nodes: &[f64], k: usize) -> CellSpec {
     let centre = nodes[0] == 0.0;
-    let shell_at = |radius: f64, above: bool| -> &Shell {
-        let index = run.partition_point(|s| {
+    let shell_index = |radius: f64, above: bool| -> usize {
+        run.partition_point(|s| {
             if above {
                 s.outer_cm <= radius
             } else {
                 s.outer_cm < radius
             }
-        });
-        &run[index.min(run.len() - 1)]
+        })
+        .min(run.len() - 1)
     };
+    let shell_at = |radius: f64, above: bool| -> &Shell { &run[shell_index(radius, above)] };
     let inner = if k == 0 || (k == 1 && centre) {
         None
     } else {
         let a = nodes[k - 1];
-        let shell = shell_at(a, true);
-        Some((a, (a - settings.extrapolation / shell.transport).max(0.0)))
+        Some((a, (a - extrapolation_cm[shell_index(a, true)]).max(0.0)))
     };
     let b = nodes[k + 2];
     let top = shell_at(b, false);
-    let b_extrapolated = b + settings.extrapolation / top.transport;
+    let b_extrapolated = b + extrapolation_cm[shell_index(b, false)];
     let from = inner.map_or(0.0, |(a, _)| a);
     let mut pieces: Vec<Piece> = run
         .iter()
