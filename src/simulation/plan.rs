@@ -36,6 +36,8 @@ pub struct WalkPlan {
     pub cost: WalkCost,
     /// Estimated steps per photon of the walker that runs.
     pub steps_per_photon: f64,
+    /// The step cap per photon, which bounds the run's cost.
+    pub max_steps: u64,
     /// Layers where that walker's flights stall.
     pub stalls: Vec<Stall>,
 }
@@ -67,9 +69,9 @@ pub enum PlanError {
     /// The estimated cost is past the limit.
     #[error(
         "the {method} walk is estimated at {steps_per_photon:.3e} steps per photon \
-         ({basis}), {total_steps:.3e} for {photons} photons, about {core_hours:.3e} \
-         core-hours at {STEPS_PER_CORE_SECOND:.0e} steps per second: above the limit of \
-         {LONG_RUN_STEPS:.0e} steps for one run"
+         ({basis}){cap_note}, {total_steps:.3e} for {photons} photons, about \
+         {core_hours:.3e} core-hours at {STEPS_PER_CORE_SECOND:.0e} steps per second: above \
+         the limit of {LONG_RUN_STEPS:.0e} steps for one run"
     )]
     TooLong {
         /// The walker that would run.
@@ -78,6 +80,8 @@ pub enum PlanError {
         basis: &'static str,
         /// Estimated steps per photon.
         steps_per_photon: f64,
+        /// Empty, or how the step cap bounds the run (photons reaching it are censored).
+        cap_note: String,
         /// Photons asked for.
         photons: u64,
         /// Estimated steps of the whole run.
@@ -88,9 +92,9 @@ pub enum PlanError {
 }
 
 impl WalkPlan {
-    /// Estimated steps of `photons` photons.
+    /// Estimated steps of `photons` photons, each at most the step cap.
     pub fn total_steps(&self, photons: u64) -> f64 {
-        self.steps_per_photon * photons as f64
+        self.steps_per_photon.min(self.max_steps as f64) * photons as f64
     }
 
     /// Refuses a run of `photons` photons that cannot progress, or (unless
@@ -120,6 +124,14 @@ impl WalkPlan {
                 _ => "diffusion estimate of the flights outside the jump regions",
             },
             steps_per_photon: self.steps_per_photon,
+            cap_note: if self.steps_per_photon > self.max_steps as f64 {
+                format!(
+                    "; the step cap stops each photon at {:.0e} steps (a censored photon)",
+                    self.max_steps as f64
+                )
+            } else {
+                String::new()
+            },
             photons,
             total_steps,
             core_hours: total_steps / STEPS_PER_CORE_SECOND / 3600.0,
@@ -197,6 +209,7 @@ pub fn plan(medium: &Medium, config: &RunConfig) -> WalkPlan {
         reason,
         cost,
         steps_per_photon,
+        max_steps: config.limits.max_steps,
         stalls,
     }
 }

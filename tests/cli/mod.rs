@@ -12,3 +12,4 @@ mod scale_support;
 mod shards;
 mod star_command;
 mod sweeps;
+mod walk_plan;

@@ -47,7 +47,14 @@ fn ks_p_value(a: &PathStats, b: &PathStats) -> f64 {
 /// Compares accelerated and direct escapes: mean time and mean scatterings within
 /// `sigmas` standard errors of their ratio (and within `allowance` of 1), and the
 /// two-sample KS p-value above `p_min`.
-fn agree(what: &str, direct: &PathStats, fast: &PathStats, sigmas: f64, allowance: f64, p_min: f64) {
+fn agree(
+    what: &str,
+    direct: &PathStats,
+    fast: &PathStats,
+    sigmas: f64,
+    allowance: f64,
+    p_min: f64,
+) {
     for (quantity, d, f) in [
         ("mean time", &direct.time_s, &fast.time_s),
         ("mean scatterings", &direct.scatterings, &fast.scatterings),
@@ -121,7 +128,14 @@ fn absorbing_sphere_matches_direct() {
     let (pd, ed) = direct.fraction(direct.escaped());
     let (pf, ef) = fast.fraction(fast.escaped());
     assert!(pd < 0.99, "the sphere absorbs: escape fraction {pd}");
-    assert_within("escape fraction", pf, pd, (ed * ed + ef * ef).sqrt(), 4.0, 0.0);
+    assert_within(
+        "escape fraction",
+        pf,
+        pd,
+        (ed * ed + ef * ef).sqrt(),
+        4.0,
+        0.0,
+    );
     agree(
         "albedo 0.999",
         &direct.all_escapes(),
@@ -352,7 +366,13 @@ fn acceptance(what: &str, medium: &Medium, direct_photons: u64, fast_photons: u6
 fn steep_profile_acceptance() {
     // One profile layer, 0…1 cm in 200 steps, opacity 1, density 1200.4027 e^(−8r):
     // τ = 150.02, centred source. Means within 0.15 %, KS not significant (p > 0.01).
-    acceptance("steep profile", &steep_profile_sphere(), 1_000_000, 1_000_000, 0.0015);
+    acceptance(
+        "steep profile",
+        &steep_profile_sphere(),
+        1_000_000,
+        1_000_000,
+        0.0015,
+    );
 }
 
 #[test]
@@ -360,7 +380,13 @@ fn steep_profile_acceptance() {
 fn off_centre_uniform_sphere_acceptance() {
     // τ = 20, source at R/2: within 0.1 %.
     let medium = uniform_sphere_from(20.0, PhaseFunction::Isotropic, 0.5);
-    acceptance("uniform τ = 20, r0 = R/2", &medium, 4_000_000, 4_000_000, 0.001);
+    acceptance(
+        "uniform τ = 20, r0 = R/2",
+        &medium,
+        4_000_000,
+        4_000_000,
+        0.001,
+    );
 }
 
 #[test]
@@ -368,5 +394,11 @@ fn off_centre_uniform_sphere_acceptance() {
 fn anisotropic_off_centre_sphere_acceptance() {
     // HG g = 0.5, τ = 100, source at R/2: within 0.1 %.
     let medium = uniform_sphere_from(100.0, PhaseFunction::henyey_greenstein(0.5).unwrap(), 0.5);
-    acceptance("HG g = 0.5, τ = 100, r0 = R/2", &medium, 2_000_000, 4_000_000, 0.001);
+    acceptance(
+        "HG g = 0.5, τ = 100, r0 = R/2",
+        &medium,
+        2_000_000,
+        4_000_000,
+        0.001,
+    );
 }
