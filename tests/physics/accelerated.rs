@@ -13,7 +13,7 @@ use sojourn::transport::{Acceleration, PhaseFunction};
 use sojourn::units::SPEED_OF_LIGHT_CM_S;
 
 use crate::support::profiles::{exponential_sphere, steep_profile_sphere, uniform_sphere_from};
-use crate::support::{assert_within, layer, run_method, uniform_sphere};
+use crate::support::{assert_within, layer, radial_diffusion, run_method, uniform_sphere};
 
 /// Escapes of `photons` photons with `method` and `seed`, after checking that the
 /// accelerated walk really jumped.
@@ -343,6 +343,73 @@ fn sun_like_polytrope_matches_the_profile_diffusion_time() {
         (mean / reference - 1.0).abs() < 0.01,
         "{mean} vs {reference}"
     );
+}
+
+#[test]
+fn uniform_sphere_quantiles_match_the_crank_nicolson_reference() {
+    // Check of the independent reference itself: a uniform sphere, 200 shells, against the
+    // exact first-passage law with the extrapolated radius (Krapivsky, Redner & Ben-Naim
+    // 2010, problem 2.21): quantiles within 0.5 %.
+    let tau = 1e3;
+    let shells: Vec<(f64, Layer)> = (1..=200)
+        .map(|k| (k as f64 / 200.0, layer(tau, 1.0, PhaseFunction::Isotropic)))
+        .collect();
+    let medium = Medium::sphere(shells, Source::centre())
+        .unwrap()
+        .with_smooth_boundaries(0..200);
+    let l = 1.0 / tau;
+    let radius = 1.0 + MILNE_EXTRAPOLATION_LENGTH * l;
+    let diffusion = SPEED_OF_LIGHT_CM_S * l / 3.0;
+    let scale = radius * radius / diffusion;
+    let probabilities = [0.05, 0.5, 0.95];
+    let reference = radial_diffusion::centre_escape_quantiles(
+        &medium,
+        &probabilities,
+        0.01 * scale,
+        1.0 * scale,
+        400,
+    );
+    for (p, q) in probabilities.iter().zip(&reference) {
+        let exact = first_passage::quantile(*p) * scale;
+        assert!((q / exact - 1.0).abs() < 0.005, "p = {p}: {q} vs {exact}");
+    }
+}
+
+#[test]
+fn sun_like_escape_time_quantiles_match_radial_diffusion() {
+    // Veyra: the 5/50/95 % quantiles of 4·10⁴ Monte Carlo escape times against the
+    // Crank–Nicolson solution of radial diffusion on the same shells. Tolerance: 4σ of a
+    // quantile (σ ≈ √(p(1−p)/n) / f(q), f from the reference CDF) plus the 0.6 % width of
+    // the tally's logarithmic histogram bins.
+    let path = std::path::Path::new("models/veyra-n3-sun-like.json");
+    let medium = sojourn::medium::model_file::load_model(path).unwrap();
+    let photons = 40_000;
+    let escapes = run_method(&medium, photons, 73, Method::Auto)
+        .tally
+        .all_escapes();
+    let year = sojourn::units::JULIAN_YEAR_S;
+    let probabilities = [0.04, 0.05, 0.06, 0.49, 0.5, 0.51, 0.94, 0.95, 0.96];
+    let reference = radial_diffusion::centre_escape_quantiles(
+        &medium,
+        &probabilities,
+        1e4 * year,
+        2e6 * year,
+        600,
+    );
+    for k in [1, 4, 7] {
+        let p = probabilities[k];
+        let density_inverse = (reference[k + 1] - reference[k - 1]) / 0.02;
+        let sigma = (p * (1.0 - p) / photons as f64).sqrt() * density_inverse;
+        let measured = escapes.time_histogram.quantile(p).unwrap();
+        assert_within(
+            &format!("quantile {p}"),
+            measured,
+            reference[k],
+            sigma,
+            4.0,
+            0.006 * reference[k],
+        );
+    }
 }
 
 /// The acceptance checks: accelerated against direct with `direct_photons` and
