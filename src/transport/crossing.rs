@@ -202,7 +202,8 @@ mod tests {
     #[test]
     fn closed_form_h_matches_published_values() {
         // Conservative isotropic scattering: H(1) = 2.90781; H(0.5)/H(1) = 0.6922 and
-        // H(0)/H(1) = 0.3439 (Chandrasekhar 1950; ../shared/REFERENCES.md item 2).
+        // H(0)/H(1) = 0.3439 (Chandrasekhar 1950, Radiative Transfer, ch. V, table of H for
+        // ω = 1; docs/references.md).
         let h1 = conservative_h(1.0);
         assert!((h1 - 2.90781).abs() < 2e-5, "H(1) = {h1}");
         assert!((conservative_h(0.5) / h1 - 0.6922).abs() < 1e-4);
@@ -211,7 +212,8 @@ mod tests {
 
     #[test]
     fn mean_crossing_cosine_matches_the_moments_of_h() {
-        // <μ> = ∫ μ² H / ∫ μ H. ∫ μ H = 2/√3 (REFERENCES item 2); compute ∫ μ² H directly.
+        // <μ> = ∫ μ² H / ∫ μ H. ∫ μ H = 2/√3 (Chandrasekhar 1950, ch. V, the moment α₁ for
+        // ω = 1); compute ∫ μ² H directly.
         let n = 2000;
         let second: f64 = (0..n)
             .map(|k| {
@@ -231,20 +233,9 @@ mod tests {
     }
 
     #[test]
-    #[ignore]
-    fn print_extrapolation_lengths() {
-        for g in [0.0, 0.3, 0.5, 0.7, 0.8, 0.9, -0.5] {
-            let law = CrossingLaw::for_phase(&PhaseFunction::HenyeyGreenstein { g });
-            println!("g = {g}: q = {}", law.extrapolation_length());
-        }
-        let law = CrossingLaw::for_phase(&PhaseFunction::Rayleigh);
-        println!("Rayleigh: q = {}", law.extrapolation_length());
-    }
-
-    #[test]
     fn mean_crossing_cosine_is_the_milne_extrapolation_length() {
         // q∞ = α₂/α₁ = 0.7104461 for conservative isotropic scattering (Chandrasekhar 1950,
-        // § 39; REFERENCES item 2).
+        // § 39).
         let q = CrossingLaw::isotropic().extrapolation_length();
         assert!((q - 0.7104461).abs() < 2e-6, "{q}");
     }

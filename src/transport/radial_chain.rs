@@ -15,8 +15,8 @@
 //! start domain excludes the outermost cell at each exit end, γ thick) diffuses until it
 //! first reaches node k − 1 or node k + 2. So every passage starts at least γ transport mean
 //! free paths from where it can end, and a walk from the centre of a star to its surface
-//! needs a few passages per doubling of the depth, about 3 log₂(τ/γ) in all, instead of
-//! (R/(ε L_D))² small spheres.
+//! needs one or two passages per doubling of the depth, about 2 log₂(τ/γ) in all, instead
+//! of (R/(ε L_D))² small spheres.
 //!
 //! **A passage** starts at a scattering site x. For anisotropic scattering the walk keeps
 //! the memory of the incoming direction u: its expected displacement from x is g l_tr u,

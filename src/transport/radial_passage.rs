@@ -11,7 +11,7 @@
 //! birth–death chain on the grid points with the exact scale-function conductances
 //! 1/∫ dr/(r² D) between neighbours (so exit probabilities are exact) and lumped masses
 //! ∫ φ_j r² dr, with φ_j the hat function of grid point j in the scale coordinate (so the
-//! mean exit time is exact at every grid point; Gardiner, *Stochastic Methods*, §5.2.7,
+//! mean exit time is exact at every grid point; Gardiner, *Stochastic Methods*, ch. 5,
 //! for the continuous formulas these reproduce). At the centre (a = 0) there is no inner
 //! exit and the ball below the first grid point is lumped into it.
 //!
@@ -505,7 +505,7 @@ mod tests {
     #[test]
     fn ball_mean_times_are_exact_and_the_law_is_the_sphere_first_passage_law() {
         // Uniform ball of radius 1 (no extrapolation), D = 1: from radius r the mean exit
-        // time is (1 − r²)/6 (Redner 2001, A Guide to First-Passage Processes, §6.2), and
+        // time is (1 − r²)/6 (Redner 2001, A Guide to First-Passage Processes, ch. 6), and
         // from the centre the time follows the first-passage law of `first_passage`.
         let spec = CellSpec {
             pieces: vec![uniform(0.0, 1.0, 1.0)],
@@ -536,7 +536,7 @@ mod tests {
     fn shell_exit_probabilities_and_means_follow_the_closed_forms() {
         // Uniform shell 1 < r < 3, D = 2, no extrapolation: P(outer) from r is
         // (1/a − 1/r)/(1/a − 1/b) and the mean exit time solves (1/r²)(r² D T′)′ = −1:
-        // T = (−r² + A + B/r)/(6D) with T(a) = T(b) = 0 (Redner 2001, §6.2).
+        // T = (−r² + A + B/r)/(6D) with T(a) = T(b) = 0 (Redner 2001, ch. 6).
         let (a, b, d) = (1.0f64, 3.0f64, 2.0);
         let spec = CellSpec {
             pieces: vec![uniform(a, b, d)],

@@ -3,7 +3,7 @@
 //! the first-passage tables are built from.
 //!
 //! The radial part of three-dimensional diffusion with coefficient D(r) has the generator
-//! L f = r⁻² (r² D f′)′ (Gardiner, *Stochastic Methods*, 4th ed., 2009, §5.2: a
+//! L f = r⁻² (r² D f′)′ (Gardiner, *Stochastic Methods*, 4th ed., 2009, ch. 5: a
 //! one-dimensional diffusion in its natural scale s and speed measure m). Its scale function
 //! has s′(r) = 1/(r² D) and its speed measure is m(dr) = r² dr, so that
 //! L f = (1/r²) d/dr (1/s′ · df/dr). With D constant on each shell these integrals are
