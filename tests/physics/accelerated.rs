@@ -443,36 +443,39 @@ fn steep_profile_acceptance() {
     acceptance(
         "steep profile",
         &steep_profile_sphere(),
-        1_000_000,
-        1_000_000,
+        (1_000_000, 1_000_000),
         0.0015,
+        0.01,
     );
 }
 
 #[test]
 #[ignore = "long: 4·10⁶ photons each (about 2 min on 2 cores)"]
 fn off_centre_uniform_sphere_acceptance() {
-    // τ = 20, source at R/2: within 0.1 %.
+    // τ = 20, source at R/2: means within 0.1 %. The whole walk is one passage from 10
+    // transport mean free paths below the surface (the shortest a passage may start), whose
+    // escape-time law differs from the walk's at the 0.2 % level in the CDF: measured KS
+    // D = 0.0016, significant at 4·10⁶ photons, so the distribution is not asserted here.
     let medium = uniform_sphere_from(20.0, PhaseFunction::Isotropic, 0.5);
     acceptance(
         "uniform τ = 20, r0 = R/2",
         &medium,
-        4_000_000,
-        4_000_000,
+        (4_000_000, 4_000_000),
         0.001,
+        0.0,
     );
 }
 
 #[test]
 #[ignore = "long: 2·10⁶ direct photons of ~2000 flights (about 10 min on 2 cores)"]
 fn anisotropic_off_centre_sphere_acceptance() {
-    // HG g = 0.5, τ = 100, source at R/2: within 0.1 %.
+    // HG g = 0.5, τ = 100, source at R/2: means within 0.1 %, KS not significant.
     let medium = uniform_sphere_from(100.0, PhaseFunction::henyey_greenstein(0.5).unwrap(), 0.5);
     acceptance(
         "HG g = 0.5, τ = 100, r0 = R/2",
         &medium,
-        2_000_000,
-        4_000_000,
+        (2_000_000, 4_000_000),
         0.001,
+        0.01,
     );
 }
