@@ -53,11 +53,7 @@ fn time<T>(repeats: usize, mut f: impl FnMut() -> T) -> (f64, f64) {
 fn main() {
     let mut args = std::env::args().skip(1);
     let photons: u64 = args.next().and_then(|a| a.parse().ok()).unwrap_or(10_000);
-    let repeats: usize = args
-        .next()
-        .and_then(|a| a.parse().ok())
-        .unwrap_or(5)
-        .max(1);
+    let repeats: usize = args.next().and_then(|a| a.parse().ok()).unwrap_or(5).max(1);
     let star_path = Path::new(env!("CARGO_MANIFEST_DIR")).join("models/veyra-n3-sun-like.json");
     let star = load_model(&star_path).expect("the demo star loads");
     let media = [

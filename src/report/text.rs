@@ -92,17 +92,12 @@ fn write_solver_rows(out: &mut String, report: &RunReport) {
         out,
         "  diffusion solver (time-dependent, with absorption, the model's own layers and source)"
     );
-    let mut fractions = format!("escape probability {}", format_significant(escape, 5));
+    let mut fractions = format!("escape probability {escape:.5}");
     if let (Some(r), Some(t)) = (d.reflected, d.transmitted) {
-        let _ = write!(
-            fractions,
-            " (R {}, T {})",
-            format_significant(r, 5),
-            format_significant(t, 5)
-        );
+        let _ = write!(fractions, " (R {r:.5}, T {t:.5})");
     }
     if let Some(absorbed) = d.absorbed {
-        let _ = write!(fractions, "   absorbed {}", format_significant(absorbed, 5));
+        let _ = write!(fractions, "   absorbed {absorbed:.5}");
     }
     let _ = writeln!(out, "    {fractions}");
     let e = &d.escape_time;
@@ -117,8 +112,8 @@ fn write_solver_rows(out: &mut String, report: &RunReport) {
     if let Some(rate) = d.decay_rate_per_s {
         let _ = writeln!(
             out,
-            "    late decay rate λ₁          {} /ns (e-folding time {})",
-            format_significant(rate * 1e-9, 4),
+            "    late decay rate λ₁          {} /s (e-folding time {})",
+            format_significant(rate, 4),
             format_duration(1.0 / rate)
         );
     }
@@ -172,11 +167,11 @@ fn write_comparison_rows(out: &mut String, report: &RunReport) {
     if let Some(decay) = &c.late_decay {
         let _ = writeln!(
             out,
-            "  late decay rate     {} ± {} /ns after {} (diffusion λ₁ {} /ns)",
-            format_significant(decay.rate_per_s * 1e-9, 4),
-            format_significant(decay.stderr_per_s * 1e-9, 2),
+            "  late decay          e-folding time {} ± {} after {} (diffusion {})",
+            format_duration(1.0 / decay.rate_per_s),
+            format_duration(decay.stderr_per_s / (decay.rate_per_s * decay.rate_per_s)),
             format_duration(decay.from_s),
-            format_significant(decay.diffusion_rate_per_s * 1e-9, 4)
+            format_duration(1.0 / decay.diffusion_rate_per_s)
         );
     }
     if c.time_ratio.is_some() || c.time_ratio_plain.is_some() || c.naive_time_ratio.is_some() {
