@@ -115,11 +115,11 @@ fn anisotropic_sphere_matches_direct() {
 
 #[test]
 fn very_deep_uniform_spheres_follow_diffusion() {
-    // τ = 1e4 and 1e6, centred source: mean scatterings (τ + q∞)²/2 (REFERENCES item 3,
-    // extrapolated boundary), and the 5/50/95 % quantiles of the escape time within 2 % of
-    // the first-passage law with R + q∞ l and D = c l / 3 (REFERENCES item 3). Tolerances:
-    // the mean within 4σ and within 1 %; quantiles 2 % (histogram resolution 0.1 %, sampling
-    // error of a quantile with 10⁵ photons ≈ 0.3 %).
+    // τ = 1e4 and 1e6, centred source: mean scatterings (τ + q∞)²/2 (docs/references.md, Diffusion
+    // theory 1, extrapolated boundary), and the 5/50/95 % quantiles of the escape time within 2 %
+    // of the first-passage law with R + q∞ l and D = c l / 3 (docs/references.md, Diffusion theory
+    // 1). Tolerances: the mean within 4σ and within 1 %; quantiles 2 % (histogram resolution 0.1 %,
+    // sampling error of a quantile with 10⁵ photons ≈ 0.3 %).
     for tau in [1e4, 1e6] {
         let medium = uniform_sphere(tau);
         let tally = run_method(&medium, 100_000, 65, Method::Auto).tally;
@@ -236,8 +236,8 @@ fn thin_media_give_identical_photons_with_either_walker() {
 fn sun_like_polytrope_matches_the_profile_diffusion_time() {
     // The demo star Veyra (n = 3 polytrope, 1 M☉, 1 R☉, electron scattering + Kramers,
     // τ ≈ 2.3e13): the accelerated Monte Carlo mean escape time against the diffusion mean
-    // exit time `sojourn profile` reports, (1/c) ∫ r/l dr (REFERENCES item 3), which is
-    // exact to O(1/τ) here. Acceptance: within 2 % and within 4σ (10⁴ photons: σ ≈ 0.5 %;
+    // exit time `sojourn profile` reports, (1/c) ∫ r/l dr (docs/references.md, Diffusion theory 1),
+    // which is exact to O(1/τ) here. Acceptance: within 2 % and within 4σ (10⁴ photons: σ ≈ 0.5 %;
     // measured +0.3 %).
     let path = std::path::Path::new("models/veyra-n3-sun-like.json");
     let medium = sojourn::medium::model_file::load_model(path).unwrap();
