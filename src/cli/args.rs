@@ -8,10 +8,9 @@ pub fn opacity(text: &str) -> Result<OpacitySpec, String> {
     OpacitySpec::parse_short(text)
 }
 
-/// A length unit as spelled in model files (`cm`, `m`, `km`, `solar_radius`, ...).
+/// A length unit, any spelling a model file accepts (`cm`, `R_sun`, `solar_radius`, ...).
 pub fn length_unit(text: &str) -> Result<LengthUnit, String> {
-    serde_json::from_value(serde_json::Value::String(text.to_string()))
-        .map_err(|_| format!("{text:?}: expected one of um, mm, cm, m, km, solar_radius"))
+    text.parse()
 }
 
 /// A relative tolerance strictly between 0 and 1.
