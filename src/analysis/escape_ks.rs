@@ -52,14 +52,13 @@ pub struct EscapeKs {
 pub fn escape_time_ks(escapes: &PathStats, solution: &EscapeSolution) -> Result<EscapeKs, String> {
     let effective = escapes.effective_count();
     if effective.is_nan() || effective < KS_MIN_ESCAPES as f64 {
+        let escaped = if escapes.is_weighted() {
+            format!("{} (effective number)", format_significant(effective, 4))
+        } else {
+            escapes.count().to_string()
+        };
         return Err(format!(
-            "no KS test: {} photons escaped{}, fewer than {KS_MIN_ESCAPES}",
-            format_significant(effective, 4),
-            if escapes.is_weighted() {
-                " (effective number)"
-            } else {
-                ""
-            }
+            "no KS test: {escaped} photons escaped, fewer than {KS_MIN_ESCAPES}"
         ));
     }
     let histogram = escapes.time_histogram();

@@ -6,8 +6,11 @@
 //!   distributions, walk cost ([`WalkSummary`]), diffusion theory ([`DiffusionSummary`],
 //!   [`theory`]: the rule of thumb, mean exit times with the source where diffusion puts
 //!   it, escape probability and escape-time quantiles where theory gives them) and the
-//!   comparison of the two ([`Comparison`], [`comparison`]: ratios only where both sides
-//!   treat absorption alike, KS, notes on what is not compared) with its [`Verdict`]
+//!   comparison of the two ([`Comparison`], [`comparison`]: the Monte Carlo against the
+//!   time-dependent diffusion solver, which absorbs as the walk does: outcome fractions,
+//!   mean escape time, binned KS test ([`escape_ks`]), late decay ([`late_decay`]); the
+//!   closed-form ratios only where both sides treat absorption alike; notes on what is not
+//!   compared) with its [`Verdict`]
 //!   ([`mod@verdict`]: one function, [`verdict()`], with a stated criterion); for slabs the steady and
 //!   time-resolved slab theory and the resolved tallies in physical units
 //!   ([`slab_optics`]), with late-decay fits ([`decay_fit`]).

@@ -254,3 +254,20 @@ fn a_slab_thinner_than_a_transport_length_gets_no_diffusion_time() {
         c.verdict.reason
     );
 }
+
+#[test]
+fn too_few_escapes_get_no_ks_test_and_a_note_saying_why() {
+    let analysis = analyse(&uniform_sphere(5.0), 60, 7, Method::Direct);
+    let c = &analysis.comparison;
+    assert_eq!(c.ks_distance, None);
+    assert_eq!(c.ks_p_value, None);
+    assert!(
+        c.notes
+            .iter()
+            .any(|n| n == "no KS test: 60 photons escaped, fewer than 100"),
+        "{:?}",
+        c.notes
+    );
+    // The mean is still compared with the solver's, with its 1σ.
+    assert!(c.escape_time_ratio.is_some() && c.escape_time_ratio_stderr.is_some());
+}
