@@ -343,9 +343,9 @@ fn title_lines(title: &str, width: f64) -> (f64, Vec<String>) {
     }
     let break_at = title
         .char_indices()
-        .filter(|&(i, c)| c == ' ' && fits(&title[..i]))
-        .map(|(i, _)| i)
-        .last();
+        .rev()
+        .find(|&(i, c)| c == ' ' && fits(&title[..i]))
+        .map(|(i, _)| i);
     match break_at {
         Some(i) => (
             SMALLEST_TITLE,
