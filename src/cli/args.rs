@@ -40,3 +40,15 @@ pub fn positive(text: &str) -> Result<f64, String> {
         _ => Err(format!("{text:?}: expected a positive number")),
     }
 }
+
+/// A whole count of at least 1 (photons, steps), with the number spelled out in the error.
+pub fn count(text: &str) -> Result<u64, String> {
+    match text.parse::<u64>() {
+        Ok(value) if value >= 1 => Ok(value),
+        Ok(_) => Err(format!("{text:?}: expected a whole number of at least 1")),
+        Err(_) => Err(format!(
+            "{text:?}: expected a whole number from 1 to {}",
+            u64::MAX
+        )),
+    }
+}
