@@ -36,9 +36,9 @@ const FRESNEL_PANELS: usize = 64;
 
 /// Reflectance of unpolarised light going from index `n1` into index `n2` at incidence
 /// cosine `cos_incidence` (0..=1): the mean of the s and p Fresnel reflectances (Born &
-/// Wolf, *Principles of Optics*, §1.5.2), 1 beyond the critical angle. The same law as the
-/// walker's (`transport::fresnel`), restated here so that diffusion theory does not depend
-/// on the transport layer.
+/// Wolf, *Principles of Optics*, §1.5.2), 1 beyond the critical angle. The walker uses this
+/// same function (`transport::fresnel`), so both sides of a comparison see one law.
+#[inline]
 pub fn fresnel_reflectance(cos_incidence: f64, n1: f64, n2: f64) -> f64 {
     if n1 == n2 {
         return 0.0;

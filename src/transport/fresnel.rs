@@ -2,25 +2,10 @@
 
 use nalgebra::Vector3;
 
-/// Reflectance of unpolarised light going from index `n1` into index `n2` at incidence
-/// cosine `cos_incidence` (0..=1): the mean of the s and p Fresnel reflectances (Born &
-/// Wolf, Principles of Optics, §1.5.2), 1 beyond the critical angle (total internal
-/// reflection).
-pub fn fresnel_reflectance(cos_incidence: f64, n1: f64, n2: f64) -> f64 {
-    if n1 == n2 {
-        return 0.0;
-    }
-    let cos_i = cos_incidence.clamp(0.0, 1.0);
-    let ratio = n1 / n2;
-    let sin_t_squared = ratio * ratio * (1.0 - cos_i * cos_i);
-    if sin_t_squared >= 1.0 {
-        return 1.0;
-    }
-    let cos_t = (1.0 - sin_t_squared).sqrt();
-    let s = (n1 * cos_i - n2 * cos_t) / (n1 * cos_i + n2 * cos_t);
-    let p = (n1 * cos_t - n2 * cos_i) / (n1 * cos_t + n2 * cos_i);
-    0.5 * (s * s + p * p)
-}
+/// Reflectance of unpolarised light (Born & Wolf, Principles of Optics, §1.5.2), 1 beyond
+/// the critical angle (total internal reflection): the one law that diffusion theory's
+/// boundary conditions also use.
+pub use crate::diffusion::boundary::fresnel_reflectance;
 
 /// The direction after refraction from `n1` into `n2` across a plane of constant z (Snell's
 /// law): the tangential component scales by n1/n2, the normal component keeps its sign.
