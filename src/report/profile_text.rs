@@ -275,8 +275,11 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
         let _ = writeln!(out);
         let _ = writeln!(
             out,
-            "Representation: {} profile layer(s) → {} sub-shells of constant extinction; τ error {:.1e}, diffusion-time integral error {:.1e} (relative, against a fine quadrature)",
-            p.layers.len(),
+            "Representation: {} → {} sub-shells of constant extinction; τ error {:.1e}, diffusion-time integral error {:.1e} (relative, against a fine quadrature)",
+            match p.layers.len() {
+                1 => "1 profile layer".to_string(),
+                n => format!("{n} profile layers"),
+            },
             p.sub_shells,
             p.tau_error_relative,
             p.time_error_relative

@@ -14,12 +14,33 @@ pub struct ModelSummary {
     pub name: String,
     /// File the model was read from (or the embedded demo label).
     pub file: String,
-    /// Number of layers.
+    /// Number of layers the walker sees (each profile layer counts its sub-shells).
     pub layers: usize,
+    /// Layers as the model file declares them (a profile layer counts once); text only.
+    #[serde(skip)]
+    pub declared_layers: usize,
     /// Outer radius (sphere) or thickness (slab), cm.
     pub size_cm: f64,
     /// Length unit the model file used.
     pub length_unit: String,
+}
+
+/// The layers of `medium` as its model file declares them: its walker layers, with the
+/// sub-shells of each profile layer (as far as the medium still holds them, after a
+/// truncation) counted once.
+fn declared_layers(medium: &Medium) -> usize {
+    let shells = medium.layers().len();
+    let (mut in_profiles, mut profiles) = (0, 0);
+    for profile in medium.profiles() {
+        let held = profile
+            .sub_shells
+            .min(shells.saturating_sub(profile.first_sub_shell));
+        if held > 0 {
+            in_profiles += held;
+            profiles += 1;
+        }
+    }
+    shells.saturating_sub(in_profiles) + profiles
 }
 
 impl ModelSummary {
@@ -29,6 +50,7 @@ impl ModelSummary {
             name: medium.name().to_string(),
             file: file.to_string(),
             layers: medium.layers().len(),
+            declared_layers: declared_layers(medium),
             size_cm: medium.size_cm(),
             length_unit: medium.display_unit().symbol().to_string(),
         }

@@ -214,11 +214,16 @@ pub fn render_run_report(report: &RunReport) -> String {
         Geometry::Slab => "slab",
     };
     let _ = writeln!(out, "sojourn {} · {title}", report.sojourn_version);
+    let layers = match (report.model.declared_layers, report.model.layers) {
+        (1, 1) => "1 layer".to_string(),
+        (declared, shells) if declared == shells => format!("{declared} layers"),
+        (1, shells) => format!("1 layer in {shells} shells"),
+        (declared, shells) => format!("{declared} layers in {shells} shells"),
+    };
     let _ = writeln!(
         out,
-        "  model {} · {geometry}, {} layer(s) · {} photons · seed {} · method {} · {:.2} s",
+        "  model {} · {geometry}, {layers} · {} photons · seed {} · method {} · {:.2} s",
         report.model.file,
-        report.model.layers,
         report.analysis.photons,
         report.analysis.seed,
         report.analysis.method,

@@ -304,3 +304,30 @@ fn counts_below_one_are_refused_in_plain_words() {
         assert!(stderr.contains("expected a whole number"), "{stderr}");
     }
 }
+
+#[test]
+fn the_header_counts_the_layers_the_model_file_declares() {
+    // Ember: two plain layers; Veyra: one profile layer, which the walker sees as its
+    // sub-shells.
+    let ember = String::from_utf8(
+        sojourn()
+            .args(["run", "--photons", "100"])
+            .output()
+            .unwrap()
+            .stdout,
+    )
+    .unwrap();
+    assert!(ember.contains("sphere, 2 layers ·"), "{ember}");
+    let veyra = String::from_utf8(
+        sojourn()
+            .args(["run", "models/veyra-n3-sun-like.json", "--photons", "100"])
+            .output()
+            .unwrap()
+            .stdout,
+    )
+    .unwrap();
+    assert!(
+        veyra.contains("sphere, 1 layer in 2472 shells ·"),
+        "{veyra}"
+    );
+}
