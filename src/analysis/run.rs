@@ -244,6 +244,11 @@ pub struct RunAnalysis {
     pub zones: Option<Vec<Zone>>,
     /// Where the walk stopped below the surface (null when it ran to the surface).
     pub stop_at: Option<StopAt>,
+    /// Slabs lit from outside (a beam or diffuse light on the top face), where reflection,
+    /// specular reflection and unscattered transmission have their optical meaning; false
+    /// for spheres and for sources inside a slab. Text only.
+    #[serde(skip)]
+    pub lit_from_outside: bool,
     /// One-line caveats for the reader.
     pub notes: Vec<String>,
 }
@@ -373,6 +378,8 @@ impl RunAnalysis {
                 .filter(|s| s.luminosity_erg_s.is_some())
                 .map(|s| s.zones.clone()),
             stop_at,
+            lit_from_outside: is_slab
+                && matches!(medium.source(), Source::Beam { .. } | Source::Diffuse),
             notes,
         }
     }

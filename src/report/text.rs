@@ -235,10 +235,18 @@ pub fn render_run_report(report: &RunReport) -> String {
     if let (Some(v), Some(e)) = (o.escaped, o.stderr.escaped) {
         let _ = writeln!(out, "  escaped      {}", fraction(v, e));
     }
+    // Light from outside is reflected and transmitted; light from a source inside a slab
+    // leaves through its top or bottom face, and nothing is reflected before entering.
+    let lit = report.analysis.lit_from_outside;
     if let (Some(v), Some(e)) = (o.reflected, o.stderr.reflected) {
-        let _ = writeln!(out, "  reflected    {}   (diffuse)", fraction(v, e));
+        let (name, how) = if lit {
+            ("reflected  ", "diffuse")
+        } else {
+            ("top face   ", "left through the top face")
+        };
+        let _ = writeln!(out, "  {name}  {}   ({how})", fraction(v, e));
     }
-    if let (Some(v), Some(e)) = (o.specular, o.stderr.specular) {
+    if let (true, Some(v), Some(e)) = (lit, o.specular, o.stderr.specular) {
         let _ = writeln!(
             out,
             "  specular     {}   (reflected before entering)",
@@ -246,11 +254,12 @@ pub fn render_run_report(report: &RunReport) -> String {
         );
     }
     if let (Some(v), Some(e)) = (o.transmitted, o.stderr.transmitted) {
-        let _ = writeln!(
-            out,
-            "  transmitted  {}   (unscattered included)",
-            fraction(v, e)
-        );
+        let (name, how) = if lit {
+            ("transmitted", "unscattered included")
+        } else {
+            ("bottom face", "left through the bottom face")
+        };
+        let _ = writeln!(out, "  {name}  {}   ({how})", fraction(v, e));
     }
     if let (Some(v), Some(e)) = (o.absorbed, o.stderr.absorbed) {
         let _ = writeln!(out, "  absorbed     {}", fraction(v, e));
@@ -265,10 +274,18 @@ pub fn render_run_report(report: &RunReport) -> String {
     let _ = writeln!(out, "Time in the medium (photons that left it)");
     time_rows(&mut out, "all escapes", &report.analysis.escape_time);
     if let Some(summary) = &report.analysis.reflected_time {
-        time_rows(&mut out, "reflected", summary);
+        time_rows(
+            &mut out,
+            if lit { "reflected" } else { "top face" },
+            summary,
+        );
     }
     if let Some(summary) = &report.analysis.transmitted_time {
-        time_rows(&mut out, "transmitted", summary);
+        time_rows(
+            &mut out,
+            if lit { "transmitted" } else { "bottom face" },
+            summary,
+        );
     }
     let s = &report.analysis.scatterings;
     let _ = writeln!(
@@ -405,22 +422,26 @@ pub fn render_run_report(report: &RunReport) -> String {
                 .collect::<Vec<_>>()
                 .join(" ")
         };
-        let _ = writeln!(
-            out,
-            "  limb darkening of reflected light (radiance on the H(μ)/H(1) scale)"
-        );
-        let _ = writeln!(out, "    μ            {}", row(&limb.mu));
-        let _ = writeln!(out, "    Monte Carlo  {}", row(&limb.monte_carlo));
-        let _ = writeln!(
-            out,
-            "    H(μ)/H(1)    {}   (deep conservative medium)",
-            row(&limb.exact_h_ratio)
-        );
-        let _ = writeln!(
-            out,
-            "    0.4 + 0.6μ   {}   (Eddington)",
-            row(&limb.eddington)
-        );
+        // Limb darkening describes light emerging from a source deep inside (an
+        // atmosphere); for light from outside the exit-angle tally stays in the JSON.
+        if !report.analysis.lit_from_outside {
+            let _ = writeln!(
+                out,
+                "  limb darkening of light leaving the top face (radiance on the H(μ)/H(1) scale)"
+            );
+            let _ = writeln!(out, "    μ            {}", row(&limb.mu));
+            let _ = writeln!(out, "    Monte Carlo  {}", row(&limb.monte_carlo));
+            let _ = writeln!(
+                out,
+                "    H(μ)/H(1)    {}   (deep conservative medium)",
+                row(&limb.exact_h_ratio)
+            );
+            let _ = writeln!(
+                out,
+                "    0.4 + 0.6μ   {}   (Eddington)",
+                row(&limb.eddington)
+            );
+        }
         let _ = writeln!(
             out,
             "  absorbed by layer              {}",

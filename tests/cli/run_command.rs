@@ -129,7 +129,6 @@ fn slab_report_shows_optics_and_json_carries_the_curves() {
         "absorbed",
         "diffuse R",
         "late decay rate",
-        "limb darkening",
     ] {
         assert!(
             text.contains(expected),
@@ -330,4 +329,38 @@ fn the_header_counts_the_layers_the_model_file_declares() {
         veyra.contains("sphere, 1 layer in 2472 shells ·"),
         "{veyra}"
     );
+}
+
+#[test]
+fn labels_fit_the_source() {
+    let run = |model: &str| {
+        String::from_utf8(
+            sojourn()
+                .args(["run", model, "--photons", "500", "--resolve"])
+                .output()
+                .unwrap()
+                .stdout,
+        )
+        .unwrap()
+    };
+    // A source deep inside a slab: light leaves through its faces; nothing is reflected
+    // before entering, and the exit angles read as limb darkening.
+    let inside = run("models/grey-atmosphere.json");
+    for absent in [
+        "specular",
+        "before entering",
+        "unscattered",
+        "reflected light",
+    ] {
+        assert!(!inside.contains(absent), "{absent:?} in:\n{inside}");
+    }
+    assert!(inside.contains("left through the top face"), "{inside}");
+    assert!(inside.contains("limb darkening of light leaving the top face"));
+    // A plate lit from outside: reflection, specular reflection, no limb darkening.
+    let lit = run("models/opal-diffuser.json");
+    assert!(
+        lit.contains("specular") && lit.contains("(diffuse)"),
+        "{lit}"
+    );
+    assert!(!lit.contains("limb darkening"), "{lit}");
 }
