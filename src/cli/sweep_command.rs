@@ -60,8 +60,8 @@ pub fn execute(args: SweepArgs) -> Result<()> {
         println!(
             "{label}: {} points × {} photons (seed {}, spec hash {})",
             sweep.points().len(),
-            spec.photons,
-            spec.seed,
+            spec.photons(),
+            spec.seed(),
             spec.hash()
         );
         for (index, point) in sweep.points().iter().enumerate() {
