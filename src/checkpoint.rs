@@ -204,9 +204,7 @@ impl<'a> CheckpointedRun<'a> {
                 }
                 state
             }
-            Err(InputError::Read { cause, .. })
-                if cause.kind() == std::io::ErrorKind::NotFound =>
-            {
+            Err(InputError::Read { cause, .. }) if cause.kind() == std::io::ErrorKind::NotFound => {
                 Checkpoint {
                     format: CHECKPOINT_FORMAT,
                     identity,

@@ -242,7 +242,11 @@ pub fn plain_message(message: &str) -> String {
     ] {
         text = text.replace(rust, plain);
     }
-    for kind in ["expected struct ", "expected enum ", "expected tuple struct "] {
+    for kind in [
+        "expected struct ",
+        "expected enum ",
+        "expected tuple struct ",
+    ] {
         while let Some(index) = text.find(kind) {
             let end = text[index + kind.len()..]
                 .find(|c: char| !(c.is_alphanumeric() || c == '_'))
@@ -337,7 +341,11 @@ mod tests {
         let big = directory.path().join("big.json");
         std::fs::write(&big, vec![b' '; 2048]).unwrap();
         let error = read_text(&big, 1024, "model file").unwrap_err();
-        assert!(error.to_string().contains("2 KiB is more than the 1 KiB limit"));
+        assert!(
+            error
+                .to_string()
+                .contains("2 KiB is more than the 1 KiB limit")
+        );
     }
 
     #[test]

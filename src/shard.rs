@@ -21,8 +21,8 @@ use thiserror::Error;
 use crate::analysis::RunAnalysis;
 use crate::file_format::format_problem;
 use crate::fingerprint::{canonical_json, fingerprint};
-use crate::medium::Medium;
 use crate::input::{InputError, from_json_value, plain_message, strip_bom};
+use crate::medium::Medium;
 use crate::medium::model_file::{ModelError, model_from_value};
 use crate::simulation::{Method, RunConfig, RunResult};
 use crate::tally::{ResolvedLayout, Tally, TallyError};
@@ -205,8 +205,7 @@ impl TryFrom<RunShardInfoRepr> for RunShardInfo {
             return Err("total_photons = 0: a run has at least 1 photon".into());
         }
         let expected = repr.shard.photon_range(repr.total_photons);
-        if repr.first_photon != expected.start || repr.photons != expected.end - expected.start
-        {
+        if repr.first_photon != expected.start || repr.photons != expected.end - expected.start {
             return Err(format!(
                 "photons {}..{} are not shard {} of {} photons ({}..{})",
                 repr.first_photon,
@@ -663,10 +662,13 @@ pub fn merge_run_shards(mut shards: Vec<RunShard>) -> Result<MergedRun, MergeErr
             limits: WalkLimits {
                 max_steps: a.max_steps,
             },
-            method: a.method.parse().map_err(|problem: String| MergeError::Damaged {
-                file: first.file.clone(),
-                problem: format!("shard.method: {problem}"),
-            })?,
+            method: a
+                .method
+                .parse()
+                .map_err(|problem: String| MergeError::Damaged {
+                    file: first.file.clone(),
+                    problem: format!("shard.method: {problem}"),
+                })?,
             acceleration: a.acceleration,
             resolved: a.resolved,
         },

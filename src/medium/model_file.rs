@@ -17,7 +17,8 @@ use super::profile::{
 use super::{GasSample, Layer, Medium, MediumError, Quantity, Source};
 use crate::input::{
     InputError, MAX_COEFFICIENT_PER_CM, MAX_LAYERS, MAX_LENGTH_CM, MAX_OPTICAL_DEPTH,
-    MAX_TEXT_BYTES, MIN_COEFFICIENT_PER_CM, MIN_LENGTH_CM, field_and_message, plain_message, read_text, strip_bom,
+    MAX_TEXT_BYTES, MIN_COEFFICIENT_PER_CM, MIN_LENGTH_CM, field_and_message, plain_message,
+    read_text, strip_bom,
 };
 use crate::opacity::{OpacitySpec, OpacityTable, OutsidePolicy};
 use crate::transport::PhaseFunction;
@@ -129,9 +130,7 @@ impl<'de> Deserialize<'de> for AmbientSpec {
             type Value = AmbientSpec;
 
             fn expecting(&self, formatter: &mut std::fmt::Formatter) -> std::fmt::Result {
-                formatter.write_str(
-                    "a refractive index (a number) or {\"above\": N, \"below\": N}",
-                )
+                formatter.write_str("a refractive index (a number) or {\"above\": N, \"below\": N}")
             }
 
             fn visit_f64<E: serde::de::Error>(self, value: f64) -> Result<Self::Value, E> {
@@ -611,10 +610,8 @@ pub fn model_from_value_with(
     options: &LoadOptions,
 ) -> Result<Medium, ModelError> {
     let spec: ModelSpec = serde_path_to_error::deserialize(value).map_err(|error| {
-        let (field, message) = field_and_message(
-            &error.path().to_string(),
-            &error.into_inner().to_string(),
-        );
+        let (field, message) =
+            field_and_message(&error.path().to_string(), &error.into_inner().to_string());
         ModelError::Schema {
             file: file.to_string(),
             field,
@@ -1078,8 +1075,7 @@ fn build_layer(spec: &LayerSpec, geometry: GeometrySpec, to_cm: f64) -> Result<L
 /// A thickness or radius, cm, inside [`MIN_LENGTH_CM`, `MAX_LENGTH_CM`]. Values that are
 /// not positive are left to the medium's own checks, which explain them better.
 fn check_length(field: &str, value_cm: f64) -> Result<(), MediumError> {
-    if value_cm.is_nan() || value_cm <= 0.0 || (MIN_LENGTH_CM..=MAX_LENGTH_CM).contains(&value_cm)
-    {
+    if value_cm.is_nan() || value_cm <= 0.0 || (MIN_LENGTH_CM..=MAX_LENGTH_CM).contains(&value_cm) {
         return Ok(());
     }
     Err(MediumError::value(
@@ -1140,7 +1136,7 @@ fn check_profile_extinction(shells: &[(f64, Layer)]) -> Result<(), MediumError> 
 /// every layer) at most [`MAX_OPTICAL_DEPTH`].
 fn check_totals(medium: &Medium) -> Result<(), MediumError> {
     let size = medium.size_cm();
-    if !(size <= MAX_LENGTH_CM) {
+    if size.is_nan() || size > MAX_LENGTH_CM {
         return Err(MediumError::value(
             "layers",
             size,
@@ -1154,7 +1150,7 @@ fn check_totals(medium: &Medium) -> Result<(), MediumError> {
             medium.layers()[index].extinction_per_cm() * (outer - inner)
         })
         .sum();
-    if !(depth <= MAX_OPTICAL_DEPTH) {
+    if depth.is_nan() || depth > MAX_OPTICAL_DEPTH {
         return Err(MediumError::Invalid {
             field: "layers".into(),
             problem: format!(
@@ -1297,7 +1293,10 @@ fn build_source(
         }
         (GeometrySpec::Slab, SourceKind::Diffuse) => {
             if let Some(field) = extra(&[]) {
-                return Err(unexpected(field, "diffuse illumination takes no other field"));
+                return Err(unexpected(
+                    field,
+                    "diffuse illumination takes no other field",
+                ));
             }
             Ok(Source::Diffuse)
         }

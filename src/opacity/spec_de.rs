@@ -78,7 +78,8 @@ impl From<Tagged> for OpacitySpec {
 
 impl<'de> Deserialize<'de> for OpacitySpec {
     fn deserialize<D: Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
-        const EXPECTED: &str = "an opacity law: an object such as {\"kind\": \"electron_scattering\"}";
+        const EXPECTED: &str =
+            "an opacity law: an object such as {\"kind\": \"electron_scattering\"}";
         let value = Value::deserialize(deserializer)?;
         let Value::Object(mut object) = value else {
             return Err(D::Error::custom(format!(
@@ -135,7 +136,8 @@ mod tests {
     fn error(json: &str) -> String {
         let value: Value = serde_json::from_str(json).unwrap();
         let error = serde_path_to_error::deserialize::<_, OpacitySpec>(&value).unwrap_err();
-        format!("{} | {}", error.path(), error.into_inner())
+        let path = error.path().to_string();
+        format!("{path} | {}", error.into_inner())
     }
 
     #[test]

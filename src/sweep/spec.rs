@@ -280,14 +280,13 @@ impl ResolvedSpec {
         file: &str,
         read_model: impl FnOnce(&str) -> Result<(Value, String), ModelError>,
     ) -> Result<Self, SpecError> {
-        let value: Value = serde_json::from_str(strip_bom(text)).map_err(|error| {
-            SpecError::Syntax {
+        let value: Value =
+            serde_json::from_str(strip_bom(text)).map_err(|error| SpecError::Syntax {
                 file: file.to_string(),
                 line: error.line(),
                 column: error.column(),
                 message: plain_message(&error.to_string()),
-            }
-        })?;
+            })?;
         let spec: SpecFile = serde_path_to_error::deserialize(&value).map_err(|error| {
             let field = error.path().to_string();
             SpecError::Schema {
@@ -335,9 +334,7 @@ impl ResolvedSpec {
             model: Value::Null,
             photons: spec.photons.unwrap_or(10_000),
             seed: spec.seed.unwrap_or(1),
-            max_steps: spec
-                .max_steps
-                .unwrap_or(WalkLimits::default().max_steps),
+            max_steps: spec.max_steps.unwrap_or(WalkLimits::default().max_steps),
             method: spec.method.unwrap_or_default(),
             combine: spec.combine,
             parameters,
@@ -413,7 +410,9 @@ impl ResolvedSpec {
                 return Err(invalid(
                     format!("{field}.values"),
                     format!("{} values", parameter.values.len()),
-                    &format!("at most {MAX_SWEEP_POINTS} values (a sweep has at most {MAX_SWEEP_POINTS} points)"),
+                    &format!(
+                        "at most {MAX_SWEEP_POINTS} values (a sweep has at most {MAX_SWEEP_POINTS} points)"
+                    ),
                 ));
             }
         }
@@ -553,7 +552,11 @@ impl ResolvedSpec {
     /// # Panics
     /// If `index` is not below [`ResolvedSpec::point_count`].
     pub fn settings(&self, index: u64) -> Vec<(String, Value)> {
-        assert!(index < self.point_count(), "point {index} of {}", self.point_count());
+        assert!(
+            index < self.point_count(),
+            "point {index} of {}",
+            self.point_count()
+        );
         let mut rest = index;
         let mut chosen = vec![0usize; self.parameters.len()];
         match self.combine {
@@ -630,9 +633,7 @@ fn spaced(range: &RangeFile, log: bool) -> Result<Vec<Value>, (&'static str, Str
         return Err((
             "count",
             range.count.to_string(),
-            format!(
-                "at most {MAX_SWEEP_POINTS} (a sweep has at most {MAX_SWEEP_POINTS} points)"
-            ),
+            format!("at most {MAX_SWEEP_POINTS} (a sweep has at most {MAX_SWEEP_POINTS} points)"),
         ));
     }
     let check = |name, value: f64| {
