@@ -285,6 +285,19 @@ pub fn field_and_message(path: &str, message: &str) -> (String, String) {
     (field, message)
 }
 
+/// What kind of JSON value `value` is, for messages: "a list", "a number `3`", ...
+pub fn json_kind(value: &serde_json::Value) -> String {
+    use serde_json::Value;
+    match value {
+        Value::Null => "null".into(),
+        Value::Bool(b) => format!("a boolean `{b}`"),
+        Value::Number(n) => format!("a number `{n}`"),
+        Value::String(s) => format!("a string {s:?}"),
+        Value::Array(_) => "a list".into(),
+        Value::Object(_) => "an object".into(),
+    }
+}
+
 /// A JSON value of the wrong shape: where, and what is wrong.
 #[derive(Debug, Clone, PartialEq, Eq, Error)]
 #[error("{field}: {message}")]

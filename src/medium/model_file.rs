@@ -609,6 +609,17 @@ pub fn model_from_value_with(
     file: &str,
     options: &LoadOptions,
 ) -> Result<Medium, ModelError> {
+    // serde would read a list as the fields in order; a model file is an object.
+    if !value.is_object() {
+        return Err(ModelError::Schema {
+            file: file.to_string(),
+            field: ".".into(),
+            message: format!(
+                "{}: expected a model, an object such as {{\"geometry\": \"slab\", \"layers\": [...]}}",
+                crate::input::json_kind(value)
+            ),
+        });
+    }
     let spec: ModelSpec = serde_path_to_error::deserialize(value).map_err(|error| {
         let (field, message) =
             field_and_message(&error.path().to_string(), &error.into_inner().to_string());

@@ -287,6 +287,17 @@ impl ResolvedSpec {
                 column: error.column(),
                 message: plain_message(&error.to_string()),
             })?;
+        // serde would read a list as the fields in order; a spec is an object.
+        if !value.is_object() {
+            return Err(SpecError::Schema {
+                file: file.to_string(),
+                field: ".".into(),
+                message: format!(
+                    "{}: expected a sweep spec, an object such as {{\"model\": \"m.json\", \"parameters\": [...]}}",
+                    crate::input::json_kind(&value)
+                ),
+            });
+        }
         let spec: SpecFile = serde_path_to_error::deserialize(&value).map_err(|error| {
             let field = error.path().to_string();
             SpecError::Schema {
