@@ -1,27 +1,34 @@
 //! Validation of the accelerated walker against the direct walker on the same models, the
-//! same photon counts and fixed seeds: mean escape time (ratio with its 1σ), and the
-//! two-sample Kolmogorov–Smirnov distance between the two escape-time histograms with its
-//! p-value. Prints the table quoted in the README.
+//! same photon counts and fixed (different) seeds: mean escape time and mean scatterings
+//! (ratios with their 1σ), and the two-sample Kolmogorov–Smirnov distance between the two
+//! escape-time histograms with its asymptotic p-value. Prints the table quoted in the
+//! README.
 //!
-//! `cargo run --release --example validate_acceleration [-- PHOTONS [GAMMA [CASE]]]`
+//! `cargo run --release --example validate_acceleration [-- PHOTONS [CASES [GAMMA [EPSILON [ACCELERATED_PHOTONS]]]]]`
+//!
+//! CASES is a comma-separated list of case numbers (default: all); GAMMA and EPSILON
+//! override the acceleration defaults; ACCELERATED_PHOTONS (default PHOTONS) sets the
+//! accelerated walker's photons apart. With `SOJOURN_VALIDATION_CACHE=DIR` the direct
+//! walks' tallies are kept in DIR and reused by later runs with the same case and photons.
 
+#[allow(dead_code)]
 #[path = "../tests/support/profiles.rs"]
 mod profiles;
+
+use std::time::Instant;
 
 use sojourn::diffusion::ks::{kolmogorov_p_value, two_sample_ks_binned};
 use sojourn::medium::{Layer, Medium, Source};
 use sojourn::simulation::{Method, RunConfig, run};
-use sojourn::tally::PathStats;
+use sojourn::tally::{PathStats, Tally};
 use sojourn::transport::{Acceleration, PhaseFunction};
 
-fn uniform(tau: f64, g: f64) -> Medium {
-    let phase = if g == 0.0 {
+fn phase(g: f64) -> PhaseFunction {
+    if g == 0.0 {
         PhaseFunction::Isotropic
     } else {
         PhaseFunction::henyey_greenstein(g).expect("valid g")
-    };
-    let layer = Layer::new("", tau, 1.0, phase, 1.0).expect("valid layer");
-    Medium::sphere(vec![(1.0, layer)], Source::centre()).expect("valid sphere")
+    }
 }
 
 fn two_zone() -> Medium {
@@ -31,13 +38,16 @@ fn two_zone() -> Medium {
     Medium::sphere(vec![(0.3, core), (3.3, envelope)], Source::centre()).expect("valid")
 }
 
+/// Escapes of one run and (steps per photon, seconds). Direct runs are cached in
+/// `SOJOURN_VALIDATION_CACHE` if set (`case` names the file).
 fn escapes(
     medium: &Medium,
     method: Method,
     photons: u64,
     seed: u64,
     acceleration: Acceleration,
-) -> (PathStats, f64) {
+    case: usize,
+) -> (PathStats, f64, f64) {
     let config = RunConfig {
         photons,
         seed,
@@ -45,74 +55,136 @@ fn escapes(
         acceleration,
         ..RunConfig::default()
     };
-    let result = run(medium, &config);
-    let steps = result.tally.walk().direct_steps.value() + result.tally.walk().jumps.value();
-    (result.tally.all_escapes(), steps / photons as f64)
+    let cache = std::env::var_os("SOJOURN_VALIDATION_CACHE")
+        .filter(|_| method == Method::Direct)
+        .map(|dir| {
+            std::path::PathBuf::from(dir).join(format!("case{case}-{photons}-seed{seed}.json"))
+        });
+    let cached: Option<(Tally, f64)> = cache
+        .as_ref()
+        .and_then(|path| std::fs::read_to_string(path).ok())
+        .and_then(|text| serde_json::from_str::<(serde_json::Value, f64)>(&text).ok())
+        .and_then(|(value, seconds)| Some((Tally::from_json(value).ok()?, seconds)));
+    let started = Instant::now();
+    let (tally, seconds) = match cached {
+        Some(found) => found,
+        None => {
+            let tally = run(medium, &config).tally;
+            let seconds = started.elapsed().as_secs_f64();
+            if let Some(path) = &cache {
+                let text = serde_json::to_string(&(&tally, seconds)).expect("tally serialises");
+                std::fs::write(path, text).expect("cache directory writable");
+            }
+            (tally, seconds)
+        }
+    };
+    let result = sojourn::simulation::RunResult {
+        tally,
+        elapsed_s: seconds,
+    };
+    let walk = result.tally.walk();
+    let steps = walk.direct_steps.value() + walk.jumps.value();
+    (result.tally.all_escapes(), steps / photons as f64, seconds)
 }
 
+/// Ratio of two means with its 1σ.
+fn ratio(a: &sojourn::tally::Moments, b: &sojourn::tally::Moments) -> (f64, f64) {
+    let (ma, ea) = (a.mean().unwrap(), a.std_error().unwrap());
+    let (mb, eb) = (b.mean().unwrap(), b.std_error().unwrap());
+    let r = ma / mb;
+    (r, r * ((ea / ma).powi(2) + (eb / mb).powi(2)).sqrt())
+}
+
+/// Builds one validation medium on demand (cases are built only when selected).
+type MediumBuilder = Box<dyn Fn() -> Medium>;
+
 fn main() {
-    let photons: u64 = std::env::args()
-        .nth(1)
-        .and_then(|a| a.parse().ok())
-        .unwrap_or(20_000);
+    let mut args = std::env::args().skip(1);
+    let photons: u64 = args.next().and_then(|a| a.parse().ok()).unwrap_or(20_000);
+    let only: Option<Vec<usize>> = args
+        .next()
+        .map(|a| a.split(',').filter_map(|c| c.parse().ok()).collect());
     let mut acceleration = Acceleration::default();
-    if let Some(gamma) = std::env::args().nth(2).and_then(|a| a.parse().ok()) {
+    if let Some(gamma) = args.next().and_then(|a| a.parse().ok()) {
         acceleration.gamma = gamma;
     }
-    let only: Option<usize> = std::env::args().nth(3).and_then(|a| a.parse().ok());
-    let profile = profiles::exponential_sphere(600.0, 3.0, 1.0, 300);
-    let cases: Vec<(String, Medium)> = vec![
-        ("uniform sphere τ = 30".into(), uniform(30.0, 0.0)),
-        ("uniform sphere τ = 100".into(), uniform(100.0, 0.0)),
-        ("uniform sphere τ = 300".into(), uniform(300.0, 0.0)),
+    if let Some(epsilon) = args.next().and_then(|a| a.parse().ok()) {
+        acceleration.epsilon = epsilon;
+    }
+    let accelerated_photons: u64 = args.next().and_then(|a| a.parse().ok()).unwrap_or(photons);
+    let cases: Vec<(&str, MediumBuilder)> = vec![
         (
-            "two-zone sphere, 100× contrast (τ 60 + 6)".into(),
-            two_zone(),
+            "uniform sphere τ = 30",
+            Box::new(|| profiles::uniform_sphere_from(30.0, phase(0.0), 0.0)),
         ),
         (
-            format!(
-                "smooth profile σ ∝ e^(−3r/R), τ = {:.0}",
-                profiles::exponential_sphere_depth(600.0, 3.0, 1.0)
-            ),
-            profile,
+            "uniform sphere τ = 100",
+            Box::new(|| profiles::uniform_sphere_from(100.0, phase(0.0), 0.0)),
         ),
         (
-            "uniform sphere τ = 300, HG g = 0.8".into(),
-            uniform(300.0, 0.8),
+            "uniform sphere τ = 300",
+            Box::new(|| profiles::uniform_sphere_from(300.0, phase(0.0), 0.0)),
+        ),
+        (
+            "two-zone sphere, 100× contrast (τ 60 + 6)",
+            Box::new(two_zone),
+        ),
+        (
+            "smooth profile σ ∝ e^(−3r/R), τ = 190",
+            Box::new(|| profiles::exponential_sphere(600.0, 3.0, 1.0, 300)),
+        ),
+        (
+            "uniform sphere τ = 300, HG g = 0.8",
+            Box::new(|| profiles::uniform_sphere_from(300.0, phase(0.8), 0.0)),
+        ),
+        (
+            "steep profile σ ∝ e^(−8r/R), τ = 150",
+            Box::new(profiles::steep_profile_sphere),
+        ),
+        (
+            "uniform sphere τ = 20, source at R/2",
+            Box::new(|| profiles::uniform_sphere_from(20.0, phase(0.0), 0.5)),
+        ),
+        (
+            "uniform sphere τ = 100, HG g = 0.5, source at R/2",
+            Box::new(|| profiles::uniform_sphere_from(100.0, phase(0.5), 0.5)),
         ),
     ];
-    println!("{photons} photons per walker; seeds differ between walkers");
     println!(
-        "| model | direct mean (l/c units) | accelerated / direct | σ of ratio | KS distance | KS p-value | steps per photon direct → accelerated |"
+        "{photons} direct and {accelerated_photons} accelerated photons, seeds 1 and 2; γ = {}, ε = {}",
+        acceleration.gamma, acceleration.epsilon
     );
-    println!("|---|---|---|---|---|---|---|");
-    println!("γ = {}, ε = {}", acceleration.gamma, acceleration.epsilon);
-    for (index, (name, medium)) in cases.into_iter().enumerate() {
-        if only.is_some_and(|wanted| wanted != index) {
+    println!(
+        "| # | model | time accelerated / direct | scatterings accelerated / direct | KS distance | KS p-value | steps per photon direct → accelerated | seconds direct → accelerated |"
+    );
+    println!("|---|---|---|---|---|---|---|---|");
+    for (index, (name, build)) in cases.iter().enumerate() {
+        if only.as_ref().is_some_and(|wanted| !wanted.contains(&index)) {
             continue;
         }
-        let (direct, direct_steps) = escapes(&medium, Method::Direct, photons, 1, acceleration);
-        let (fast, fast_steps) = escapes(&medium, Method::Accelerated, photons, 2, acceleration);
-        let (m1, e1) = (
-            direct.time_s().mean().unwrap(),
-            direct.time_s().std_error().unwrap(),
+        let medium = build();
+        let (direct, direct_steps, direct_s) =
+            escapes(&medium, Method::Direct, photons, 1, acceleration, index);
+        let (fast, fast_steps, fast_s) = escapes(
+            &medium,
+            Method::Accelerated,
+            accelerated_photons,
+            2,
+            acceleration,
+            index,
         );
-        let (m2, e2) = (
-            fast.time_s().mean().unwrap(),
-            fast.time_s().std_error().unwrap(),
-        );
-        let ratio = m2 / m1;
-        let ratio_sigma = ratio * ((e1 / m1).powi(2) + (e2 / m2).powi(2)).sqrt();
-        let (counts_direct, counts_fast) = direct
-            .time_histogram()
-            .aligned_counts(fast.time_histogram());
-        let d = two_sample_ks_binned(&counts_direct, &counts_fast);
+        let (time, time_sigma) = ratio(fast.time_s(), direct.time_s());
+        let (scatterings, scatterings_sigma) = ratio(fast.scatterings(), direct.scatterings());
+        let d = {
+            let (left, right) = direct
+                .time_histogram()
+                .aligned_counts(fast.time_histogram());
+            two_sample_ks_binned(&left, &right)
+        };
         let (n1, n2) = (direct.count() as f64, fast.count() as f64);
         let p = kolmogorov_p_value(d, n1 * n2 / (n1 + n2));
-        let unit = sojourn::units::SPEED_OF_LIGHT_CM_S * medium.layers()[0].extinction_per_cm();
         println!(
-            "| {name} | {:.5e} | {ratio:.4} | {ratio_sigma:.4} | {d:.4} | {p:.3} | {direct_steps:.0} → {fast_steps:.1} |",
-            m1 * unit
+            "| {index} | {name} | {time:.4} ± {time_sigma:.4} | {scatterings:.4} ± {scatterings_sigma:.4} | {d:.4} | {p:.3} | {direct_steps:.0} → {fast_steps:.1} | {direct_s:.1} → {fast_s:.1} |"
         );
     }
 }

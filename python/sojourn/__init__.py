@@ -111,7 +111,7 @@ class RunResult:
         return int(self._report["seed"])
 
     def escape_times(self, which: str = "all") -> Histogram:
-        """The escape-time histogram of the run, seconds: bins log-spaced, 200 per decade
+        """The escape-time histogram of the run, seconds: bins 1024 per octave (each at most 0.098 % wide)
         (the tally's own bins, from which the report's quantiles come), trimmed to the
         occupied range. ``which`` is ``"all"`` (every photon that left the medium, the
         report's ``escape_time``), ``"escaped"`` (spheres), ``"reflected"`` or

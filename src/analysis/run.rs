@@ -178,6 +178,10 @@ pub struct StopAt {
 /// How the walk went: method, absorption treatment and cost.
 #[derive(Debug, Clone, Serialize)]
 pub struct WalkSummary {
+    /// The walker that ran: "direct" or "accelerated" (what `auto` chose).
+    pub method_used: String,
+    /// Why that walker ([`crate::simulation::plan`]).
+    pub method_reason: String,
     /// Jump threshold γ in transport mean free paths (accelerated walks; null for direct).
     pub gamma: Option<f64>,
     /// Mean-free-path tolerance ε across a jump sphere (accelerated walks; null for direct).
@@ -356,7 +360,7 @@ impl RunAnalysis {
                 .then(|| DistributionSummary::of_time(tally.transmitted()).seconds()),
             diffusion,
             comparison,
-            walk: WalkSummary::new(config, tally),
+            walk: WalkSummary::new(medium, config, tally),
             slab_diffusion: slab,
             resolved: resolved_summary(medium, tally),
             luminosity_erg_s: stellar.as_ref().and_then(|s| s.luminosity_erg_s),
@@ -371,14 +375,17 @@ impl RunAnalysis {
 }
 
 impl WalkSummary {
-    /// The walk of `tally`'s photons, run with `config`. A new field goes into the struct
-    /// and here, nowhere else.
-    pub fn new(config: &RunConfig, tally: &Tally) -> Self {
+    /// The walk of `tally`'s photons, run with `config` on `medium`. A new field goes into
+    /// the struct and here, nowhere else.
+    pub fn new(medium: &Medium, config: &RunConfig, tally: &Tally) -> Self {
         let launched = tally.launched().max(1) as f64;
         let walk = tally.walk();
         let total_time = walk.total_time_s.value();
-        let accelerated = config.method != Method::Direct;
+        let plan = crate::simulation::plan(medium, config);
+        let accelerated = plan.method == Method::Accelerated;
         Self {
+            method_used: plan.method.name().to_string(),
+            method_reason: plan.reason,
             gamma: accelerated.then_some(config.acceleration.gamma),
             epsilon: accelerated.then_some(config.acceleration.epsilon),
             drift_correction: accelerated.then_some(config.acceleration.drift_correction),

@@ -14,7 +14,7 @@ use sojourn::medium::model_file::{
 };
 use sojourn::medium::{Geometry, Medium};
 use sojourn::report::{RunReport, render_run_report};
-use sojourn::simulation::{Method, RunConfig};
+use sojourn::simulation::{Method, PlanError, RunConfig};
 use sojourn::transport::{Acceleration, WalkLimits};
 
 use super::figures::write_run_figures;
@@ -41,16 +41,16 @@ pub struct RunArgs {
     /// Free flights allowed per photon before it is counted as censored.
     #[arg(long, default_value_t = WalkLimits::default().max_steps, value_parser = clap::value_parser!(u64).range(1..))]
     max_steps: u64,
-    /// Walk method: `direct` (every scattering), `accelerated` (diffusion jumps deep inside
-    /// nearly uniform regions), `auto` (the accelerated walker; identical to direct where no
-    /// jump applies).
+    /// Walk method: `direct` (every scattering), `accelerated` (diffusion jumps deep inside),
+    /// `auto` (whichever a cost estimate finds cheaper; the report says which and why).
     #[arg(long, value_enum, default_value_t = MethodArg::Auto)]
     method: MethodArg,
-    /// Accelerated walk: jump only where the distance to the nearest interface is at least
-    /// GAMMA transport mean free paths.
+    /// Accelerated walk: smallest jump, in transport mean free paths (a jump starts at least
+    /// GAMMA from where it can end, and never within GAMMA of a surface or interface).
     #[arg(long, default_value_t = Acceleration::default().gamma, value_parser = positive_number)]
     gamma: f64,
-    /// Accelerated walk: relative change of the mean free path allowed inside a jump sphere.
+    /// Accelerated walk: gradient tolerance; jumps only where the transport mean free path
+    /// changes by at most EPSILON (relative) over GAMMA mean free paths.
     #[arg(long, default_value_t = Acceleration::default().epsilon, value_parser = positive_number)]
     epsilon: f64,
     /// Accelerated walk: do not tilt jump exits along the gradient of the diffusion
@@ -91,6 +91,10 @@ pub struct RunArgs {
     /// it. Not with --shard or --checkpoint.
     #[arg(long, value_enum, value_name = "WHERE", conflicts_with_all = ["shard", "checkpoint"])]
     stop_at: Option<StopAtArg>,
+    /// Run even when the estimated cost exceeds the limit for one run (10^11 steps, about
+    /// an hour of one core); the estimate is printed when a run is refused.
+    #[arg(long)]
+    allow_long_run: bool,
 }
 
 /// Where `--stop-at` stops the walk.
@@ -214,6 +218,15 @@ pub fn execute(args: RunArgs) -> Result<()> {
     }
     let pool = pool.build().context("cannot start the worker threads")?;
     let scaled = ScaledRun::new(&args.scale, &config, &model, &file);
+    sojourn::simulation::plan(&medium, scaled.config())
+        .check(scaled.config().photons, args.allow_long_run)
+        .map_err(|refusal| match refusal {
+            PlanError::TooLong { .. } => anyhow::anyhow!(
+                "{file}: refused before starting: {refusal}; use fewer photons, \
+                 --method auto or accelerated, or pass --allow-long-run"
+            ),
+            PlanError::Stalled { .. } => anyhow::anyhow!("{file}: cannot run: {refusal}"),
+        })?;
     let result = pool.install(|| scaled.run(&medium))?;
     let mut report = RunReport::new(&medium, &file, scaled.config(), &result);
     scaled.annotate(&mut report);

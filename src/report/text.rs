@@ -362,6 +362,7 @@ pub fn render_run_report(report: &RunReport) -> String {
             format_significant(w.direct_steps_per_photon, 4)
         );
     }
+    let _ = writeln!(out, "  walker: {}, {}", w.method_used, w.method_reason);
     let _ = writeln!(out);
     for note in &report.analysis.notes {
         let _ = writeln!(out, "note: {note}");

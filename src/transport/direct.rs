@@ -5,6 +5,14 @@
 //! it layer by layer along the ray, using exact ray–sphere or ray–plane distances, until it
 //! is used up (an interaction) or the photon leaves the medium. No step ever uses the mean
 //! free path of its starting point alone, so the walk is exact for any layering.
+//!
+//! Most flights end inside the layer they start in, so the walk first tries that: the end
+//! point p + s u is tested against the layer with squared radii (sphere) or depths (slab),
+//! with no square root. Only a flight that fails the test goes through the exact
+//! boundary-crossing code (ray–shell distances, Fresnel and Snell at index steps). The loop
+//! over in-layer flights keeps the photon in local variables and is compiled separately for
+//! isotropic scattering (no phase-function dispatch, a Marsaglia direction per scattering)
+//! and for the other phase functions.
 
 use nalgebra::Vector3;
 use rand::{Rng, RngExt};
@@ -12,7 +20,7 @@ use rand_distr::Exp1;
 
 use super::direction;
 use super::fresnel::{fresnel_reflectance, refract_across_z};
-use super::geometry::{Exit, plane_exit, segment_inside_shell, shell_exit};
+use super::geometry::{Exit, plane_exit};
 use super::phase::PhaseFunction;
 use crate::medium::{EmissionSampler, Geometry, Medium, Source};
 use crate::tally::{Outcome, PhotonRecord};
@@ -21,7 +29,7 @@ use crate::units::SPEED_OF_LIGHT_CM_S;
 /// Limits on a single photon's walk.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct WalkLimits {
-    /// Free flights allowed before the photon is counted as censored.
+    /// Free flights (and diffusion jumps) allowed before the photon is counted as censored.
     pub max_steps: u64,
 }
 
@@ -37,6 +45,8 @@ impl Default for WalkLimits {
 #[derive(Debug, Clone)]
 struct LayerOptics {
     extinction_per_cm: f64,
+    /// 1/σ, cm (infinite for a transparent layer).
+    mean_free_path_cm: f64,
     albedo: f64,
     phase: PhaseFunction,
     /// n / c, s/cm: time per unit path length.
@@ -90,6 +100,40 @@ impl Photon {
     }
 }
 
+/// Where a diffusion jump may replace the walk: asked at every scattering site.
+pub(super) trait JumpSites {
+    /// Whether a jump may start at `position` in layer `layer`.
+    fn jump_here(&self, position: &Vector3<f64>, layer: usize) -> bool;
+}
+
+/// No jumps anywhere: the direct walk.
+pub(super) struct NoJumps;
+
+impl JumpSites for NoJumps {
+    #[inline(always)]
+    fn jump_here(&self, _: &Vector3<f64>, _: usize) -> bool {
+        false
+    }
+}
+
+/// Why [`DirectWalker::follow`] returned.
+pub(super) enum Stop {
+    /// The walk ended.
+    Ended(Outcome),
+    /// The photon scattered at a site where a jump may start; its direction is still the
+    /// incoming one (no outgoing direction was drawn).
+    JumpSite,
+}
+
+/// Why the in-layer loop returned.
+enum InLayer {
+    /// The walk stopped (ended, or a jump site).
+    Stop(Stop),
+    /// The current flight, of optical depth `tau`, leaves the layer; the photon has not
+    /// moved yet.
+    Leaves(f64),
+}
+
 /// The direct Monte Carlo walker for one medium. Immutable and `Sync`: share it between
 /// threads and give each photon its own random stream.
 #[derive(Debug, Clone)]
@@ -124,6 +168,7 @@ impl DirectWalker {
                 };
                 LayerOptics {
                     extinction_per_cm: layer.extinction_per_cm(),
+                    mean_free_path_cm: 1.0 / layer.extinction_per_cm(),
                     albedo: layer.albedo(),
                     phase: *layer.phase(),
                     slowness_s_cm: layer.refractive_index() / SPEED_OF_LIGHT_CM_S,
@@ -152,17 +197,9 @@ impl DirectWalker {
         let outcome = if reflected_at_entry {
             Outcome::Specular
         } else {
-            loop {
-                if photon.steps >= self.limits.max_steps {
-                    break Outcome::Censored;
-                }
-                photon.steps += 1;
-                if let Some(outcome) = self.fly(&mut photon, rng) {
-                    break outcome;
-                }
-                if let Some(outcome) = self.interact(&mut photon, rng) {
-                    break outcome;
-                }
+            match self.follow(&mut photon, rng, &NoJumps) {
+                Stop::Ended(outcome) => outcome,
+                Stop::JumpSite => unreachable!("the direct walk has no jump sites"),
             }
         };
         photon.record(outcome, 0.0, photon.steps as f64, 0.0)
@@ -178,27 +215,116 @@ impl DirectWalker {
         !matches!(self.source, Source::Beam { .. } | Source::Diffuse)
     }
 
-    /// An interaction at the photon's position: absorption (returns the outcome) or a
-    /// scattering into a new direction drawn from the layer's phase function.
+    /// A scattering at the photon's position into a direction drawn from the layer's phase
+    /// function (the scattering itself is already counted).
     #[inline(always)]
-    pub(super) fn interact<R: Rng + ?Sized>(
-        &self,
-        photon: &mut Photon,
-        rng: &mut R,
-    ) -> Option<Outcome> {
-        let layer = &self.layers[photon.layer];
-        if layer.albedo < 1.0 && rng.random::<f64>() >= layer.albedo {
-            return Some(Outcome::Absorbed);
-        }
-        photon.scatterings += 1.0;
-        photon.direction = match layer.phase {
+    pub(super) fn scatter<R: Rng + ?Sized>(&self, photon: &mut Photon, rng: &mut R) {
+        photon.direction = match self.layers[photon.layer].phase {
             PhaseFunction::Isotropic => direction::isotropic(rng),
             phase => {
                 let cos_theta = phase.sample_cosine(rng);
                 direction::scatter(&photon.direction, cos_theta, rng)
             }
         };
-        None
+    }
+
+    /// Flights and interactions from the photon's current state: starts with a flight,
+    /// and returns when the walk ends or, after an interaction that is a scattering, where
+    /// `jumps` allows a jump (before the scattering direction is drawn).
+    #[inline(always)]
+    pub(super) fn follow<R: Rng + ?Sized, J: JumpSites>(
+        &self,
+        photon: &mut Photon,
+        rng: &mut R,
+        jumps: &J,
+    ) -> Stop {
+        let mut interaction_pending = false;
+        loop {
+            let run = match self.layers[photon.layer].phase {
+                PhaseFunction::Isotropic => {
+                    self.in_layer::<R, J, true>(photon, interaction_pending, rng, jumps)
+                }
+                _ => self.in_layer::<R, J, false>(photon, interaction_pending, rng, jumps),
+            };
+            match run {
+                InLayer::Stop(stop) => return stop,
+                InLayer::Leaves(tau) => {
+                    if let Some(outcome) = self.cross(photon, tau, rng) {
+                        return Stop::Ended(outcome);
+                    }
+                    interaction_pending = true;
+                }
+            }
+        }
+    }
+
+    /// The loop over flights that end inside the photon's current layer, with the photon in
+    /// local variables. Starts with the pending interaction, if any, then alternates flight
+    /// and interaction. Returns at the first flight that leaves the layer (the photon not
+    /// yet moved), at the end of the walk, or at a jump site.
+    #[inline(always)]
+    fn in_layer<R: Rng + ?Sized, J: JumpSites, const ISOTROPIC: bool>(
+        &self,
+        photon: &mut Photon,
+        mut interaction_pending: bool,
+        rng: &mut R,
+        jumps: &J,
+    ) -> InLayer {
+        let layer = &self.layers[photon.layer];
+        let index = photon.layer;
+        let sphere = self.geometry == Geometry::Sphere;
+        let (inner, outer) = (layer.inner, layer.outer);
+        let (mean_free_path, slowness, albedo) =
+            (layer.mean_free_path_cm, layer.slowness_s_cm, layer.albedo);
+        let absorbing = albedo < 1.0;
+        let max_steps = self.limits.max_steps;
+        let mut p = photon.position;
+        let mut u = photon.direction;
+        let mut time_s = photon.time_s;
+        let mut scatterings = photon.scatterings;
+        let mut steps = photon.steps;
+        let stop = loop {
+            if interaction_pending {
+                if absorbing && rng.random::<f64>() >= albedo {
+                    break InLayer::Stop(Stop::Ended(Outcome::Absorbed));
+                }
+                scatterings += 1.0;
+                if jumps.jump_here(&p, index) {
+                    break InLayer::Stop(Stop::JumpSite);
+                }
+                u = if ISOTROPIC {
+                    direction::isotropic(rng)
+                } else {
+                    let cos_theta = layer.phase.sample_cosine(rng);
+                    direction::scatter(&u, cos_theta, rng)
+                };
+            }
+            interaction_pending = true;
+            if steps >= max_steps {
+                break InLayer::Stop(Stop::Ended(Outcome::Censored));
+            }
+            steps += 1;
+            let tau: f64 = rng.sample(Exp1);
+            let s = tau * mean_free_path;
+            let end = p + s * u;
+            let inside = if sphere {
+                let end_sq = end.norm_squared();
+                end_sq <= outer && (inner == 0.0 || clear_of_inner_sphere(&p, &u, s, inner))
+            } else {
+                end.z >= inner && end.z <= outer
+            };
+            if !inside {
+                break InLayer::Leaves(tau);
+            }
+            p = end;
+            time_s += s * slowness;
+        };
+        photon.position = p;
+        photon.direction = u;
+        photon.time_s = time_s;
+        photon.scatterings = scatterings;
+        photon.steps = steps;
+        stop
     }
 
     /// A photon at the source, with its initial direction, and whether it was reflected
@@ -276,52 +402,93 @@ impl DirectWalker {
         false
     }
 
-    /// One free flight: spends a fresh exponential optical depth across layers. Returns the
-    /// outcome if the photon leaves the medium (or can never interact), `None` at an
-    /// interaction point.
-    #[inline(always)]
-    pub(super) fn fly<R: Rng + ?Sized>(&self, photon: &mut Photon, rng: &mut R) -> Option<Outcome> {
-        let mut tau: f64 = rng.sample(Exp1);
-        loop {
-            let layer = &self.layers[photon.layer];
-            if self.geometry == Geometry::Sphere && layer.extinction_per_cm > 0.0 {
-                let s = tau / layer.extinction_per_cm;
-                if segment_inside_shell(
-                    &photon.position,
-                    &photon.direction,
-                    s,
-                    layer.inner,
-                    layer.outer,
-                ) {
-                    photon.position += s * photon.direction;
-                    photon.time_s += s * layer.slowness_s_cm;
-                    return None;
-                }
+    /// The rest of a flight of optical depth `tau` that leaves the photon's layer: spends
+    /// it across layers with exact distances. Returns the outcome if the photon leaves the
+    /// medium (or can never interact), `None` at an interaction point.
+    fn cross<R: Rng + ?Sized>(
+        &self,
+        photon: &mut Photon,
+        tau: f64,
+        rng: &mut R,
+    ) -> Option<Outcome> {
+        match self.geometry {
+            Geometry::Sphere => self.cross_shells(photon, tau),
+            Geometry::Slab => self.cross_planes(photon, tau, rng),
+        }
+    }
+
+    /// [`Self::cross`] in a sphere. Along the ray x(t) = c + t u, with c the point of
+    /// closest approach to the centre and h² = |c|² its squared distance, the radius is
+    /// r² = h² + t²: the distance to a shell boundary of radius ρ is √(ρ² − h²) − t outward,
+    /// −t − √(ρ² − h²) inward. The walk advances the scalar t across shells and moves the
+    /// photon once, at the end.
+    fn cross_shells(&self, photon: &mut Photon, mut tau: f64) -> Option<Outcome> {
+        let start = photon.position;
+        let u = photon.direction;
+        let b = start.dot(&u);
+        let impact_sq = (start.norm_squared() - b * b).max(0.0);
+        let mut along = b;
+        let mut travelled = 0.0;
+        let mut layer_index = photon.layer;
+        let outcome = loop {
+            let layer = &self.layers[layer_index];
+            let inward = along < 0.0 && layer.inner > impact_sq;
+            let distance = if inward {
+                -along - (layer.inner - impact_sq).sqrt()
+            } else {
+                (layer.outer - impact_sq).max(0.0).sqrt() - along
             }
-            let (distance, exit) = match self.geometry {
-                Geometry::Sphere => shell_exit(
-                    &photon.position,
-                    &photon.direction,
-                    layer.inner,
-                    layer.outer,
-                ),
-                Geometry::Slab => plane_exit(
-                    photon.position.z,
-                    photon.direction.z,
-                    layer.inner,
-                    layer.outer,
-                ),
-            };
-            if !distance.is_finite() {
-                // Gliding parallel to the faces of a transparent layer: it never interacts.
-                return Some(Outcome::Censored);
-            }
+            .max(0.0);
             let tau_to_exit = layer.extinction_per_cm * distance;
             if tau < tau_to_exit {
-                let s = tau / layer.extinction_per_cm;
+                let s = tau * layer.mean_free_path_cm;
+                travelled += s;
+                photon.time_s += s * layer.slowness_s_cm;
+                break None;
+            }
+            tau -= tau_to_exit;
+            travelled += distance;
+            along += distance;
+            photon.time_s += distance * layer.slowness_s_cm;
+            if inward {
+                layer_index -= 1;
+            } else if layer_index + 1 == self.layers.len() {
+                break Some(Outcome::Escaped);
+            } else {
+                layer_index += 1;
+            }
+        };
+        photon.position = start + travelled * u;
+        photon.layer = layer_index;
+        outcome
+    }
+
+    /// [`Self::cross`] in a slab, with Fresnel reflection and Snell refraction at index
+    /// steps.
+    fn cross_planes<R: Rng + ?Sized>(
+        &self,
+        photon: &mut Photon,
+        mut tau: f64,
+        rng: &mut R,
+    ) -> Option<Outcome> {
+        loop {
+            let layer = &self.layers[photon.layer];
+            let (distance, exit) = plane_exit(
+                photon.position.z,
+                photon.direction.z,
+                layer.inner,
+                layer.outer,
+            );
+            let tau_to_exit = layer.extinction_per_cm * distance;
+            if tau < tau_to_exit {
+                let s = tau * layer.mean_free_path_cm;
                 photon.position += s * photon.direction;
                 photon.time_s += s * layer.slowness_s_cm;
                 return None;
+            }
+            if !distance.is_finite() {
+                // Gliding parallel to the faces of a transparent layer: it never interacts.
+                return Some(Outcome::Censored);
             }
             tau -= tau_to_exit;
             photon.position += distance * photon.direction;
@@ -331,15 +498,89 @@ impl DirectWalker {
             }
             match exit {
                 Exit::Next if photon.layer + 1 == self.layers.len() => {
-                    return Some(match self.geometry {
-                        Geometry::Sphere => Outcome::Escaped,
-                        Geometry::Slab => Outcome::Transmitted,
-                    });
+                    return Some(Outcome::Transmitted);
                 }
                 Exit::Next => photon.layer += 1,
                 Exit::Previous if photon.layer == 0 => return Some(Outcome::Reflected),
                 Exit::Previous => photon.layer -= 1,
             }
         }
+    }
+}
+
+/// Whether the segment from `p` along unit `u` of length `s` stays outside the sphere of
+/// squared radius `inner_sq` (the end point is already known to be inside the outer one):
+/// the closest approach to the centre, at t = clamp(−p·u, 0, s), is tested, squared.
+#[inline(always)]
+fn clear_of_inner_sphere(p: &Vector3<f64>, u: &Vector3<f64>, s: f64, inner_sq: f64) -> bool {
+    let b = p.dot(u);
+    let t = (-b).clamp(0.0, s);
+    p.norm_squared() + t * (2.0 * b + t) >= inner_sq
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::medium::Layer;
+
+    fn nearly_clear_sphere() -> DirectWalker {
+        // Core of radius 1 inside a sphere of radius 4; extinction so small that a flight
+        // of optical depth 1 crosses everything.
+        let layer = |sigma| Layer::new("", sigma, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
+        let medium = Medium::sphere(
+            vec![(1.0, layer(1e-9)), (4.0, layer(2e-9))],
+            Source::centre(),
+        )
+        .unwrap();
+        DirectWalker::new(&medium, WalkLimits::default())
+    }
+
+    fn photon(position: Vector3<f64>, direction: Vector3<f64>, layer: usize) -> Photon {
+        Photon {
+            position,
+            direction,
+            layer,
+            time_s: 0.0,
+            scatterings: 0.0,
+            steps: 0,
+        }
+    }
+
+    #[test]
+    fn a_ray_through_the_core_leaves_after_the_full_chord() {
+        let walker = nearly_clear_sphere();
+        // From (0, 0.5, 3) straight down: through the core, out at z = −√(16 − 0.25).
+        let mut p = photon(Vector3::new(0.0, 0.5, 3.0), Vector3::new(0.0, 0.0, -1.0), 1);
+        assert_eq!(walker.cross_shells(&mut p, 1.0), Some(Outcome::Escaped));
+        let chord = 3.0 + 15.75f64.sqrt();
+        assert!((p.time_s * SPEED_OF_LIGHT_CM_S / chord - 1.0).abs() < 1e-14);
+        assert!((p.position.z + 15.75f64.sqrt()).abs() < 1e-12);
+        // A ray that misses the core: from (0, 0, 3) along −x, out at x = −√7.
+        let mut p = photon(Vector3::new(0.0, 0.0, 3.0), Vector3::new(-1.0, 0.0, 0.0), 1);
+        assert_eq!(walker.cross_shells(&mut p, 1.0), Some(Outcome::Escaped));
+        assert!((p.time_s * SPEED_OF_LIGHT_CM_S / 7f64.sqrt() - 1.0).abs() < 1e-14);
+    }
+
+    #[test]
+    fn optical_depth_is_spent_layer_by_layer() {
+        let walker = nearly_clear_sphere();
+        // Down from z = 3: 2 cm in the envelope (τ = 4e-9), then into the core (1e-9/cm):
+        // τ = 5e-9 ends 1 cm further, at the centre.
+        let mut p = photon(Vector3::new(0.0, 0.0, 3.0), Vector3::new(0.0, 0.0, -1.0), 1);
+        assert_eq!(walker.cross_shells(&mut p, 5e-9), None);
+        assert_eq!(p.layer, 0);
+        assert!(p.position.z.abs() < 1e-6, "{}", p.position.z);
+    }
+
+    #[test]
+    fn inner_sphere_test_sees_the_core() {
+        let p = Vector3::new(0.0, 0.5, 3.0);
+        let u = Vector3::new(0.0, 0.0, -1.0);
+        // Passes through the core of radius 1 on the way to z = -3.
+        assert!(!clear_of_inner_sphere(&p, &u, 6.0, 1.0));
+        // Stops before reaching it.
+        assert!(clear_of_inner_sphere(&p, &u, 1.5, 1.0));
+        // Moving away from the core.
+        assert!(clear_of_inner_sphere(&p, &(-u), 5.0, 1.0));
     }
 }

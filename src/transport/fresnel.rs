@@ -38,7 +38,7 @@ mod tests {
 
     #[test]
     fn normal_incidence_is_the_textbook_value() {
-        // ((n − 1)/(n + 1))² at normal incidence (Born & Wolf §1.5.2; REFERENCES item 6:
+        // ((n − 1)/(n + 1))² at normal incidence (Born & Wolf §1.5.2; the textbook value
         // 0.04 for n = 1.5 against 1.0), the same in both directions.
         assert!((fresnel_reflectance(1.0, 1.0, 1.5) - 0.04).abs() < 1e-15);
         assert!((fresnel_reflectance(1.0, 1.5, 1.0) - 0.04).abs() < 1e-15);

@@ -1,14 +1,22 @@
 //! Photon transport: phase functions, random streams, direction sampling and the walkers.
 
 mod accelerated;
+mod cost;
 pub mod crossing;
 mod direct;
 pub mod direction;
 pub mod fresnel;
 mod geometry;
+mod jump_spheres;
+mod milne;
 mod phase;
+mod radial_chain;
+mod radial_passage;
+mod radial_profile;
 pub mod rng;
+mod tridiagonal;
 
 pub use accelerated::{AcceleratedWalker, Acceleration};
+pub use cost::{STALL_ULPS, Stall, WalkCost};
 pub use direct::{DirectWalker, WalkLimits};
 pub use phase::PhaseFunction;

@@ -38,6 +38,8 @@ const ADDED: &[&str] = &[
     "zones[].outer_radius_cm",
     "stop_at",
     "effective_photons",
+    "walk.method_used",
+    "walk.method_reason",
     "comparison.ks_p_value",
     "comparison.times_comparable",
     "comparison.verdict",

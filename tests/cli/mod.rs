@@ -15,3 +15,4 @@ mod shards;
 mod star_command;
 mod stellar_runs;
 mod sweeps;
+mod walk_plan;

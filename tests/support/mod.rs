@@ -4,6 +4,7 @@
 
 pub mod chandrasekhar;
 pub mod profiles;
+pub mod radial_diffusion;
 
 use sojourn::medium::{Layer, Medium, Source};
 use sojourn::simulation::{Method, RunConfig, RunResult, run};

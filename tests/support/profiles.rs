@@ -28,3 +28,38 @@ pub fn exponential_sphere(central: f64, falloff: f64, radius_cm: f64, shells: us
 pub fn exponential_sphere_depth(central: f64, falloff: f64, radius_cm: f64) -> f64 {
     central * radius_cm * (1.0 - (-falloff).exp()) / falloff
 }
+
+/// The steep-profile check model: one tabulated profile layer, radius 0…1 cm in 200 steps,
+/// opacity 1 cm²/g, density 1200.4027 e^(−8r) g/cm³ (σ(r) = ρ(r)), centred source, built
+/// through the model-file loader with its default sub-shell tolerance. Its optical radius
+/// is 1200.4027 (1 − e⁻⁸)/8 = 150.02.
+pub fn steep_profile_sphere() -> Medium {
+    let radius: Vec<f64> = (0..=200).map(|k| k as f64 / 200.0).collect();
+    let density: Vec<f64> = radius
+        .iter()
+        .map(|r| 1200.4027 * (-8.0 * r).exp())
+        .collect();
+    let opacity = vec![1.0; radius.len()];
+    let model = serde_json::json!({
+        "name": "steep exponential profile",
+        "geometry": "sphere",
+        "layers": [{
+            "name": "steep",
+            "profile": { "radius": radius, "density": density, "opacity": opacity }
+        }]
+    });
+    sojourn::medium::model_file::model_from_value(&model, "steep profile").expect("valid model")
+}
+
+/// A uniform sphere of radius 1 cm, optical radius `tau` (extinction `tau`/cm), albedo 1,
+/// phase function `phase`, isotropic point source at `source_radius_cm`.
+pub fn uniform_sphere_from(tau: f64, phase: PhaseFunction, source_radius_cm: f64) -> Medium {
+    let layer = Layer::new("", tau, 1.0, phase, 1.0).expect("valid layer");
+    Medium::sphere(
+        vec![(1.0, layer)],
+        Source::SpherePoint {
+            radius_cm: source_radius_cm,
+        },
+    )
+    .expect("valid sphere")
+}

@@ -1,5 +1,12 @@
 //! Running many photons: parallel over photons with rayon, one random stream per photon,
 //! tallies merged exactly, so a seed fixes the result bit for bit whatever the thread count.
+//! [`plan`] decides beforehand which walker runs and what it will cost.
+
+mod plan;
+
+pub use plan::{
+    DIRECT_PREFERRED_FLIGHTS, LONG_RUN_STEPS, PlanError, STEPS_PER_CORE_SECOND, WalkPlan, plan,
+};
 
 use std::time::Instant;
 
@@ -17,9 +24,10 @@ use crate::transport::{AcceleratedWalker, Acceleration, DirectWalker, WalkLimits
 pub enum Method {
     /// Every flight and scattering simulated.
     Direct,
-    /// Diffusion jumps wherever R₀ ≥ γ l_tr, direct steps elsewhere.
+    /// Diffusion jumps deep inside (radial passages in spheres, local jumps in slabs),
+    /// direct steps elsewhere.
     Accelerated,
-    /// The accelerated walker (identical photons to `direct` where no jump applies).
+    /// Direct or accelerated, whichever [`plan`] estimates to be cheaper.
     #[default]
     Auto,
 }
@@ -58,13 +66,15 @@ enum Walker {
 
 impl Walker {
     fn new(medium: &Medium, config: &RunConfig) -> Self {
-        match config.method {
-            Method::Direct => Walker::Direct(DirectWalker::new(medium, config.limits)),
-            Method::Accelerated | Method::Auto => Walker::Accelerated(AcceleratedWalker::new(
+        match plan(medium, config).method {
+            Method::Accelerated => Walker::Accelerated(AcceleratedWalker::new(
                 medium,
                 config.limits,
                 config.acceleration,
             )),
+            Method::Direct | Method::Auto => {
+                Walker::Direct(DirectWalker::new(medium, config.limits))
+            }
         }
     }
 
