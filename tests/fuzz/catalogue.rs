@@ -31,7 +31,8 @@ struct Case {
     files: &'static [(&'static str, Content)],
     /// Arguments of `sojourn`.
     args: &'static [&'static str],
-    /// The exit status (1: refused by sojourn; 2: refused by the argument parser).
+    /// The exit status (1: refused by sojourn; 2: refused by the argument parser; 0 for the
+    /// few fuzz finds that are valid input and must simply run).
     status: i32,
     /// Words the message on stderr must hold.
     needles: &'static [&'static str],
@@ -40,6 +41,7 @@ struct Case {
 use Content::{Bytes, Copy, Folder, Sparse, Tampered, Text};
 
 const SPHERE: &str = "models/test-sphere-tau20.json";
+const SUN_LIKE: &str = "models/veyra-n3-sun-like.json";
 const RUN_SHARD_1: &str = "tests/fuzz/corpus/run-shard-1-of-2.json";
 const RUN_SHARD_2: &str = "tests/fuzz/corpus/run-shard-2-of-2.json";
 const SWEEP_SHARD_1: &str = "tests/fuzz/corpus/sweep-shard-1-of-2.json";
@@ -317,7 +319,40 @@ const CASES: &[Case] = &[
         status: 1,
         needles: &["many-layers.json", "layers", "10001", "at most 10000"],
     },
+    Case {
+        name: "a mean free path below the resolution of positions (refused by the run plan)",
+        files: &[(
+            "m.json",
+            Text(
+                r#"{"geometry":"sphere","layers":[{"outer_radius":2e23,"extinction_coefficient":10}]}"#,
+            ),
+        )],
+        args: &["run", "m.json"],
+        status: 1,
+        needles: &[
+            "m.json: cannot run: layers[0]",
+            "below 16 units in the last place of positions",
+        ],
+    },
     // Profiles.
+    Case {
+        name: "fuzz find: a 3.9 K row inside a star (tau 1.6e17 in one shell) runs, no panic",
+        files: &[(
+            "m.json",
+            Tampered(SUN_LIKE, "/layers/0/profile/temperature/325", "3.9"),
+        )],
+        args: &[
+            "run",
+            "m.json",
+            "--photons",
+            "3",
+            "--max-steps",
+            "20000",
+            "-q",
+        ],
+        status: 0,
+        needles: &[],
+    },
     Case {
         name: "profile temperature 0",
         files: &[(

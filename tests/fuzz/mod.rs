@@ -164,7 +164,7 @@ fn the_corpus_loads() {
 }
 
 /// Seeds per target in the quick campaign: every corpus file gets this many mutants.
-const QUICK_SEEDS: u64 = 60;
+const QUICK_SEEDS: u64 = 30;
 
 #[test]
 fn quick_campaign_finds_no_panic() {

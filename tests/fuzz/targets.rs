@@ -11,7 +11,7 @@ use sojourn::opacity::OpacitySpec;
 use sojourn::opacity::table::OpacityTable;
 use sojourn::report::{ProfileReport, RunReport, render_run_report};
 use sojourn::shard::{merge_run_shards, read_run_shard};
-use sojourn::simulation::{RunConfig, run};
+use sojourn::simulation::{RunConfig, plan, run};
 use sojourn::sweep::ResolvedSpec;
 use sojourn::sweep::merge::{ShardFile, merge_sweep_shards, parse_shard_file};
 use sojourn::transport::WalkLimits;
@@ -94,12 +94,16 @@ fn small_run() -> RunConfig {
     }
 }
 
-/// Loads a model; one that loads is run for a few photons and reported, and a sphere gets
+/// Loads a model; one that loads and that the run plan accepts (as `sojourn run` checks it;
+/// the step cap bounds the cost) is run for a few photons and reported, and a sphere gets
 /// its profile report.
 fn model(text: &str, file: &str) -> Result<(), String> {
     let value = parse_model_value(text, file).map_err(|e| e.to_string())?;
     let medium = model_from_value(&value, file).map_err(|e| e.to_string())?;
     let config = small_run();
+    plan(&medium, &config)
+        .check(config.photons, true)
+        .map_err(|e| e.to_string())?;
     let result = run(&medium, &config);
     let report = RunReport::new(&medium, file, &config, &result);
     render_run_report(&report);
