@@ -51,6 +51,60 @@ pub const MIN_COEFFICIENT_PER_CM: f64 = 1e-30;
 /// τ² and the diffusion times stay finite numbers.
 pub const MAX_OPTICAL_DEPTH: f64 = 1e30;
 
+/// The README's table of input limits (Markdown), made from the constants above; a test
+/// checks that the README holds it word for word.
+pub fn limits_table() -> String {
+    let rows = [
+        (
+            "Model file, sweep spec, opacity or column table".to_string(),
+            describe_bytes(MAX_TEXT_BYTES),
+        ),
+        (
+            "Shard file, checkpoint, sweep point file".to_string(),
+            describe_bytes(MAX_STATE_BYTES),
+        ),
+        ("Layers in a model".to_string(), group(MAX_LAYERS as u64)),
+        (
+            "Rows of one tabulated profile".to_string(),
+            group(MAX_PROFILE_ROWS as u64),
+        ),
+        (
+            "Points of a sweep (a grid: the product of the value counts)".to_string(),
+            group(MAX_SWEEP_POINTS),
+        ),
+        (
+            "Thickness or radius of a layer, size of a model".to_string(),
+            format!("{MIN_LENGTH_CM:e} cm to {MAX_LENGTH_CM:e} cm"),
+        ),
+        (
+            "Extinction, scattering or absorption coefficient (or 0)".to_string(),
+            format!("{MIN_COEFFICIENT_PER_CM:e} to {MAX_COEFFICIENT_PER_CM:e} per cm"),
+        ),
+        (
+            "Optical depth through all layers".to_string(),
+            format!("{MAX_OPTICAL_DEPTH:e}"),
+        ),
+    ];
+    let mut table = String::from("| Input | Limit |\n|---|---|\n");
+    for (input, limit) in rows {
+        table += &format!("| {input} | {limit} |\n");
+    }
+    table
+}
+
+/// `10000` as `10 000`.
+fn group(number: u64) -> String {
+    let digits = number.to_string();
+    let mut grouped = String::new();
+    for (index, digit) in digits.chars().enumerate() {
+        if index > 0 && (digits.len() - index).is_multiple_of(3) {
+            grouped.push(' ');
+        }
+        grouped.push(digit);
+    }
+    grouped
+}
+
 /// The label of standard input in messages.
 pub const STDIN_LABEL: &str = "<standard input>";
 
@@ -69,7 +123,10 @@ pub enum InputError {
         cause: std::io::Error,
     },
     /// A directory or a device where a file was expected.
-    #[error("{file}: is {kind}, not a {what}: give the path of a regular file")]
+    #[error(
+        "{file}: is {kind}, not {} {what}: give the path of a regular file",
+        article(what)
+    )]
     NotAFile {
         /// The path.
         file: String,
@@ -80,8 +137,9 @@ pub enum InputError {
     },
     /// More bytes than the limit for this kind of input.
     #[error(
-        "{file}: {size} is more than the {} limit for a {what} (the README's *Limits* lists them)",
-        describe_bytes(*limit)
+        "{file}: {size} is more than the {} limit for {} {what} (the README's *Limits* lists them)",
+        describe_bytes(*limit),
+        article(what)
     )]
     TooLarge {
         /// The file.
@@ -94,7 +152,10 @@ pub enum InputError {
         limit: u64,
     },
     /// Bytes that are not UTF-8 text.
-    #[error("{file}: byte {offset}: not UTF-8 text; a {what} is JSON or plain text in UTF-8")]
+    #[error(
+        "{file}: byte {offset}: not UTF-8 text; {} {what} is JSON or plain text in UTF-8",
+        article(what)
+    )]
     NotText {
         /// The file.
         file: String,
@@ -103,6 +164,15 @@ pub enum InputError {
         /// Offset of the first byte that is not UTF-8.
         offset: usize,
     },
+}
+
+/// "an" before a word that starts with a vowel, else "a".
+fn article(word: &str) -> &'static str {
+    if word.starts_with(['a', 'e', 'i', 'o', 'u']) {
+        "an"
+    } else {
+        "a"
+    }
 }
 
 /// A byte count for messages: `512 B`, `64 MiB`, `1.5 GiB`.
@@ -358,6 +428,16 @@ mod tests {
             error
                 .to_string()
                 .contains("2 KiB is more than the 1 KiB limit")
+        );
+    }
+
+    #[test]
+    fn the_readme_states_the_limits() {
+        let readme = include_str!("../README.md");
+        let table = limits_table();
+        assert!(
+            readme.contains(&table),
+            "README.md's *Limits* section must hold this table:\n{table}"
         );
     }
 

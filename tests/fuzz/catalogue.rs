@@ -422,6 +422,25 @@ const CASES: &[Case] = &[
         status: 1,
         needles: &["p.json", "layers[0].profile.opacity_law", "thomson"],
     },
+    Case {
+        name: "a device for an opacity table",
+        files: &[],
+        args: &[
+            "star",
+            "--polytrope",
+            "3",
+            "--mass",
+            "1",
+            "--radius",
+            "1",
+            "--out",
+            "st.json",
+            "--opacity-table",
+            "/dev/zero",
+        ],
+        status: 1,
+        needles: &["/dev/zero: is a character device, not an opacity table"],
+    },
     // Sweep specs (refused before any point is built or listed).
     Case {
         name: "a sweep of 10^9 points, even with --dry-run",
