@@ -5,18 +5,19 @@
 //! Fields are separated by commas if the header has a comma, else by runs of spaces or tabs.
 //! Blank lines and lines starting with `#` are skipped; a header written as a comment
 //! (`# r rho T`) is used if the first non-comment line is already numeric. `skip_rows` lines
-//! before the header are ignored (e.g. the global block of an evolution code's profile).
+//! before the header are ignored (e.g. a preamble of `key value` lines).
 //! Numbers are read as f64; a Fortran exponent `1.0D+05` is accepted. Rows may run from the
 //! centre outwards or from the surface inwards; radii must be strictly monotonic.
 //!
 //! **Mapping** ([`ColumnMapping::parse`]): comma-separated `QUANTITY=COLUMN[:SCALE]`, where
 //! * QUANTITY is `radius`, `density`, `temperature`, `opacity`, `hydrogen`, `metals`,
-//!   `scattering_fraction` or `energy_generation` (erg g⁻¹ s⁻¹); a `log_` prefix (`log_density=logRho`) says the column holds
+//!   `scattering_fraction` or `energy_generation` (erg g⁻¹ s⁻¹); a `log_` prefix (`log_density=lg_rho`) says the column holds
 //!   log₁₀ of the quantity;
 //! * COLUMN is a header name, or, if no header field has that name, a 1-based column number;
 //! * SCALE multiplies the (un-logged) value into cgs: a number (`density=rho:1e-3` for
-//!   kg m⁻³), or for radius a length unit (`um`, `mm`, `cm`, `m`, `km`, `R_sun` /
-//!   `solar_radius`). Radius is in cm by default.
+//!   kg m⁻³), or for radius a length unit, any spelling of [`LengthUnit::parse`] (`um`,
+//!   `mm`, `cm`, `m`, `km`, `R_sun` and aliases such as `solar_radius`). Radius is in cm by
+//!   default.
 //!
 //! With a total radius (`total_radius_cm`) the radius column is a fraction r/R of it.
 //! Required: radius and density, plus either an opacity column, or temperature with an
@@ -162,31 +163,27 @@ pub struct ColumnMapping {
 }
 
 fn length_unit(name: &str) -> Option<f64> {
-    Some(match name {
-        "um" => LengthUnit::Um.to_cm(),
-        "mm" => LengthUnit::Mm.to_cm(),
-        "cm" => LengthUnit::Cm.to_cm(),
-        "m" => LengthUnit::M.to_cm(),
-        "km" => LengthUnit::Km.to_cm(),
-        "R_sun" | "solar_radius" | "Rsun" => LengthUnit::SolarRadius.to_cm(),
-        _ => return None,
-    })
+    LengthUnit::parse(name).map(LengthUnit::to_cm)
 }
 
-/// Parses a length such as `6.957e10`, `0.8R_sun`, `0.8 R_sun`, `7e5 km` into cm (a bare
-/// number is in cm).
+/// Parses a length such as `6.957e10`, `0.8R_sun`, `0.8 R_sun`, `0.8 solar_radius`,
+/// `7e5 km` into cm (a bare number is in cm; any spelling of [`LengthUnit::parse`]).
 ///
 /// # Errors
 /// A message saying what was expected.
 pub fn parse_length_cm(text: &str) -> Result<f64, String> {
     let text = text.trim();
-    let units = ["solar_radius", "R_sun", "Rsun", "um", "mm", "cm", "km", "m"];
-    let (number, factor) = units
+    let (number, factor) = LengthUnit::ALL
         .iter()
-        .find_map(|unit| {
-            text.strip_suffix(unit)
+        .flat_map(|unit| {
+            unit.spellings()
+                .iter()
+                .map(move |spelling| (*unit, *spelling))
+        })
+        .find_map(|(unit, spelling)| {
+            text.strip_suffix(spelling)
                 .filter(|rest| rest.trim().parse::<f64>().is_ok())
-                .map(|rest| (rest.trim(), length_unit(unit).expect("known unit")))
+                .map(|rest| (rest.trim(), unit.to_cm()))
         })
         .unwrap_or((text, 1.0));
     let value: f64 = number
@@ -243,7 +240,7 @@ impl ColumnMapping {
                             error(format!(
                                 "scale {scale:?}: expected a number{}",
                                 if quantity == TableQuantity::Radius {
-                                    " or a length unit (um, mm, cm, m, km, R_sun)"
+                                    " or a length unit (um, mm, cm, m, km, R_sun; aliases such as solar_radius)"
                                 } else {
                                     ""
                                 }
@@ -921,13 +918,13 @@ mod tests {
 
     #[test]
     fn comma_table_descending_with_logs_scales_and_indices() {
-        let text = "logR,logRho,logT,X\n0,-7,3.7,0.7\n-1,0,6,0.7\n-2,1,7,0.6\n";
+        let text = "lg_r,lg_rho,lg_temp,h\n0,-7,3.7,0.7\n-1,0,6,0.7\n-2,1,7,0.6\n";
         let t = import_table(
             text,
             "t",
             &ImportOptions {
                 hydrogen_x: None,
-                ..options("log_radius=logR:R_sun,log_density=2,log_temperature=logT,hydrogen=X")
+                ..options("log_radius=lg_r:R_sun,log_density=2,log_temperature=lg_temp,hydrogen=h")
             },
         )
         .unwrap();

@@ -38,9 +38,12 @@ pub const RADIATION_CONSTANT_CGS: f64 = 4.0 * 5.670_374_419e-5 / SPEED_OF_LIGHT_
 /// Julian year, s: 365.25 days of 86 400 s (IAU).
 pub const JULIAN_YEAR_S: f64 = 365.25 * 86_400.0;
 
-/// Length units accepted in model files (`"length_unit"`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
-#[serde(rename_all = "snake_case")]
+/// Length units: of model files (`"length_unit"`), of `sojourn import --length-unit`, of
+/// the radius scale of an import mapping (`radius=r:R_sun`) and of lengths such as
+/// `--total-radius 0.8R_sun`. Every place accepts every spelling of [`LengthUnit::parse`]:
+/// one canonical symbol per unit ([`LengthUnit::symbol`], which reports and written files
+/// use) and its common aliases.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum LengthUnit {
     /// Micrometre, 1e-4 cm.
     Um,
@@ -57,7 +60,34 @@ pub enum LengthUnit {
     SolarRadius,
 }
 
+/// Every unit with its canonical symbol first, then its aliases (exact, case-sensitive
+/// spellings: `m` is a metre and `M` is not a unit).
+const SPELLINGS: [(LengthUnit, &[&str]); 6] = [
+    (
+        LengthUnit::Um,
+        &["um", "µm", "μm", "micron", "micrometre", "micrometer"],
+    ),
+    (LengthUnit::Mm, &["mm", "millimetre", "millimeter"]),
+    (LengthUnit::Cm, &["cm", "centimetre", "centimeter"]),
+    (LengthUnit::M, &["m", "metre", "meter"]),
+    (LengthUnit::Km, &["km", "kilometre", "kilometer"]),
+    (
+        LengthUnit::SolarRadius,
+        &["R_sun", "solar_radius", "Rsun", "R_Sun", "R☉"],
+    ),
+];
+
 impl LengthUnit {
+    /// Every unit, smallest first.
+    pub const ALL: [LengthUnit; 6] = [
+        LengthUnit::Um,
+        LengthUnit::Mm,
+        LengthUnit::Cm,
+        LengthUnit::M,
+        LengthUnit::Km,
+        LengthUnit::SolarRadius,
+    ];
+
     /// Centimetres in one of this unit.
     pub fn to_cm(self) -> f64 {
         match self {
@@ -70,16 +100,69 @@ impl LengthUnit {
         }
     }
 
-    /// The unit's symbol as written in reports.
+    /// The unit's canonical symbol: what reports print and written model files hold
+    /// (`um`, `mm`, `cm`, `m`, `km`, `R_sun`).
     pub fn symbol(self) -> &'static str {
-        match self {
-            LengthUnit::Um => "um",
-            LengthUnit::Mm => "mm",
-            LengthUnit::Cm => "cm",
-            LengthUnit::M => "m",
-            LengthUnit::Km => "km",
-            LengthUnit::SolarRadius => "R_sun",
-        }
+        self.spellings()[0]
+    }
+
+    /// Every spelling this unit is accepted under, the canonical symbol first.
+    pub fn spellings(self) -> &'static [&'static str] {
+        SPELLINGS
+            .iter()
+            .find(|(unit, _)| *unit == self)
+            .map(|(_, spellings)| *spellings)
+            .expect("every unit has spellings")
+    }
+
+    /// The unit spelled `text` (surrounding spaces ignored), or `None`.
+    pub fn parse(text: &str) -> Option<Self> {
+        let text = text.trim();
+        SPELLINGS
+            .iter()
+            .find(|(_, spellings)| spellings.contains(&text))
+            .map(|(unit, _)| *unit)
+    }
+
+    /// What an error message says is expected: the symbols with their aliases.
+    pub fn expected() -> String {
+        let units: Vec<String> = LengthUnit::ALL
+            .iter()
+            .map(|unit| {
+                let spellings = unit.spellings();
+                format!("{} (or {})", spellings[0], spellings[1..].join(", "))
+            })
+            .collect();
+        format!("a length unit: {}", units.join("; "))
+    }
+}
+
+impl std::fmt::Display for LengthUnit {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.symbol())
+    }
+}
+
+impl std::str::FromStr for LengthUnit {
+    type Err = String;
+
+    /// [`LengthUnit::parse`], with a message naming the text and every accepted spelling.
+    fn from_str(text: &str) -> Result<Self, Self::Err> {
+        LengthUnit::parse(text)
+            .ok_or_else(|| format!("{text:?}: expected {}", LengthUnit::expected()))
+    }
+}
+
+impl Serialize for LengthUnit {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.serialize_str(self.symbol())
+    }
+}
+
+impl<'de> Deserialize<'de> for LengthUnit {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        let text = String::deserialize(deserializer)?;
+        text.parse().map_err(serde::de::Error::custom)
     }
 }
 
@@ -135,6 +218,28 @@ mod tests {
     fn solar_mass_matches_iau_derived_value() {
         // IAU 2015 B3 (GM)☉ / CODATA 2018 G = 1.98841e33 g.
         assert!((SOLAR_MASS_G / 1.98841e33 - 1.0).abs() < 1e-5);
+    }
+
+    #[test]
+    fn every_spelling_parses_to_its_unit_and_round_trips_through_json() {
+        for unit in LengthUnit::ALL {
+            for spelling in unit.spellings() {
+                assert_eq!(LengthUnit::parse(spelling), Some(unit), "{spelling}");
+                let json = serde_json::to_string(spelling).unwrap();
+                assert_eq!(serde_json::from_str::<LengthUnit>(&json).unwrap(), unit);
+            }
+            let written = serde_json::to_string(&unit).unwrap();
+            assert_eq!(written, format!("\"{}\"", unit.symbol()));
+        }
+        assert_eq!(LengthUnit::parse(" R_sun "), Some(LengthUnit::SolarRadius));
+        assert_eq!(
+            LengthUnit::parse("solar_radius"),
+            Some(LengthUnit::SolarRadius)
+        );
+        assert_eq!(LengthUnit::parse("M"), None);
+        let message = "furlong".parse::<LengthUnit>().unwrap_err();
+        assert!(message.contains("furlong") && message.contains("R_sun"));
+        assert!(message.contains("solar_radius") && message.contains("µm"));
     }
 
     #[test]

@@ -478,7 +478,7 @@ mod tests {
         // τ = 100·0.5 + 1·1.5 = 51.5; photosphere 2/3 cm below the surface.
         assert!((report.optical_depth - 51.5).abs() < 1e-12);
         assert!((report.photosphere_radius_cm.unwrap() - (2.0 - 2.0 / 3.0)).abs() < 1e-12);
-        // T = (1/c)[100·0.25/2 + 1·(4 − 0.25)/2] (REFERENCES item 3).
+        // T = (1/c)[100·0.25/2 + 1·(4 − 0.25)/2] (docs/references.md, Diffusion theory 1).
         let expected = (12.5 + 1.875) / SPEED_OF_LIGHT_CM_S;
         assert!((report.diffusion.mean_time_s / expected - 1.0).abs() < 1e-12);
         assert!((report.shells[0].time_share - 12.5 / 14.375).abs() < 1e-12);

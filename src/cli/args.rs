@@ -8,10 +8,9 @@ pub fn opacity(text: &str) -> Result<OpacitySpec, String> {
     OpacitySpec::parse_short(text)
 }
 
-/// A length unit as spelled in model files (`cm`, `m`, `km`, `solar_radius`, ...).
+/// A length unit, any spelling a model file accepts (`cm`, `R_sun`, `solar_radius`, ...).
 pub fn length_unit(text: &str) -> Result<LengthUnit, String> {
-    serde_json::from_value(serde_json::Value::String(text.to_string()))
-        .map_err(|_| format!("{text:?}: expected one of um, mm, cm, m, km, solar_radius"))
+    text.parse()
 }
 
 /// A relative tolerance strictly between 0 and 1.
@@ -39,5 +38,17 @@ pub fn positive(text: &str) -> Result<f64, String> {
     match text.parse::<f64>() {
         Ok(value) if value.is_finite() && value > 0.0 => Ok(value),
         _ => Err(format!("{text:?}: expected a positive number")),
+    }
+}
+
+/// A whole count of at least 1 (photons, steps), with the number spelled out in the error.
+pub fn count(text: &str) -> Result<u64, String> {
+    match text.parse::<u64>() {
+        Ok(value) if value >= 1 => Ok(value),
+        Ok(_) => Err(format!("{text:?}: expected a whole number of at least 1")),
+        Err(_) => Err(format!(
+            "{text:?}: expected a whole number from 1 to {}",
+            u64::MAX
+        )),
     }
 }

@@ -39,7 +39,8 @@ pub struct ImportArgs {
     /// Column mapping, QUANTITY=COLUMN[:SCALE],... with quantities radius, density,
     /// temperature, opacity, hydrogen, metals, scattering_fraction, energy_generation (erg/g/s)
     /// (log_ prefix for log10 columns); COLUMN is a header name or a 1-based number; SCALE a factor to cgs or, for
-    /// radius, a unit (um, mm, cm, m, km, R_sun). Radius is in cm by default.
+    /// radius, a length unit (um, mm, cm, m, km, R_sun, or an alias such as solar_radius).
+    /// Radius is in cm by default.
     #[arg(long, value_name = "MAPPING")]
     columns: String,
     /// Model file to write (JSON; written atomically).
@@ -72,21 +73,21 @@ pub struct ImportArgs {
     /// 6.957e10 (cm), 0.8R_sun or 5e5km.
     #[arg(long, value_name = "LENGTH", value_parser = sojourn::import::parse_length_cm)]
     total_radius: Option<f64>,
-    /// Lines to skip before the header (e.g. a block of global values).
+    /// Lines to skip before the header (e.g. a preamble that is not '#' comments).
     #[arg(long, default_value_t = 0)]
     skip_rows: usize,
     /// Field separator.
     #[arg(long, value_enum, default_value_t = DelimiterArg::Auto)]
     delimiter: DelimiterArg,
-    /// Length unit of the radii written into the model file (um, mm, cm, m, km,
-    /// solar_radius).
+    /// Length unit of the radii written into the model file (um, mm, cm, m, km, R_sun, or
+    /// an alias such as solar_radius).
     #[arg(long, default_value = "cm", value_parser = args::length_unit)]
     length_unit: LengthUnit,
     /// Relative tolerance between neighbouring sub-shell extinctions written into the model
     /// (default: the loader's 0.01).
     #[arg(long, value_parser = args::tolerance)]
     tolerance: Option<f64>,
-    /// Model name (default: "imported from TABLE").
+    /// Model name (default: "imported table FILE", FILE the table's file name).
     #[arg(long)]
     name: Option<String>,
 }
@@ -153,9 +154,7 @@ pub fn execute(args: ImportArgs) -> Result<()> {
         ..ImportOptions::new(mapping)
     };
     let table = import_table_file(&args.table, &options)?;
-    let name = args
-        .name
-        .unwrap_or_else(|| format!("imported from {}", args.table.display()));
+    let name = args.name.unwrap_or_else(|| default_name(&args.table));
     let json = profile_model_json(
         &name,
         args.length_unit,
@@ -194,4 +193,14 @@ pub fn execute(args: ImportArgs) -> Result<()> {
     }
     out += &format!("\n  next: sojourn profile {label}\n");
     super::output::write_text(std::path::Path::new("-"), &out)
+}
+
+/// The model name when `--name` is not given: "imported table FILE" with the table's file
+/// name, so that report titles read "profile of imported table star.txt".
+fn default_name(table: &std::path::Path) -> String {
+    let file = table.file_name().map_or_else(
+        || table.display().to_string(),
+        |name| name.to_string_lossy().into_owned(),
+    );
+    format!("imported table {file}")
 }

@@ -27,7 +27,7 @@ pub struct RunArgs {
     /// Model file (JSON). Without it, the embedded demo model runs.
     model: Option<PathBuf>,
     /// Number of photons to launch.
-    #[arg(long, default_value_t = 10_000, value_parser = clap::value_parser!(u64).range(1..))]
+    #[arg(long, default_value_t = 10_000, value_parser = super::args::count)]
     photons: u64,
     /// Seed of the random streams: the same seed gives the same result, bit for bit.
     #[arg(long, default_value_t = 1)]
@@ -39,7 +39,7 @@ pub struct RunArgs {
     #[arg(long, value_name = "PATH")]
     json: Option<PathBuf>,
     /// Free flights allowed per photon before it is counted as censored.
-    #[arg(long, default_value_t = WalkLimits::default().max_steps, value_parser = clap::value_parser!(u64).range(1..))]
+    #[arg(long, default_value_t = WalkLimits::default().max_steps, value_parser = super::args::count)]
     max_steps: u64,
     /// Walk method: `direct` (every scattering), `accelerated` (diffusion jumps deep inside),
     /// `auto` (whichever a cost estimate finds cheaper; the report says which and why).
@@ -67,10 +67,10 @@ pub struct RunArgs {
     #[arg(long, value_parser = positive_number, requires = "resolve")]
     tof_bin_ps: Option<f64>,
     /// With --resolve: number of time-of-flight bins.
-    #[arg(long, default_value_t = 200, value_parser = clap::value_parser!(u64).range(1..=100_000))]
+    #[arg(long, default_value_t = 200, value_parser = clap::value_parser!(u64).range(1..=100_000), requires = "resolve")]
     tof_bins: u64,
     /// With --resolve: number of exit-cosine bins.
-    #[arg(long, default_value_t = 20, value_parser = clap::value_parser!(u64).range(1..=10_000))]
+    #[arg(long, default_value_t = 20, value_parser = clap::value_parser!(u64).range(1..=10_000), requires = "resolve")]
     cosine_bins: u64,
     #[command(flatten)]
     scale: ScaleArgs,

@@ -31,7 +31,7 @@ pub struct ScaleArgs {
     checkpoint: Option<PathBuf>,
     /// Photons between checkpoints.
     #[arg(long, value_name = "M", default_value_t = 10_000, requires = "checkpoint",
-          value_parser = clap::value_parser!(u64).range(1..))]
+          value_parser = super::args::count)]
     checkpoint_every: u64,
     /// No progress bar (it is shown only on a terminal, after about a second).
     #[arg(long, short)]

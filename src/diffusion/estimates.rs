@@ -4,7 +4,7 @@
 //! * The mean exit time of the steady diffusion equation ∇·(D ∇T) = −1 with T = 0 on the
 //!   surface, D = v / (3 σ_tr) per layer (v = c/n, σ_tr = σ_a + σ_s (1 − g)). For a sphere
 //!   and a centred source this is T = ∫₀^R r / (3 D) dr = (1/c) ∫ r / l_tr dr
-//!   (../shared/REFERENCES.md item 3); for a uniform sphere R² / (2 l c), i.e. N = τ²/2.
+//!   (docs/references.md, Diffusion theory 1); for a uniform sphere R² / (2 l c), i.e. N = τ²/2.
 //! * The same with the Milne extrapolated boundary: the surface moved out by
 //!   q∞ = 0.7104461 transport mean free paths of the outermost layer (a slab: both faces),
 //!   which for a uniform sphere gives N = (τ + q∞)² / 2. A slab face between different
@@ -512,8 +512,8 @@ mod tests {
 
     #[test]
     fn uniform_sphere_matches_r_squared_over_2lc() {
-        // REFERENCES item 3: mean exit time R²/(6D) = R²/(2 l c), N = τ²/2; extrapolated
-        // (τ + q∞)²/2.
+        // docs/references.md, Diffusion theory 1: mean exit time R²/(6D) = R²/(2 l c), N = τ²/2;
+        // extrapolated (τ + q∞)²/2.
         let (tau, radius) = (50.0, 3.0);
         let estimate = estimate(&uniform_sphere(tau, radius));
         let l = radius / tau;
@@ -530,7 +530,8 @@ mod tests {
 
     #[test]
     fn two_zone_sphere_matches_the_piecewise_integral() {
-        // T(0) = (1/c) ∫ r σ dr = (1/c) [σ1 a²/2 + σ2 (R² − a²)/2] (REFERENCES item 3).
+        // T(0) = (1/c) ∫ r σ dr = (1/c) [σ1 a²/2 + σ2 (R² − a²)/2] (docs/references.md, Diffusion
+        // theory 1).
         let inner = Layer::new("", 100.0, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
         let outer = Layer::new("", 1.0, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
         let medium = Medium::sphere(vec![(0.5, inner), (2.0, outer)], Source::centre()).unwrap();
@@ -543,7 +544,7 @@ mod tests {
 
     #[test]
     fn off_centre_source_in_a_uniform_sphere() {
-        // From radius r0: (R² − r0²)/(6D) (REFERENCES item 3).
+        // From radius r0: (R² − r0²)/(6D) (docs/references.md, Diffusion theory 1).
         let layer = Layer::new("", 10.0, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
         let medium =
             Medium::sphere(vec![(1.0, layer)], Source::SpherePoint { radius_cm: 0.6 }).unwrap();
@@ -554,7 +555,8 @@ mod tests {
 
     #[test]
     fn slab_midplane_source_gives_three_eighths_tau_squared() {
-        // REFERENCES item 4: (3/8)(τ + 2 q∞)² with extrapolated boundaries; τ²·3/8 without.
+        // docs/references.md, Diffusion theory 2: (3/8)(τ + 2 q∞)² with extrapolated boundaries;
+        // τ²·3/8 without.
         let tau = 40.0;
         let layer = Layer::new("", tau, 1.0, PhaseFunction::Isotropic, 1.0).unwrap();
         let medium =

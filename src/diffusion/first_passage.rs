@@ -62,14 +62,14 @@ const REL_STOP: f64 = 1e-17;
 pub const MEAN_S: f64 = 1.0 / 6.0;
 
 /// Variance of the dimensionless exit time from the centre: exactly 1/90, so that
-/// Var / mean² = 0.4 (REFERENCES item 3).
+/// Var / mean² = 0.4 (docs/references.md, Diffusion theory 1).
 pub const VARIANCE_S: f64 = 1.0 / 90.0;
 
 /// Mean time (s) to diffuse from the centre of a sphere of radius `radius_cm` (cm) to its
 /// surface with diffusion coefficient `diffusion_cm2_s` (cm² s⁻¹): `R² / (6 D)`.
 ///
 /// For photons `D = c l / 3`, which gives `R² / (2 l c)`, i.e. τ²/2 scatterings
-/// (REFERENCES item 3). No validation: a zero coefficient gives `inf`.
+/// (docs/references.md, Diffusion theory 1). No validation: a zero coefficient gives `inf`.
 pub fn mean_exit_time_s(radius_cm: f64, diffusion_cm2_s: f64) -> f64 {
     radius_cm * radius_cm / (6.0 * diffusion_cm2_s)
 }
@@ -163,8 +163,8 @@ fn eval_all(s: f64) -> (f64, f64, f64) {
 }
 
 /// Survival probability `P(T > t)` at dimensionless time `s = D t / R²` for diffusion from
-/// the centre of a sphere (REFERENCES item 3: Krapivsky, Redner & Ben-Naim 2010, problem
-/// 2.21; Redner 2001).
+/// the centre of a sphere (docs/references.md, Diffusion theory 1: Krapivsky, Redner & Ben-Naim
+/// 2010, problem 2.21; Redner 2001).
 ///
 /// `2 Σ_{n≥1} (−1)^(n+1) exp(−n²π² s)` for `s ≥ 0.1`, `1 − (2/√(π s)) Σ_{k≥0}
 /// exp(−(k+½)²/s)` below. Returns 1 for `s ≤ 0` and NaN for NaN. Absolute error below
@@ -186,8 +186,8 @@ pub fn cdf(s: f64) -> f64 {
 ///
 /// `2π² Σ_{n≥1} (−1)^(n+1) n² exp(−n²π² s)` for `s ≥ 0.1`, the derivative of the
 /// small-time form `(2/√π) s^(−5/2) Σ_{k≥0} exp(−(k+½)²/s) ((k+½)² − s/2)` below
-/// (REFERENCES item 3). Returns 0 for `s ≤ 0`. Absolute error ~1e−15 (the density peaks
-/// at 5.922 at s = 0.09175).
+/// (docs/references.md, Diffusion theory 1). Returns 0 for `s ≤ 0`. Absolute error ~1e−15 (the
+/// density peaks at 5.922 at s = 0.09175).
 pub fn pdf(s: f64) -> f64 {
     eval_all(s).2
 }
@@ -529,7 +529,7 @@ mod tests {
         let m1 = integrate(|s| s * pdf(s), 0.0, 10.0, 2000);
         let m2 = integrate(|s| s * s * pdf(s), 0.0, 10.0, 2000);
         assert_relative_eq!(norm, 1.0, max_relative = 1e-12);
-        // REFERENCES item 3: mean R²/(6D), Var T / <T>² = 0.4.
+        // docs/references.md, Diffusion theory 1: mean R²/(6D), Var T / <T>² = 0.4.
         assert_relative_eq!(m1, MEAN_S, max_relative = 1e-12);
         assert_relative_eq!((m2 - m1 * m1) / (m1 * m1), 0.4, max_relative = 1e-11);
         // The mean is also the integral of the survival.

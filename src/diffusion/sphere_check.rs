@@ -1,7 +1,7 @@
 //! The whole escape-time distribution against theory: for a uniform, conservative sphere
 //! with a centred source, the Kolmogorov–Smirnov distance between the Monte Carlo escape
 //! times and the exact first-passage distribution of diffusion out of a sphere
-//! (../shared/REFERENCES.md item 3), with the surface moved out to the Milne extrapolated
+//! (docs/references.md, Diffusion theory 1), with the surface moved out to the Milne extrapolated
 //! radius R + q∞ l_tr.
 
 use super::boundary::MILNE_EXTRAPOLATION_LENGTH;

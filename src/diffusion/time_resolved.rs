@@ -5,8 +5,8 @@
 //! reduced scattering `μs′` (cm⁻¹) and refractive index `n`. Following Patterson, Chance &
 //! Wilson 1989 (Appl. Opt. 28:2331) the beam is replaced by an isotropic point source at
 //! depth `z₀ = 1/μs′`, photons diffuse with `D = 1/(3(μa + μs′))` (cm) at speed `v = c/n`,
-//! and the photon density vanishes on two planes, enforced by image sources (REFERENCES
-//! item 7):
+//! and the photon density vanishes on two planes, enforced by image sources
+//! (docs/references.md, Diffusion theory 3):
 //!
 //! * [`Boundary::Zero`]: on the physical surfaces `z = 0, d` (the original PCW condition);
 //! * [`Boundary::Extrapolated`]: on the extrapolated boundaries `z = −z_e` and `z = d + z_e`,
@@ -338,7 +338,7 @@ impl DiffusionSlab {
     /// Total (surface-integrated) time-resolved diffuse reflectance `R(t)`: fraction of the
     /// incident photons leaving through the entry face per second at time `t_s` (s) after
     /// the pulse, s⁻¹. Zero for `t ≤ 0`. Patterson, Chance & Wilson 1989 (Appl. Opt.
-    /// 28:2331) with the boundary chosen at construction (REFERENCES item 7).
+    /// 28:2331) with the boundary chosen at construction (docs/references.md, Diffusion theory 3).
     pub fn reflectance_per_s(&self, t_s: f64) -> f64 {
         self.flux(t_s).0
     }
@@ -512,9 +512,9 @@ mod tests {
         }
     }
 
-    /// REFERENCES item 7: the time integrals of R(t) and T(t) equal the steady-state slab
-    /// results (closed form derived in `steady_reflectance`; method of Contini, Martelli &
-    /// Zaccanti 1997, Appl. Opt. 36:4587); without absorption R + T = 1.
+    /// docs/references.md, Diffusion theory 3: the time integrals of R(t) and T(t) equal the
+    /// steady-state slab results (closed form derived in `steady_reflectance`; method of Contini,
+    /// Martelli & Zaccanti 1997, Appl. Opt. 36:4587); without absorption R + T = 1.
     #[test]
     fn time_integrals_match_steady_state() {
         for (optics, boundary) in cases() {

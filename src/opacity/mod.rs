@@ -56,8 +56,8 @@ pub const KRAMERS_FREE_FREE_COEFFICIENT: f64 = 3.68e22;
 pub const KRAMERS_BOUND_FREE_COEFFICIENT: f64 = 4.34e25;
 
 /// Coefficient of the H⁻ opacity κ_H⁻ = 2.5e−31 (Z / 0.02) ρ^½ T⁹, cgs (cm² g⁻¹ with ρ in
-/// g cm⁻³ and T in K). Carroll & Ostlie, *An Introduction to Modern Astrophysics*, ch. 9
-/// (memory).
+/// g cm⁻³ and T in K). Carroll & Ostlie 2007, *An Introduction to Modern Astrophysics*,
+/// eq. (9.28), 7.9e−34 in SI units (docs/references.md, Stellar structure 13).
 pub const H_MINUS_COEFFICIENT: f64 = 2.5e-31;
 
 /// Metal mass fraction the H⁻ coefficient [`H_MINUS_COEFFICIENT`] is normalised to.
@@ -159,10 +159,12 @@ pub const KRAMERS_MIN_TEMPERATURE_K: f64 = 1e4;
 /// far and the fits are not meant to be used).
 pub const KRAMERS_MAX_TEMPERATURE_K: f64 = 1e8;
 
-/// H⁻ law: lowest temperature, K (below, molecules dominate; memory).
+/// H⁻ law: lowest temperature, K (below, molecules dominate; the range of Carroll & Ostlie
+/// 2007, eq. (9.28): docs/references.md, Stellar structure 13).
 pub const H_MINUS_MIN_TEMPERATURE_K: f64 = 3000.0;
 
-/// H⁻ law: highest temperature, K (above, H⁻ is destroyed and κ ∝ T⁹ is absurd; memory).
+/// H⁻ law: highest temperature, K (above, H⁻ is destroyed and κ ∝ T⁹ is absurd; the same
+/// range).
 pub const H_MINUS_MAX_TEMPERATURE_K: f64 = 6000.0;
 
 /// Errors from building an opacity law.
@@ -410,7 +412,8 @@ impl OpacityLaw for KramersBoundFree {
 /// Absorption by the negative hydrogen ion, the dominant opacity of cool stellar
 /// atmospheres and envelopes:
 /// κ_H⁻ = 2.5e−31 (Z / 0.02) ρ^½ T⁹ cm² g⁻¹, ρ in g cm⁻³, T in K
-/// (Carroll & Ostlie, *An Introduction to Modern Astrophysics*, ch. 9; memory). Pure
+/// (Carroll & Ostlie 2007, *An Introduction to Modern Astrophysics*, eq. (9.28);
+/// docs/references.md, Stellar structure 13). Pure
 /// absorption (scattering fraction 0).
 ///
 /// Valid only for roughly 3000 K ≲ T ≲ 6000 K and 10⁻¹⁰ ≲ ρ ≲ 10⁻⁵ g cm⁻³; the T⁹ growth
@@ -498,7 +501,8 @@ impl OpacityLaw for SumOfLaws {
 ///
 /// the form used for stellar-structure toy models, κ = κ_mol + 1/(1/κ_H⁻ + 1/(κ_e + κ_Kramers)),
 /// here without the molecular term (Kippenhahn, Weigert & Weiss 2012, *Stellar Structure
-/// and Evolution*, §17.5; memory). The component laws are those of Carroll & Ostlie,
+/// and Evolution*, §17.5, as recalled; a rule of the trade, not a check value). The
+/// component laws are those of Carroll & Ostlie,
 /// *An Introduction to Modern Astrophysics*, ch. 9 ([`HMinus`], [`ElectronScattering`],
 /// [`KramersFreeFree`], [`KramersBoundFree`]).
 ///
@@ -799,7 +803,8 @@ mod tests {
     // Three (ρ, T, X, Z) points. The expected values are the Carroll & Ostlie, *An
     // Introduction to Modern Astrophysics*, ch. 9 formulas evaluated by hand:
     //   electron scattering 0.2(1+X); free–free 3.68e22 g_ff (1−Z)(1+X) ρ T^−3.5;
-    //   bound–free 4.34e25 (g_bf/t) Z(1+X) ρ T^−3.5; H⁻ 2.5e−31 (Z/0.02) ρ^½ T⁹ (memory).
+    //   bound–free 4.34e25 (g_bf/t) Z(1+X) ρ T^−3.5; H⁻ 2.5e−31 (Z/0.02) ρ^½ T⁹
+    //   (docs/references.md, Stellar structure 13).
     //
     // A: ρ = 0.1, T = 1e6 (T^−3.5 = 1e−21), X = 0.7, Z = 0.02
     //    es = 0.2·1.7 = 0.34
@@ -887,7 +892,8 @@ mod tests {
     #[test]
     fn h_minus_matches_hand_values() {
         // Carroll & Ostlie, *An Introduction to Modern Astrophysics*, ch. 9: H⁻
-        // 2.5e−31 (Z/0.02) ρ^½ T⁹ (memory, valid roughly 3000–6000 K).
+        // 2.5e−31 (Z/0.02) ρ^½ T⁹, valid for 3000–6000 K (eq. (9.28); docs/references.md,
+        // Stellar structure 13).
         let law = HMinus;
         assert_relative_eq!(
             law.opacity_cm2_g(&state(1e-6, 5e3, 0.7, 0.02)),

@@ -1,5 +1,6 @@
 //! Monotone piecewise-cubic interpolation in one dimension (Steffen 1990, A&A 239:443,
-//! "A simple method for monotonic interpolation in one dimension"; from memory).
+//! "A simple method for monotonic interpolation in one dimension"; docs/references.md,
+//! Stellar structure 5).
 //!
 //! Between two nodes the interpolant is the cubic Hermite polynomial through the two values
 //! with slopes chosen so that it never leaves the range of those two values (no new extrema,

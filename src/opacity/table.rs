@@ -20,7 +20,8 @@
 //! one composition: the X and Z of the gas it is used for are not read.
 //!
 //! **Interpolation.** log₁₀ κ is interpolated over (log₁₀ T, log₁₀ ρ) by a tensor product of
-//! monotone cubic Hermite interpolants (Steffen 1990, A&A 239:443; memory):
+//! monotone cubic Hermite interpolants (Steffen 1990, A&A 239:443; docs/references.md,
+//! Stellar structure 5):
 //! first along log ρ on the (up to) four temperature rows around the point, then along log T
 //! through those four values. Why this one: opacities are close to power laws in T and ρ
 //! (Kramers, electron scattering), which are straight lines in log space and are reproduced

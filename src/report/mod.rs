@@ -2,8 +2,11 @@
 //! report ([`RunReport`], serialised as the JSON report) and its readable text rendering,
 //! SVG figures ([`plots`]) and the single-file HTML report ([`html`]); the profile report
 //! of a sphere's optical structure (`sojourn profile`), with its text and CSV renderings.
+//! The figures and the HTML report need the `plots` feature (on by default).
 
+#[cfg(feature = "plots")]
 pub mod html;
+#[cfg(feature = "plots")]
 pub mod plots;
 mod profile_document;
 mod profile_text;

@@ -2,8 +2,9 @@
 //! of hydrogen burning by the pp chain and the CNO cycle.
 //!
 //! Both are the textbook power laws of Carroll & Ostlie, *An Introduction to Modern
-//! Astrophysics* (2nd ed.), ch. 10, fitted near T ≈ 1.5 × 10⁷ K (quoted from memory; see
-//! `docs/references.md`):
+//! Astrophysics* (2nd ed.), ch. 10, fitted near T ≈ 1.5 × 10⁷ K (coefficients as recalled;
+//! the tests check them against the full rates of Kippenhahn, Weigert & Weiss computed
+//! beside them: docs/references.md, Stellar structure 1 and 2):
 //!
 //! * pp chain: ε_pp ≈ ε′₀ ρ X² T₆⁴ with ε′₀ = 1.08 × 10⁻¹² W m³ kg⁻²;
 //! * CNO cycle: ε_CNO ≈ ε′₀ ρ X X_CNO T₆^19.9 with ε′₀ = 8.24 × 10⁻³¹ W m³ kg⁻²;
@@ -26,14 +27,14 @@ use serde::{Deserialize, Serialize};
 use crate::opacity::GasState;
 
 /// Coefficient of the pp-chain power law, W m³ kg⁻² (Carroll & Ostlie, 2nd ed., ch. 10;
-/// memory).
+/// docs/references.md, Stellar structure 1).
 pub const PP_COEFFICIENT_SI: f64 = 1.08e-12;
 
 /// Temperature exponent of the pp-chain power law (T₆⁴).
 pub const PP_TEMPERATURE_EXPONENT: f64 = 4.0;
 
 /// Coefficient of the CNO-cycle power law, W m³ kg⁻² (Carroll & Ostlie, 2nd ed., ch. 10;
-/// memory).
+/// docs/references.md, Stellar structure 1).
 pub const CNO_COEFFICIENT_SI: f64 = 8.24e-31;
 
 /// Temperature exponent of the CNO-cycle power law (T₆^19.9).

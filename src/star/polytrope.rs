@@ -162,7 +162,8 @@ pub struct ProfilePoint {
 /// M = 4π (K/(πG))^(3/2) ω₃ gives K³ = π G³ M² / (16 ω₃²). Equating,
 /// C = a π G³ M☉² m_u⁴ / (48 ω₃² k_B⁴), where ω₃ = −ξ₁²θ′(ξ₁) of the n = 3 solution
 /// (2.01824; Chandrasekhar 1939). With the constants of [`crate::units`] C ≈ 0.00299; the
-/// usual textbook form quotes ≈ 0.003 (memory).
+/// usual textbook form quotes ≈ 0.003 (as recalled; C itself is derived here from the
+/// constants and ω₃, docs/references.md, Stellar structure 3).
 pub fn eddington_coefficient(omega_3: f64) -> f64 {
     let g = GRAVITATIONAL_CONSTANT_CGS;
     let m_over_k = ATOMIC_MASS_UNIT_G / BOLTZMANN_ERG_K;
@@ -542,13 +543,13 @@ mod tests {
 
     #[test]
     fn eddington_coefficient_matches_the_usual_form() {
-        // Usual textbook form 1 − β = 0.003 μ⁴ β⁴ (M/M☉)² (memory; also quoted as
-        // 0.002979). Loose tolerance: the memory value, and constants, may differ in the
-        // last digits.
+        // Usual textbook form 1 − β = 0.003 μ⁴ β⁴ (M/M☉)² (as recalled, also as 0.002979;
+        // the coefficient is recomputed from the constants and ω₃ in `eddington_coefficient`).
+        // Loose tolerance: the recalled value, and constants, may differ in the last digits.
         let omega3 = LaneEmdenSolution::solve(3.0).unwrap().mass_parameter();
         let c = eddington_coefficient(omega3);
         assert!((c / 0.002979 - 1.0).abs() < 0.01, "{c}");
-        // μ = 1, M = M☉: 1 − β ≈ 0.003 (memory), exactly c β⁴ with the solved β.
+        // μ = 1, M = M☉: 1 − β ≈ 0.003 (as recalled), exactly c β⁴ with the solved β.
         let beta = eddington_beta(SOLAR_MASS_G, 1.0, omega3).unwrap();
         assert!((1.0 - beta - c * beta.powi(4)).abs() < 1e-15);
         assert!(((1.0 - beta) / 0.003 - 1.0).abs() < 0.03, "{}", 1.0 - beta);

@@ -8,11 +8,13 @@
 //! * the radiative gradient, the d ln T / d ln P that radiative diffusion alone needs to
 //!   carry the local luminosity,
 //!   ∇_rad = 3 κ L P / (16 π a c G m T⁴) (Kippenhahn, Weigert & Weiss 2012, *Stellar
-//!   Structure and Evolution*, ch. 5; memory), with L/m → ε at the centre;
+//!   Structure and Evolution*, ch. 5; docs/references.md, Stellar structure 2), with
+//!   L/m → ε at the centre;
 //! * the adiabatic gradient of ideal monatomic gas with radiation,
 //!   ∇_ad = (8 − 6β) / (32 − 24β − 3β²): from the first law with u = (3/2) P_gas/ρ + aT⁴/ρ
 //!   at constant entropy (the form (1 + (1−β)(4+β)/β²) / (5/2 + 4(1−β)(4+β)/β²) of KWW ch. 13,
-//!   memory); 2/5 for β = 1, 1/4 for β → 0;
+//!   as recalled; the form used is derived here and checked against a numerical adiabat);
+//!   2/5 for β = 1, 1/4 for β → 0;
 //! * the model's own gradient ∇ = d ln T / d ln P, by differences between neighbouring rows
 //!   (centred inside, one-sided at the ends).
 //!
@@ -28,7 +30,8 @@
 //!
 //! **Crossing a convective zone.** Efficient convection in mixing-length theory carries
 //! the flux F = L / (4π r²) with F = 4 ρ c_p T v³ / (g δ ℓ) (KWW ch. 7: the mixing-length
-//! speed and convective flux with ∇ − ∇_ad eliminated; memory); for a monatomic ideal gas (δ = 1, c_p T = 5P / (2ρ), and
+//! speed and convective flux with ∇ − ∇_ad eliminated; docs/references.md, Stellar
+//! structure 2); for a monatomic ideal gas (δ = 1, c_p T = 5P / (2ρ), and
 //! g H_P = P/ρ) with ℓ = α H_P this is v = (α F / (10 ρ))^(1/3). The speed is capped at the
 //! adiabatic sound speed √(5P / (3ρ)) (the estimate fails near the surface, where
 //! convection is inefficient). The crossing time is ∫ dr / v over the zone, with

@@ -205,8 +205,7 @@ mod tests {
     #[test]
     fn closed_form_h_matches_published_values() {
         // Conservative isotropic scattering: H(1) = 2.90781; H(0.5)/H(1) = 0.6922 and
-        // H(0)/H(1) = 0.3439 (Chandrasekhar 1950, Radiative Transfer, ch. V, table of H for
-        // ω = 1; docs/references.md).
+        // H(0)/H(1) = 0.3439 (Chandrasekhar 1950; docs/references.md, Transport 2).
         let h1 = conservative_h(1.0);
         assert!((h1 - 2.90781).abs() < 2e-5, "H(1) = {h1}");
         assert!((conservative_h(0.5) / h1 - 0.6922).abs() < 1e-4);
@@ -215,8 +214,8 @@ mod tests {
 
     #[test]
     fn mean_crossing_cosine_matches_the_moments_of_h() {
-        // <μ> = ∫ μ² H / ∫ μ H. ∫ μ H = 2/√3 (Chandrasekhar 1950, ch. V, the moment α₁ for
-        // ω = 1); compute ∫ μ² H directly.
+        // <μ> = ∫ μ² H / ∫ μ H. ∫ μ H = 2/√3 (docs/references.md, Transport 2); compute ∫ μ² H
+        // directly.
         let n = 2000;
         let second: f64 = (0..n)
             .map(|k| {

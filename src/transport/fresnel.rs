@@ -2,25 +2,10 @@
 
 use nalgebra::Vector3;
 
-/// Reflectance of unpolarised light going from index `n1` into index `n2` at incidence
-/// cosine `cos_incidence` (0..=1): the mean of the s and p Fresnel reflectances (Born &
-/// Wolf, Principles of Optics, §1.5.2), 1 beyond the critical angle (total internal
-/// reflection).
-pub fn fresnel_reflectance(cos_incidence: f64, n1: f64, n2: f64) -> f64 {
-    if n1 == n2 {
-        return 0.0;
-    }
-    let cos_i = cos_incidence.clamp(0.0, 1.0);
-    let ratio = n1 / n2;
-    let sin_t_squared = ratio * ratio * (1.0 - cos_i * cos_i);
-    if sin_t_squared >= 1.0 {
-        return 1.0;
-    }
-    let cos_t = (1.0 - sin_t_squared).sqrt();
-    let s = (n1 * cos_i - n2 * cos_t) / (n1 * cos_i + n2 * cos_t);
-    let p = (n1 * cos_t - n2 * cos_i) / (n1 * cos_t + n2 * cos_i);
-    0.5 * (s * s + p * p)
-}
+/// Reflectance of unpolarised light (Born & Wolf, Principles of Optics, §1.5.2), 1 beyond
+/// the critical angle (total internal reflection): the one law that diffusion theory's
+/// boundary conditions also use.
+pub use crate::diffusion::boundary::fresnel_reflectance;
 
 /// The direction after refraction from `n1` into `n2` across a plane of constant z (Snell's
 /// law): the tangential component scales by n1/n2, the normal component keeps its sign.
@@ -38,8 +23,8 @@ mod tests {
 
     #[test]
     fn normal_incidence_is_the_textbook_value() {
-        // ((n − 1)/(n + 1))² at normal incidence (Born & Wolf §1.5.2; the textbook value
-        // 0.04 for n = 1.5 against 1.0), the same in both directions.
+        // ((n − 1)/(n + 1))² at normal incidence (Born & Wolf §1.5.2; docs/references.md,
+        // Transport 3: 0.04 for n = 1.5 against 1.0), the same in both directions.
         assert!((fresnel_reflectance(1.0, 1.0, 1.5) - 0.04).abs() < 1e-15);
         assert!((fresnel_reflectance(1.0, 1.5, 1.0) - 0.04).abs() < 1e-15);
         assert!((fresnel_reflectance(1.0, 1.0, 1.33) - (0.33f64 / 2.33).powi(2)).abs() < 1e-15);

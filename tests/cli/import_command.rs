@@ -34,14 +34,16 @@ fn import(table: &Path, args: &[&str], out: &Path) -> std::process::Output {
 
 #[test]
 fn example_table_imports_with_the_documented_mapping() {
-    // The mapping line of examples/README.md.
+    // The mapping line of examples/README.md: three preamble lines skipped, then the header.
     let directory = tempfile::tempdir().unwrap();
-    let out = directory.path().join("orrin-2.json");
+    let out = directory.path().join("brisa-4.json");
     let output = import(
-        Path::new("examples/orrin-2-profile.txt"),
+        Path::new("examples/brisa-4-profile.tsv"),
         &[
+            "--skip-rows",
+            "3",
             "--columns",
-            "radius=r_rsun:R_sun,log_density=logRho,log_temperature=logT,hydrogen=X,metals=Z",
+            "radius=radius_rsun:R_sun,log_temperature=log10_temperature_k,log_density=log10_density_g_cm3,hydrogen=hydrogen_fraction,metals=metal_fraction",
             "--opacity",
             "es+kramers",
         ],
@@ -59,8 +61,23 @@ fn example_table_imports_with_the_documented_mapping() {
     assert!((radius / (0.74625 * 6.957e10) - 1.0).abs() < 1e-12);
     let rho_c = report["central_density_g_cm3"].as_f64().unwrap();
     assert!((rho_c / 10f64.powf(1.48406) - 1.0).abs() < 1e-12);
-    // Surface first in the file, centre first in the model.
     assert_eq!(report["shells"][0]["inner_radius_cm"], 0.0);
+    // Without --name the model is named after the table file.
+    assert_eq!(
+        report["model"]["name"].as_str().unwrap(),
+        "imported table brisa-4-profile.tsv"
+    );
+    // Without --skip-rows the first preamble line is taken for the header, and the second
+    // line is refused with its line number.
+    let unskipped = import(
+        Path::new("examples/brisa-4-profile.tsv"),
+        &[
+            "--columns",
+            "radius=radius_rsun:R_sun,log_temperature=log10_temperature_k,log_density=log10_density_g_cm3,hydrogen=hydrogen_fraction,metals=metal_fraction",
+        ],
+        &directory.path().join("unskipped.json"),
+    );
+    assert!(!unskipped.status.success());
 }
 
 #[test]
@@ -304,16 +321,18 @@ fn ragged_row_and_bad_mapping() {
 fn import_with_an_opacity_table_and_energy_laws() {
     // The example table with the demo opacity table and pp + CNO evaluated at every row.
     let directory = tempfile::tempdir().unwrap();
-    let out = directory.path().join("orrin-2.json");
+    let out = directory.path().join("brisa-4.json");
     let table = std::fs::canonicalize("models/tables/demo-opacity-bump.csv").unwrap();
     let output = sojourn()
         .arg("import")
-        .arg("examples/orrin-2-profile.txt")
+        .arg("examples/brisa-4-profile.tsv")
         .args([
+            "--skip-rows",
+            "3",
             "--columns",
-            "radius=r_rsun:R_sun,log_density=logRho,log_temperature=logT,hydrogen=X,metals=Z",
+            "radius=radius_rsun:R_sun,log_temperature=log10_temperature_k,log_density=log10_density_g_cm3,hydrogen=hydrogen_fraction,metals=metal_fraction",
             "--length-unit",
-            "solar_radius",
+            "R_sun",
             "--energy",
             "pp+cno",
             "--opacity-table",
@@ -343,10 +362,12 @@ fn import_with_an_opacity_table_and_energy_laws() {
     assert!(report["luminosity_erg_s"].as_f64().unwrap() > 0.0);
     // An energy_generation column is read as such; laws and a column together are refused.
     let both = import(
-        Path::new("examples/orrin-2-profile.txt"),
+        Path::new("examples/brisa-4-profile.tsv"),
         &[
+            "--skip-rows",
+            "3",
             "--columns",
-            "radius=r_rsun:R_sun,log_density=logRho,log_temperature=logT,energy_generation=X",
+            "radius=radius_rsun:R_sun,log_density=log10_density_g_cm3,log_temperature=log10_temperature_k,energy_generation=hydrogen_fraction",
             "--energy",
             "pp",
         ],
@@ -357,10 +378,12 @@ fn import_with_an_opacity_table_and_energy_laws() {
     // A table without a temperature column cannot use an opacity table.
     let output = sojourn()
         .arg("import")
-        .arg("examples/orrin-2-profile.txt")
+        .arg("examples/brisa-4-profile.tsv")
         .args([
+            "--skip-rows",
+            "3",
             "--columns",
-            "radius=r_rsun:R_sun,log_density=logRho",
+            "radius=radius_rsun:R_sun,log_density=log10_density_g_cm3",
             "--opacity-table",
         ])
         .arg(&table)

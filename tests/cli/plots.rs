@@ -137,10 +137,10 @@ fn profile_plot_and_report_write_structure_and_budget() {
     assert!(String::from_utf8_lossy(&output.stdout).contains("Time budget"));
     assert_eq!(
         svg_files(&plots),
-        ["optical-structure.svg", "time-budget.svg"]
+        ["mean-free-path.svg", "optical-depth.svg", "time-budget.svg"]
     );
     let html = std::fs::read_to_string(&report).unwrap();
-    assert_eq!(html.matches("<svg").count(), 2);
+    assert_eq!(html.matches("<svg").count(), 3);
     assert!(html.contains("Time budget"), "the text report is embedded");
 }
 

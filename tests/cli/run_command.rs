@@ -248,3 +248,37 @@ fn an_absorbing_slab_compares_no_time_with_conservative_diffusion() {
     assert!(report["diffusion"]["escape_time"]["mean_s"].is_null());
     assert!(report["diffusion"]["mean_time_extrapolated_s"].is_number());
 }
+
+/// A command-line usage error: non-zero exit, nothing on stdout, no panic; returns stderr.
+fn usage_error(args: &[&str]) -> String {
+    let output = sojourn().args(args).output().unwrap();
+    let stderr = String::from_utf8_lossy(&output.stderr).to_string();
+    assert!(!output.status.success(), "sojourn {args:?} succeeded");
+    assert!(output.stdout.is_empty());
+    assert!(!stderr.contains("panicked"), "{stderr}");
+    stderr
+}
+
+#[test]
+fn resolved_tally_options_need_resolve() {
+    for flag in ["--tof-bins", "--cosine-bins"] {
+        let stderr = usage_error(&["run", "models/opal-diffuser.json", flag, "50"]);
+        assert!(stderr.contains("--resolve"), "{flag}: {stderr}");
+    }
+}
+
+#[test]
+fn counts_below_one_are_refused_in_plain_words() {
+    for flag in ["--photons", "--max-steps"] {
+        let stderr = usage_error(&["run", flag, "0"]);
+        assert!(
+            stderr.contains("expected a whole number of at least 1"),
+            "{flag}: {stderr}"
+        );
+        assert!(!stderr.contains("18446744073709551615"), "{stderr}");
+    }
+    for value in ["--photons=-3", "--photons=many"] {
+        let stderr = usage_error(&["run", value]);
+        assert!(stderr.contains("expected a whole number"), "{stderr}");
+    }
+}

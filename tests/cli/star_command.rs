@@ -40,7 +40,7 @@ fn star_writes_a_model_that_loads_and_profiles() {
     assert_eq!(names.len(), 1, "{names:?}");
     let model: Value = serde_json::from_str(&std::fs::read_to_string(&out).unwrap()).unwrap();
     assert_eq!(model["geometry"], "sphere");
-    assert_eq!(model["length_unit"], "solar_radius");
+    assert_eq!(model["length_unit"], "R_sun");
     let profile = &model["layers"][0]["profile"];
     assert_eq!(profile["radius"].as_array().unwrap().len(), 400);
     assert_eq!(profile["hydrogen"], 0.7);

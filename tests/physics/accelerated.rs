@@ -156,13 +156,11 @@ fn absorbing_sphere_matches_direct() {
 
 #[test]
 fn very_deep_uniform_spheres_follow_diffusion() {
-    // τ = 1e4 and 1e6, centred source: mean scatterings (τ + q∞)²/2 (diffusion with the
-    // extrapolated boundary; Krapivsky, Redner & Ben-Naim 2010, A Kinetic View of
-    // Statistical Physics, problem 2.21, for R²/(6D); Chandrasekhar 1950 for q∞), and the
-    // 5/50/95 % quantiles of the escape time within 2 % of the first-passage law with
-    // R + q∞ l and D = c l / 3 (same sources). Tolerances: the mean within 4σ and within
-    // 1 %; quantiles 2 % (histogram resolution 0.1 %, sampling error of a quantile with 10⁵
-    // photons ≈ 0.3 %).
+    // τ = 1e4 and 1e6, centred source: mean scatterings (τ + q∞)²/2 (docs/references.md, Diffusion
+    // theory 1, extrapolated boundary), and the 5/50/95 % quantiles of the escape time within 2 %
+    // of the first-passage law with R + q∞ l and D = c l / 3 (docs/references.md, Diffusion theory
+    // 1). Tolerances: the mean within 4σ and within 1 %; quantiles 2 % (histogram resolution 0.1 %,
+    // sampling error of a quantile with 10⁵ photons ≈ 0.3 %).
     for tau in [1e4, 1e6] {
         let medium = uniform_sphere(tau);
         let tally = run_method(&medium, 100_000, 65, Method::Auto).tally;
@@ -340,8 +338,8 @@ fn accelerated_walks_are_identical_for_any_thread_count() {
 fn sun_like_polytrope_matches_the_profile_diffusion_time() {
     // The demo star Veyra (n = 3 polytrope, 1 M☉, 1 R☉, electron scattering + Kramers,
     // τ ≈ 2.3e13): the Monte Carlo mean escape time against the diffusion mean exit time
-    // `sojourn profile` reports, (1/c) ∫ r/l dr (Redner 2001), exact to O(1/τ) here.
-    // Acceptance: within 1 % and within 4σ (10⁴ photons: σ ≈ 0.5 %).
+    // `sojourn profile` reports, (1/c) ∫ r/l dr (docs/references.md, Diffusion theory 1),
+    // exact to O(1/τ) here. Acceptance: within 1 % and within 4σ (10⁴ photons: σ ≈ 0.5 %).
     let path = std::path::Path::new("models/veyra-n3-sun-like.json");
     let medium = sojourn::medium::model_file::load_model(path).unwrap();
     let profile = sojourn::analysis::ProfileAnalysis::new(&medium).unwrap();

@@ -107,8 +107,8 @@ fn uniform_sphere_first_passage_quantiles() {
 #[test]
 fn uniform_sphere_extrapolated_mean() {
     // With the extrapolated boundary the mean is close to (τ + q∞)²/2 scatterings
-    // (REFERENCES: diffusion out of the sphere of radius R + q∞ l). The solver's
-    // continuation holds no photons, so its own closed form is the steady Green's function
+    // (docs/references.md, Diffusion theory 1: diffusion out of the sphere of radius R + q∞ l). The
+    // solver's continuation holds no photons, so its own closed form is the steady Green's function
     // with a resistor shell to R_e: τ²/2 + τ² q∞ / (τ + q∞), 1.5 q∞²/τ² below; both within
     // 0.1 %, the second within the discretisation error (< 1e-4 here, see the convergence
     // test).

@@ -55,7 +55,8 @@ fn log_slope(f: impl Fn(f64) -> f64, t: f64) -> f64 {
 
 #[test]
 fn pp_chain_at_the_reference_point() {
-    // Carroll & Ostlie (2nd ed., ch. 10; memory): ε_pp ≈ 1.08e−12 W m³ kg⁻² ρ X² T₆⁴ with ρ
+    // Carroll & Ostlie (2nd ed., ch. 10; docs/references.md, Stellar structure 1, recalled;
+    // checked below against the KWW rate): ε_pp ≈ 1.08e−12 W m³ kg⁻² ρ X² T₆⁴ with ρ
     // in kg m⁻³ and ε in W kg⁻¹. Recomputed here in SI: ρ = 100 g/cm³ = 1e5 kg/m³,
     // X = 0.7, T₆ = 15: 1.08e−12 · 1e5 · 0.49 · 50625 = 2.679e−3 W/kg = 26.79 erg/g/s.
     let si = 1.08e-12 * 1e5 * 0.49 * 15f64.powi(4);
@@ -75,7 +76,8 @@ fn pp_chain_at_the_reference_point() {
 
 #[test]
 fn cno_cycle_at_the_reference_point() {
-    // Carroll & Ostlie (2nd ed., ch. 10; memory): ε_CNO ≈ 8.24e−31 W m³ kg⁻² ρ X X_CNO T₆^19.9,
+    // Carroll & Ostlie (2nd ed., ch. 10; docs/references.md, Stellar structure 1, recalled;
+    // checked below against the KWW rate): ε_CNO ≈ 8.24e−31 W m³ kg⁻² ρ X X_CNO T₆^19.9,
     // X_CNO = 0.7 Z (common practice). ρ = 100 g/cm³, T = 1.5e7 K, X = 0.7, Z = 0.02:
     // X_CNO = 0.014; 8.24e−31 · 1e5 · 0.7 · 0.014 · 15^19.9 W/kg.
     let x_cno = 0.7 * 0.02;

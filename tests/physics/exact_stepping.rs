@@ -1,5 +1,5 @@
 //! Exact optical-depth stepping: the fraction of photons that cross a layered medium without
-//! interacting is e^(−Σ τ_i) along the ray (Beer–Lambert; ../shared/REFERENCES.md item 1).
+//! interacting is e^(−Σ τ_i) along the ray (Beer–Lambert; docs/references.md, Transport 1).
 
 use sojourn::medium::{Medium, Source};
 use sojourn::transport::PhaseFunction;
@@ -8,7 +8,8 @@ use crate::support::{assert_within, binomial_stderr, layer, run_photons};
 
 #[test]
 fn beer_lambert_absorbing_slab_normal_beam() {
-    // Purely absorbing slab, τ = 2, normal beam: T = e^−2 (Beer–Lambert, REFERENCES item 1).
+    // Purely absorbing slab, τ = 2, normal beam: T = e^−2 (Beer–Lambert, docs/references.md,
+    // Transport 1).
     let medium = Medium::slab(
         vec![(0.5, layer(4.0, 0.0, PhaseFunction::Isotropic))],
         1.0,
@@ -38,7 +39,7 @@ fn beer_lambert_absorbing_slab_normal_beam() {
 #[test]
 fn oblique_beam_through_three_absorbing_layers() {
     // Three layers of τ = 0.3, 0.05 and 0.4 at 40° incidence: T = e^(−Σ τ_i / cos 40°)
-    // (Beer–Lambert along the slant path, REFERENCES item 1).
+    // (Beer–Lambert along the slant path, docs/references.md, Transport 1).
     let medium = Medium::slab(
         vec![
             (0.1, layer(3.0, 0.0, PhaseFunction::Isotropic)),
@@ -69,7 +70,7 @@ fn oblique_beam_through_three_absorbing_layers() {
 fn three_shell_sphere_unscattered_escape() {
     // Extinctions differing by 250×: core r < 0.2 σ = 1 (τ 0.2), shell 0.2–0.21 σ = 50
     // (τ 0.5), shell 0.21–3 σ = 0.2 (τ 0.558). From the centre every ray crosses all three radially: the unscattered
-    // escape fraction is e^(−Σ τ_i) (REFERENCES item 1).
+    // escape fraction is e^(−Σ τ_i) (docs/references.md, Transport 1).
     let medium = Medium::sphere(
         vec![
             (0.2, layer(1.0, 1.0, PhaseFunction::Isotropic)),
@@ -101,7 +102,7 @@ fn off_centre_source_unscattered_escape_along_chords() {
     // s_core(μ) = −r0 μ + sqrt(r0² μ² − r0² + a²) and then the shell up to
     // s_out(μ) = −r0 μ + sqrt(r0² μ² − r0² + R²). The unscattered escape fraction is
     // ½ ∫ e^(−σ1 s_core − σ2 (s_out − s_core)) dμ (Beer–Lambert along each chord,
-    // REFERENCES item 1), integrated here with a fine midpoint rule.
+    // docs/references.md, Transport 1), integrated here with a fine midpoint rule.
     let (r0, a, r, s1, s2) = (0.5f64, 0.8f64, 1.0f64, 2.0f64, 10.0f64);
     let medium = Medium::sphere(
         vec![

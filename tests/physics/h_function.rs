@@ -1,5 +1,5 @@
 //! Checks of the standalone H-function solver in `tests_support/chandrasekhar.rs`
-//! against the reference values of REFERENCES.md item 2. Each value is compared to the
+//! against the reference values of docs/references.md, Transport 2. Each value is compared to the
 //! digits given: within half a unit of its last digit (plus 1e−9 for the solver).
 
 use crate::support::chandrasekhar::{HFunction, gauss_legendre_01, plane_albedo};
@@ -31,11 +31,12 @@ fn gauss_legendre_is_exact_for_polynomials() {
 #[test]
 fn conservative_scattering() {
     let h = HFunction::new(1.0);
-    // REFERENCES.md item 2, Chandrasekhar 1950, Radiative Transfer, ch. V: ω = 1: H(1) = 2.90781
+    // docs/references.md, Transport 2, Chandrasekhar 1950, Radiative Transfer, ch. V: ω = 1: H(1) =
+    // 2.90781
     assert_digits(h.eval(1.0), 2.90781, 5, "H(1), ω = 1");
-    // REFERENCES.md item 2, Chandrasekhar 1950, ch. V: ω = 1: ∫₀¹ H dμ = 2 (exact)
+    // docs/references.md, Transport 2, Chandrasekhar 1950, ch. V: ω = 1: ∫₀¹ H dμ = 2 (exact)
     assert!((h.moment(0) - 2.0).abs() < 1e-10, "α₀ = {}", h.moment(0));
-    // REFERENCES.md item 2, Chandrasekhar 1950, ch. V: ω = 1: ∫₀¹ H μ dμ = 2/√3 (exact)
+    // docs/references.md, Transport 2, Chandrasekhar 1950, ch. V: ω = 1: ∫₀¹ H μ dμ = 2/√3 (exact)
     assert!(
         (h.moment(1) - 2.0 / 3f64.sqrt()).abs() < 1e-10,
         "α₁ = {}",
@@ -49,12 +50,12 @@ fn conservative_scattering() {
 fn milne_problem_emergent_intensity() {
     let h = HFunction::new(1.0);
     let h1 = h.eval(1.0);
-    // REFERENCES.md item 2, Milne problem (ω = 1): I(0, μ)/I(0, 1) = H(μ)/H(1):
+    // docs/references.md, Transport 2, Milne problem (ω = 1): I(0, μ)/I(0, 1) = H(μ)/H(1):
     // μ = 0 → 0.3439, 0.2 → 0.4988, 0.5 → 0.6922
     assert_digits(h.eval(0.0) / h1, 0.3439, 4, "H(0)/H(1)");
     assert_digits(h.eval(0.2) / h1, 0.4988, 4, "H(0.2)/H(1)");
     assert_digits(h.eval(0.5) / h1, 0.6922, 4, "H(0.5)/H(1)");
-    // Eddington's approximation 0.4 + 0.6 μ (REFERENCES.md item 2, for comparison) is
+    // Eddington's approximation 0.4 + 0.6 μ (docs/references.md, Transport 2, for comparison) is
     // visibly different at the limb.
     assert!((h.eval(0.0) / h1 - 0.4).abs() > 0.05);
 }
@@ -62,9 +63,10 @@ fn milne_problem_emergent_intensity() {
 #[test]
 fn absorbing_medium() {
     let h = HFunction::new(0.9);
-    // REFERENCES.md item 2, Chandrasekhar 1950, ch. V: ω = 0.9: H(1) = 1.85010
+    // docs/references.md, Transport 2, Chandrasekhar 1950, ch. V: ω = 0.9: H(1) = 1.85010
     assert_digits(h.eval(1.0), 1.85010, 5, "H(1), ω = 0.9");
-    // REFERENCES.md item 2, plane albedo A(μ₀) = 1 − H(μ₀) sqrt(1−ω): ω = 0.9, μ₀ = 1: 0.41495
+    // docs/references.md, Transport 2, plane albedo A(μ₀) = 1 − H(μ₀) sqrt(1−ω): ω = 0.9, μ₀ = 1:
+    // 0.41495
     assert_digits(plane_albedo(0.9, 1.0), 0.41495, 5, "plane albedo");
     assert_digits(h.plane_albedo(1.0), 0.41495, 5, "plane albedo (method)");
     // Zeroth moment from integrating the equation (Chandrasekhar 1950, ch. V):

@@ -1,5 +1,5 @@
 //! Checks of the physics against exact results and published values
-//! (../shared/REFERENCES.md).
+//! (docs/references.md).
 
 mod accelerated;
 mod comparison;

@@ -1,11 +1,11 @@
 //! Monte Carlo through a tabulated stellar profile against the profile report's diffusion
-//! mean exit time (../shared/REFERENCES.md item 3).
+//! mean exit time (docs/references.md, Diffusion theory 1).
 //!
 //! The model is an n = 3 polytrope with a constant opacity, scaled to an optical radius of 50,
 //! so that the direct walker can follow every step (≈ 1000 per photon). Its extinction falls
 //! to 0 at the surface, which is where diffusion theory needs its finite-τ correction: the
 //! Milne extrapolated boundary, the surface moved out by q∞ = 0.7104 transport optical depths
-//! (REFERENCES item 2), which adds ≈ R q∞ / c to the exit time. For this centrally
+//! (docs/references.md, Transport 2), which adds ≈ R q∞ / c to the exit time. For this centrally
 //! concentrated star that is 13 % of (1/c) ∫ r/l dr at τ = 50 (for a uniform sphere it would
 //! be 2 q∞/τ ≈ 3 %). What is left after it is the next order of the boundary layer:
 //! measured here (seed 7, 10⁵ photons) as +0.58 ± 0.14 % at τ = 30, +0.38 ± 0.15 % at τ = 50

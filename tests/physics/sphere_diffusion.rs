@@ -1,4 +1,4 @@
-//! Uniform isotropic spheres against diffusion theory (../shared/REFERENCES.md item 3).
+//! Uniform isotropic spheres against diffusion theory (docs/references.md, Diffusion theory 1).
 
 use sojourn::diffusion::{MILNE_EXTRAPOLATION_LENGTH, estimate, first_passage_ks_distance};
 use sojourn::units::SPEED_OF_LIGHT_CM_S;
@@ -6,8 +6,8 @@ use sojourn::units::SPEED_OF_LIGHT_CM_S;
 use crate::support::{assert_within, run_photons, uniform_sphere};
 
 /// Mean scatterings from the centre of a uniform isotropic sphere vs (τ + q∞)²/2
-/// (REFERENCES item 3: diffusion with the extrapolated boundary, "follows closely for
-/// τ ≳ 5", common practice). Tolerance: 4σ of the Monte Carlo mean plus 0.3 % for the
+/// (docs/references.md, Diffusion theory 1: diffusion with the extrapolated boundary, "follows
+/// closely for τ ≳ 5", common practice). Tolerance: 4σ of the Monte Carlo mean plus 0.3 % for the
 /// approximation itself (measured here at 0.06 % for τ = 10 with 4·10⁵ photons).
 fn check_mean_scatterings(tau: f64, photons: u64, seed: u64) {
     let medium = uniform_sphere(tau);
@@ -50,9 +50,9 @@ fn mean_scatterings_tau_40() {
 #[test]
 fn escape_time_distribution_approaches_the_first_passage_law() {
     // KS distance between Monte Carlo escape times and the exact first-passage CDF of
-    // diffusion out of the extrapolated sphere (REFERENCES item 3). Two effects set it:
-    // sampling noise, of order 0.87/√N (the mean of the Kolmogorov distribution), and the
-    // discreteness of the walk, which fades as the number of steps grows (∝ 1/τ: the first
+    // diffusion out of the extrapolated sphere (docs/references.md, Diffusion theory 1). Two
+    // effects set it: sampling noise, of order 0.87/√N (the mean of the Kolmogorov distribution),
+    // and the discreteness of the walk, which fades as the number of steps grows (∝ 1/τ: the first
     // mean free path and the boundary layer are a fraction 1/τ of the radius). With
     // N = 60 000 the noise is ≈ 0.0036, below the τ = 10 discreteness (≈ 0.007, measured).
     // Asserted: the distance shrinks from τ = 10 to τ = 40, and at τ = 40 it is below the

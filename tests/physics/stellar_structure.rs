@@ -15,7 +15,8 @@ fn relative(a: f64, b: f64) -> f64 {
 #[test]
 fn lane_emden_constants_n_1_5_and_3() {
     // Chandrasekhar 1939, An Introduction to the Study of Stellar Structure; Horedt 2004,
-    // Polytropes (docs/references.md item 12): (ξ₁, −ξ₁²θ′(ξ₁), ρc/ρ̄), to 1e−4 relative.
+    // Polytropes (docs/references.md, Stellar structure 12): (ξ₁, −ξ₁²θ′(ξ₁), ρc/ρ̄), to 1e−4
+    // relative.
     for (n, xi1, mass, concentration) in [
         (1.5, 3.65375, 2.71406, 5.99071),
         (3.0, 6.89685, 2.01824, 54.1825),
@@ -40,8 +41,8 @@ fn worst_error(theta: impl Fn(f64) -> f64, exact: impl Fn(f64) -> f64, end: f64)
 
 #[test]
 fn analytic_polytropes_to_1e_minus_8() {
-    // Chandrasekhar 1939 (docs/references.md item 12): n = 0: θ = 1 − ξ²/6 (ξ₁ = √6); n = 1: θ = sin ξ / ξ (ξ₁ = π);
-    // n = 5: θ = (1 + ξ²/3)^(−1/2) (no surface; checked to ξ = 30).
+    // Chandrasekhar 1939 (docs/references.md, Stellar structure 12): n = 0: θ = 1 − ξ²/6 (ξ₁ = √6);
+    // n = 1: θ = sin ξ / ξ (ξ₁ = π); n = 5: θ = (1 + ξ²/3)^(−1/2) (no surface; checked to ξ = 30).
     let n0 = LaneEmdenSolution::solve(0.0).unwrap();
     assert!((n0.xi1() - 6f64.sqrt()).abs() < 1e-8);
     let e0 = worst_error(|x| n0.theta(x).unwrap(), |x| 1.0 - x * x / 6.0, n0.xi1());
@@ -73,7 +74,8 @@ fn gas(rho: f64, t: f64, x: f64, z: f64) -> GasState {
 
 #[test]
 fn opacity_laws_match_hand_evaluated_formulas() {
-    // Carroll & Ostlie, An Introduction to Modern Astrophysics, ch. 9 (docs/references.md item 13):
+    // Carroll & Ostlie, An Introduction to Modern Astrophysics, ch. 9 (docs/references.md, Stellar
+    // structure 13):
     //   κ_es = 0.2 (1 + X); κ_ff = 3.68e22 g_ff (1 − Z)(1 + X) ρ T^−3.5;
     //   κ_bf = 4.34e25 (g_bf / t) Z (1 + X) ρ T^−3.5 (cm²/g, ρ in g/cm³, T in K).
     // Point D: ρ = 1, T = 1e7 (T^−3.5 = 3.16227766e−25), X = 0.7, Z = 0.02:
@@ -107,8 +109,8 @@ fn opacity_laws_match_hand_evaluated_formulas() {
 
 #[test]
 fn iau_and_codata_constants() {
-    // docs/references.md item 14: IAU 2015 B3 R☉ = 6.957e8 m, L☉ = 3.828e26 W; CODATA 2018
-    // σ_T = 6.6524587321e−29 m², c = 299 792 458 m/s, m_u = 1.66053906660e−27 kg,
+    // docs/references.md, Stellar structure 14: IAU 2015 B3 R☉ = 6.957e8 m, L☉ = 3.828e26 W; CODATA
+    // 2018 σ_T = 6.6524587321e−29 m², c = 299 792 458 m/s, m_u = 1.66053906660e−27 kg,
     // k_B = 1.380649e−23 J/K; Julian year 365.25 d.
     assert_eq!(units::SOLAR_RADIUS_CM, 6.957e10);
     assert_eq!(units::SOLAR_LUMINOSITY_ERG_S, 3.828e33);

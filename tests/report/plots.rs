@@ -468,27 +468,55 @@ fn profile_panels_show_structure_photosphere_and_budget() {
     let report = ProfileReport::new(&medium, "test").unwrap();
     let panels = profile_panels(&medium, &report);
     let names: Vec<&str> = panels.iter().map(|p| p.name()).collect();
-    assert_eq!(names, ["optical-structure", "time-budget"]);
+    assert_eq!(names, ["mean-free-path", "optical-depth", "time-budget"]);
 
     let structure = OpticalStructurePanel::from_profile(&medium, &report).unwrap();
-    let spec = structure.spec();
-    assert_eq!(spec.y_axis.scale, Scale::Log);
-    assert_eq!(
-        labels(&spec),
-        ["mean free path l (cm)", "optical depth τ from the surface"]
-    );
     // Two step points per shell; τ from 40·0.3 + 4·0.7 = 14.8 at the centre to 0.
     assert_eq!(structure.mean_free_path.len(), 4);
     assert!((structure.optical_depth[0].1 - 14.8).abs() < 1e-12);
     assert_eq!(*structure.optical_depth.last().unwrap(), (1.0, 0.0));
     let photosphere = report.analysis.photosphere_radius_cm.unwrap();
     assert!((photosphere - (1.0 - (2.0 / 3.0) / 4.0)).abs() < 1e-12);
+
+    // One quantity per figure: the mean free path on its own logarithmic axis ...
+    let spec = structure.mean_free_path_spec();
+    assert_eq!(spec.y_axis.scale, Scale::Log);
+    assert_eq!(spec.y_axis.label, "mean free path l (cm)");
+    assert_eq!(labels(&spec), ["mean free path l (cm)"]);
+    assert!(
+        !spec
+            .reference_lines
+            .iter()
+            .any(|l| l.label.contains("τ = 2/3") && l.orientation == Orientation::Horizontal)
+    );
+    let svg = panels[0].render().unwrap().svg;
+    check_line_panel(&spec, &svg);
+
+    // ... and the optical depth against the depth below the surface, both axes log, so
+    // the photosphere, 1/6 cm below the surface of this 1 cm sphere, is not squeezed.
+    let spec = structure.optical_depth_spec();
+    assert_eq!(
+        (spec.x_axis.scale, spec.y_axis.scale),
+        (Scale::Log, Scale::Log)
+    );
+    assert!(spec.x_axis.label.starts_with("depth below the surface"));
+    assert!(
+        spec.series[0]
+            .points
+            .iter()
+            .all(|&(d, tau)| d > 0.0 && tau > 0.0)
+    );
     assert!(spec.reference_lines.iter().any(|l| {
         l.orientation == Orientation::Vertical
-            && l.value == photosphere
+            && (l.value - (1.0 - photosphere)).abs() < 1e-12
             && l.label.starts_with("photosphere (τ = 2/3)")
     }));
-    check_line_panel(&spec, &structure.render().unwrap().svg);
+    assert!(
+        spec.reference_lines
+            .iter()
+            .any(|l| { l.orientation == Orientation::Horizontal && l.value == 2.0 / 3.0 })
+    );
+    check_line_panel(&spec, &panels[1].render().unwrap().svg);
 
     let budget = ProfileTimeBudgetPanel::from_profile(&medium, &report).unwrap();
     let spec = budget.spec();

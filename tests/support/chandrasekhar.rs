@@ -1,8 +1,8 @@
 //! Chandrasekhar's H-function for isotropic scattering, computed independently of the
 //! crate under test (std only), for reference checks of the Monte Carlo.
 //!
-//! REFERENCES item 2 (Chandrasekhar 1950, *Radiative Transfer*, ch. V): for single-scattering
-//! albedo ω,
+//! docs/references.md, Transport 2 (Chandrasekhar 1950, *Radiative Transfer*, ch. V): for
+//! single-scattering albedo ω,
 //!
 //! ```text
 //! 1/H(μ) = sqrt(1 − ω) + (ω/2) ∫₀¹ μ′ H(μ′) / (μ + μ′) dμ′
@@ -178,7 +178,7 @@ impl HFunction {
 
 /// Plane albedo of a semi-infinite, isotropically scattering medium with albedo `omega`
 /// under collimated incidence at cosine `mu0`, matched boundary:
-/// `A(μ₀) = 1 − H(μ₀) sqrt(1 − ω)` (REFERENCES item 2; Chandrasekhar 1950, ch. V).
+/// `A(μ₀) = 1 − H(μ₀) sqrt(1 − ω)` (docs/references.md, Transport 2; Chandrasekhar 1950, ch. V).
 /// Solves the H-function afresh (96 nodes): cache an [`HFunction`] for many calls.
 pub fn plane_albedo(omega: f64, mu0: f64) -> f64 {
     HFunction::new(omega).plane_albedo(mu0)

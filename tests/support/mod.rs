@@ -2,6 +2,7 @@
 
 #![allow(dead_code)]
 
+pub mod adding_doubling;
 pub mod chandrasekhar;
 pub mod profiles;
 pub mod radial_diffusion;

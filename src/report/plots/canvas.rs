@@ -318,31 +318,77 @@ fn fit_text(text: &str, font_size: f64, width: f64) -> String {
     out
 }
 
-/// The title's font size: [`size::TITLE`], or smaller (down to 22 px) for a long title.
+/// The title's font size: [`size::TITLE`], or smaller (down to [`SMALLEST_TITLE`]) for a
+/// long title.
 fn title_size(title: &str, width: f64) -> f64 {
     let fitting = width / (BOLD_WIDTH * 0.56 * title.chars().count().max(1) as f64);
-    fitting.clamp(22.0, size::TITLE)
+    fitting.clamp(SMALLEST_TITLE, size::TITLE)
 }
 
 /// Bold text is about this much wider than [`text_width`] estimates.
 const BOLD_WIDTH: f64 = 1.07;
 
+/// The smallest title font, px; a title that does not fit at it wraps onto a second line.
+const SMALLEST_TITLE: f64 = 22.0;
+
+/// The title's font size and lines: one line at [`title_size`] when it fits at
+/// [`SMALLEST_TITLE`] or more, else two lines at that size, broken at the last space that
+/// lets the first line fit (the second line is shortened with an ellipsis only if it still
+/// does not fit).
+fn title_lines(title: &str, width: f64) -> (f64, Vec<String>) {
+    let px = title_size(title, width);
+    let fits = |text: &str| text_width(text, SMALLEST_TITLE * BOLD_WIDTH) <= width;
+    if px > SMALLEST_TITLE || fits(title) {
+        return (px, vec![title.to_string()]);
+    }
+    let break_at = title
+        .char_indices()
+        .rev()
+        .find(|&(i, c)| c == ' ' && fits(&title[..i]))
+        .map(|(i, _)| i);
+    match break_at {
+        Some(i) => (
+            SMALLEST_TITLE,
+            vec![
+                title[..i].to_string(),
+                fit_text(
+                    title[i + 1..].trim_start(),
+                    SMALLEST_TITLE * BOLD_WIDTH,
+                    width,
+                ),
+            ],
+        ),
+        None => (
+            SMALLEST_TITLE,
+            vec![fit_text(title, SMALLEST_TITLE * BOLD_WIDTH, width)],
+        ),
+    }
+}
+
 fn draw_titles(root: &Root, spec: &ChartSpec) -> DrawResult {
     let width = size::WIDTH as f64 - 2.0 * MARGIN as f64;
-    let px = title_size(&spec.title, width);
+    let (px, lines) = title_lines(&spec.title, width);
     let title_font = FontDesc::new(FontFamily::SansSerif, px * 1.24, FontStyle::Bold);
-    root.draw(&Text::new(
-        fit_text(&spec.title, px * BOLD_WIDTH, width),
-        (MARGIN, 18),
-        TextStyle {
-            font: title_font,
-            color: Colour::Ink.rgb().to_backend_color(),
-            pos: Pos::new(HPos::Left, VPos::Top),
-        },
-    ))?;
+    // One line at the top; two lines closer together, moving the subtitle down.
+    let (first, step, subtitle_y) = if lines.len() == 1 {
+        (18, 0, 62)
+    } else {
+        (4, 30, 66)
+    };
+    for (k, line) in lines.into_iter().enumerate() {
+        root.draw(&Text::new(
+            line,
+            (MARGIN, first + step * k as i32),
+            TextStyle {
+                font: title_font.clone(),
+                color: Colour::Ink.rgb().to_backend_color(),
+                pos: Pos::new(HPos::Left, VPos::Top),
+            },
+        ))?;
+    }
     root.draw(&Text::new(
         fit_text(&spec.subtitle, size::SUBTITLE, width),
-        (MARGIN, 62),
+        (MARGIN, subtitle_y),
         text_style(size::SUBTITLE, Colour::Slate, HPos::Left, VPos::Top),
     ))
 }
@@ -673,5 +719,21 @@ mod tests {
         let total: f64 = pieces.iter().map(|p| p[p.len() - 1].0 - p[0].0).sum();
         assert!((total - 70.0).abs() < 1e-9);
         assert_eq!(dash_polyline(&[(0.0, 0.0), (3.0, 4.0)], &[]).len(), 1);
+    }
+
+    #[test]
+    fn long_titles_wrap_onto_two_lines_without_losing_words() {
+        let width = size::WIDTH as f64 - 2.0 * MARGIN as f64;
+        let short = "Escape time · Ember";
+        assert_eq!(title_lines(short, width).1, [short]);
+        let long = "Mean escape time against layers[0].extinction_coefficient · Orvel, an \
+                    invented three-layer diffuser with a long and descriptive name";
+        let (px, lines) = title_lines(long, width);
+        assert_eq!(px, SMALLEST_TITLE);
+        assert_eq!(lines.len(), 2);
+        assert_eq!(format!("{} {}", lines[0], lines[1]), long, "no word lost");
+        for line in &lines {
+            assert!(text_width(line, px * BOLD_WIDTH) <= width, "{line}");
+        }
     }
 }

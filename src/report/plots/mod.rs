@@ -13,7 +13,8 @@
 //!   [`time_budget::TimeBudgetPanel`]; a slab run with resolved tallies adds
 //!   [`time_resolved::TimeResolvedPanel`], [`absorption_depth::AbsorptionDepthPanel`] and
 //!   [`limb_darkening::LimbDarkeningPanel`]; [`run_panels`] lists them. `sojourn profile`
-//!   has [`optical_structure::OpticalStructurePanel`] and
+//!   has [`optical_structure::OpticalStructurePanel`] (two figures: mean free path and
+//!   optical depth) and
 //!   [`profile_budget::ProfileTimeBudgetPanel`] ([`profile_panels`]), a sweep
 //!   [`sweep_escape_time::SweepPanel`] ([`sweep_panels`]). A new panel is a new file
 //!   with a plain-data struct that implements [`Panel`] (usually by filling a
@@ -122,12 +123,13 @@ pub fn run_panels(inputs: &RunInputs) -> Vec<Box<dyn Panel>> {
     panels
 }
 
-/// The panels of `sojourn profile`: the optical structure and the time budget of the
-/// profile's shells.
+/// The panels of `sojourn profile`: the optical structure (mean free path, optical depth)
+/// and the time budget of the profile's shells.
 pub fn profile_panels(medium: &Medium, report: &ProfileReport) -> Vec<Box<dyn Panel>> {
     let mut panels: Vec<Box<dyn Panel>> = Vec::new();
-    if let Some(panel) = optical_structure::OpticalStructurePanel::from_profile(medium, report) {
-        panels.push(Box::new(panel));
+    if let Some(structure) = optical_structure::OpticalStructurePanel::from_profile(medium, report)
+    {
+        panels.extend(structure.panels());
     }
     if let Some(panel) = profile_budget::ProfileTimeBudgetPanel::from_profile(medium, report) {
         panels.push(Box::new(panel));
