@@ -60,7 +60,7 @@ pub const TARGETS: &[Target] = &[
     Target {
         name: "column table",
         salt: 0x636f_6c75_6d6e_0004,
-        corpus: &["examples/orrin-2-profile.txt"],
+        corpus: &["examples/brisa-4-profile.tsv"],
         run: column_table,
     },
     Target {
@@ -140,11 +140,13 @@ fn opacity_table(text: &str, file: &str) -> Result<(), String> {
 /// Imports a column table as `sojourn import` does with the README's mapping.
 fn column_table(text: &str, file: &str) -> Result<(), String> {
     let mapping = ColumnMapping::parse(
-        "radius=r_rsun:R_sun,log_density=logRho,log_temperature=logT,hydrogen=X,metals=Z",
+        "radius=radius_rsun:R_sun,log_temperature=log10_temperature_k,\
+         log_density=log10_density_g_cm3,hydrogen=hydrogen_fraction,metals=metal_fraction",
     )
     .map_err(|e| e.to_string())?;
     let options = ImportOptions {
         opacity_law: Some(OpacitySpec::ElectronScattering {}),
+        skip_rows: 3,
         ..ImportOptions::new(mapping)
     };
     import_table(text, file, &options).map_err(|e| e.to_string())?;
