@@ -12,7 +12,7 @@
 
 use serde::Serialize;
 
-use super::theory::{DiffusionSummary, EscapeTimeTheory};
+use super::theory::{DiffusionSummary, EscapeTimeTheory, solve_diffusion};
 use crate::analysis::stellar::StellarAnalysis;
 use crate::diffusion::{self, MILNE_EXTRAPOLATION_LENGTH};
 use crate::medium::profile::ProfileSummary;
@@ -85,12 +85,15 @@ pub struct ProfileDiffusion {
     pub mean_scatterings_extrapolated: f64,
     /// `naive_time_s` / `mean_time_s`: how far the rule of thumb is off.
     pub naive_over_diffusion: f64,
-    /// Fraction of the radiation that diffusion lets leave (1 for a conservative sphere;
-    /// null where a layer absorbs, see [`DiffusionSummary`]).
+    /// Fraction of the radiation from the centre that diffusion lets leave, with absorption
+    /// (the time-dependent diffusion solver, as in a run's `diffusion.escape_probability`;
+    /// null where the solver cannot describe the medium).
     pub escape_probability: Option<f64>,
     /// The escape time from the centre, conditional on escape, as in a run's
-    /// `diffusion.escape_time` ([`DiffusionSummary`]).
+    /// `diffusion.escape_time` ([`DiffusionSummary`]: the solver).
     pub escape_time: EscapeTimeTheory,
+    /// Late decay rate λ₁ of the escape-time distribution, 1/s (the solver).
+    pub decay_rate_per_s: Option<f64>,
     /// Mean exit time averaged over where the energy is released, ∫ T(r₀) dL / L, s (null
     /// without energy generation).
     pub luminosity_weighted_time_s: Option<f64>,
@@ -214,7 +217,8 @@ impl ProfileAnalysis {
         }
         let centred = medium.with_sphere_source(0.0)?;
         let estimate = diffusion::estimate(&centred);
-        let (theory, _) = DiffusionSummary::new(&centred, None, 1.0);
+        let solution = solve_diffusion(&centred);
+        let (theory, _) = DiffusionSummary::new(&centred, solution.as_ref().ok());
         let layers = medium.layers();
         let radius_cm = medium.size_cm();
 
@@ -392,6 +396,7 @@ impl ProfileAnalysis {
                 naive_over_diffusion: share(estimate.naive_time_s, estimate.mean_time_s),
                 escape_probability: theory.escape_probability,
                 escape_time: theory.escape_time,
+                decay_rate_per_s: theory.decay_rate_per_s,
                 luminosity_weighted_time_s: times.luminosity_weighted_time_s,
                 luminosity_weighted_time_extrapolated_s: times
                     .luminosity_weighted_time_extrapolated_s,

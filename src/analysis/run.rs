@@ -14,7 +14,7 @@ use crate::tally::{PathStats, Tally};
 
 use super::comparison::{Comparison, compare};
 use super::slab_optics::{ResolvedSummary, SlabDiffusion, resolved_summary, slab_diffusion};
-use super::theory::DiffusionSummary;
+use super::theory::{DiffusionSummary, solve_diffusion};
 
 /// Fractions of launched photons by outcome (null where the geometry has no such outcome).
 #[derive(Debug, Clone, Serialize)]
@@ -257,10 +257,13 @@ impl RunAnalysis {
         let is_slab = medium.geometry() == Geometry::Slab;
         let stellar = StellarAnalysis::of(medium);
         let energy_source = medium.source() == Source::EnergyGeneration;
-        let launched = tally.launched().max(1) as f64;
-        let entering = 1.0 - tally.specular().count() as f64 / launched;
         let slab = slab_diffusion(medium, tally);
-        let (mut diffusion, theory_notes) = DiffusionSummary::new(medium, slab.as_ref(), entering);
+        let solution = solve_diffusion(medium);
+        let (mut diffusion, mut theory_notes) =
+            DiffusionSummary::new(medium, solution.as_ref().ok());
+        if let Err(note) = &solution {
+            theory_notes.push(note.clone());
+        }
         if let Some(stellar) = &stellar {
             diffusion.add_stellar_times(&stellar.times);
         }
@@ -276,7 +279,7 @@ impl RunAnalysis {
             &escapes,
             &reference,
             theory_notes,
-            slab.as_ref(),
+            solution.as_ref().ok(),
         );
         let mut notes = vec!["absorption is analog: an absorbed photon ends its walk".to_string()];
         if medium.geometry() == Geometry::Sphere {
@@ -303,8 +306,9 @@ impl RunAnalysis {
         if energy_source {
             notes.push(
                 "photons start where the energy is released (probability ∝ ε ρ r² dr): the \
-                 time ratios compare with the luminosity-weighted diffusion times; \
-                 diffusion.mean_time_s is from the centre"
+                 closed-form time ratios compare with the luminosity-weighted diffusion times \
+                 (diffusion.mean_time_s is from the centre), and the diffusion solver starts \
+                 its photons at 64 luminosity quantiles"
                     .to_string(),
             );
         }

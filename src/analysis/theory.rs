@@ -1,31 +1,30 @@
-//! Diffusion theory on the model, as the analysis reports it: the rule of thumb, the mean
-//! exit times of steady diffusion on the model's own layers ([`crate::diffusion::estimate`])
-//! with the source where diffusion theory puts it ([`theory_source`]), and what theory says
-//! of the escape probability and the escape-time distribution where it can say it honestly.
+//! Diffusion theory on the model, as the analysis reports it: the rule of thumb and the
+//! mean exit times of steady conservative diffusion on the model's own layers
+//! ([`crate::diffusion::estimate`], closed forms, with the source where diffusion puts it:
+//! [`theory_source`]), and the time-dependent diffusion solver on the same layers
+//! ([`crate::diffusion::transient`]) for everything else:
 //!
-//! What is filled today:
+//! * the escape probability (with absorption), and for slabs R and T on the actual layers
+//!   (the solver's own source model: a beam enters through its face and is δ-scaled, see
+//!   `diffusion/transient/source.rs`), and the absorbed fraction;
+//! * the escape time conditional on escape: mean, median, 5 % and 95 % points, with
+//!   absorption;
+//! * the late decay rate λ₁.
 //!
-//! * **Conservative media** (no layer absorbs): escape probability 1 (slabs lit from
-//!   outside: the fraction that enters), mean escape time = the steady mean exit time with
-//!   the extrapolated boundary; for a uniform sphere with a centred source also the median
-//!   and the 5 % and 95 % points of the exact first-passage law out of the extrapolated
-//!   sphere ([`crate::diffusion::first_passage`]).
-//! * **Absorbing media**: slabs lit from outside get the steady diffuse R and T (and their
-//!   sum) with absorption ([`super::slab_optics::SlabDiffusion`]); the escape times of
-//!   absorbing diffusion, and the escape probability elsewhere, are `null`: the mean times
-//!   here are those of conservative diffusion, with absorption entering only D.
-//!
-//! Everything left `null` says why in the comparison's notes; the time-dependent diffusion
-//! solver fills it in.
+//! The closed-form means are those of conservative diffusion (absorption enters only D);
+//! the solver's values include absorption. Where the solver cannot describe the medium
+//! ([`crate::diffusion::transient::SolverError`]) its values are `null` and the comparison's
+//! notes say why.
 
 use serde::Serialize;
 
 use crate::analysis::stellar::StellarTimes;
-use crate::diffusion::{self, DiffusionEstimate, equivalent_sphere, first_passage};
+use crate::diffusion::transient::{self, EscapeSolution};
+use crate::diffusion::{self, DiffusionEstimate};
 use crate::medium::{Geometry, Medium, Source};
 use crate::units::format_significant;
 
-use super::slab_optics::{SlabDiffusion, equivalent_optics};
+use super::slab_optics::equivalent_optics;
 
 /// Where diffusion theory puts the source of a medium.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -83,6 +82,18 @@ pub fn theory_estimate(medium: &Medium) -> Option<DiffusionEstimate> {
     }
 }
 
+/// The time-dependent diffusion solution of `medium` with its own source
+/// ([`crate::diffusion::transient::solve`]), or the note saying why there is none (a
+/// [`crate::diffusion::transient::SolverError`] is reported, never a panic).
+pub fn solve_diffusion(medium: &Medium) -> Result<EscapeSolution, String> {
+    transient::solve(medium).map_err(|e| {
+        format!(
+            "the diffusion solver cannot describe this medium ({e}): no escape probability, \
+             escape-time distribution, KS test or late decay from diffusion"
+        )
+    })
+}
+
 /// Whether any layer of `medium` absorbs (an interacting layer with albedo below 1). In
 /// tabulated stellar profiles the walk uses albedo 1 (absorption is re-emission), so they
 /// do not count.
@@ -103,11 +114,11 @@ pub fn lowest_albedo(medium: &Medium) -> f64 {
         .fold(1.0, f64::min)
 }
 
-/// The escape time of diffusion theory, conditional on escape; `null` where theory does not
-/// give it yet.
+/// The escape time of diffusion theory, conditional on escape (the diffusion solver, with
+/// absorption); `null` where the solver cannot describe the medium.
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct EscapeTimeTheory {
-    /// Mean, s (conservative media: the steady mean exit time, extrapolated boundary).
+    /// Mean, s.
     pub mean_s: Option<f64>,
     /// Median, s.
     pub median_s: Option<f64>,
@@ -115,6 +126,19 @@ pub struct EscapeTimeTheory {
     pub p05_s: Option<f64>,
     /// 95 % quantile, s.
     pub p95_s: Option<f64>,
+}
+
+impl EscapeTimeTheory {
+    /// The escape time of `solution`, conditional on escape.
+    pub fn of(solution: &EscapeSolution) -> Self {
+        let quantiles = solution.escape_quantiles_s(&[0.05, 0.5, 0.95]);
+        Self {
+            mean_s: solution.mean_escape_time_s(),
+            p05_s: quantiles[0],
+            median_s: quantiles[1],
+            p95_s: quantiles[2],
+        }
+    }
 }
 
 /// Diffusion-theory values for the model (see [`crate::diffusion::estimate`]).
@@ -144,16 +168,22 @@ pub struct DiffusionSummary {
     /// Slabs lit from outside: depth of the plane source diffusion theory uses, 1/μs′, cm
     /// (see [`TheorySource`]); null otherwise.
     pub source_depth_cm: Option<f64>,
-    /// Fraction of launched photons that diffusion theory lets leave the medium (slabs lit
-    /// from outside: after entering it; compare with `outcome.escaped`, or
-    /// `outcome.reflected + outcome.transmitted`).
+    /// Fraction of launched photons that diffusion lets leave the medium, with absorption
+    /// (the solver; a slab's specular reflection not included: compare with
+    /// `outcome.escaped`, or `outcome.reflected + outcome.transmitted`).
     pub escape_probability: Option<f64>,
-    /// Time in the medium of the photons that leave it, conditional on escape.
+    /// Fraction of launched photons diffusion absorbs (the solver).
+    pub absorbed: Option<f64>,
+    /// Time in the medium of the photons that leave it, conditional on escape (the solver,
+    /// with absorption).
     pub escape_time: EscapeTimeTheory,
-    /// Slabs lit from outside: diffuse reflectance per launched photon (steady diffusion,
-    /// extrapolated boundary, with absorption); null otherwise.
+    /// Late decay rate λ₁ of the escape-time distribution, 1/s (the solver).
+    pub decay_rate_per_s: Option<f64>,
+    /// Slabs: diffuse reflectance per launched photon (the solver on the actual layers,
+    /// specular reflection not included); null for spheres.
     pub reflected: Option<f64>,
-    /// Slabs lit from outside: diffuse transmittance per launched photon; null otherwise.
+    /// Slabs: transmittance per launched photon, collimated transmission included (the
+    /// solver); null for spheres.
     pub transmitted: Option<f64>,
     /// Stellar models with energy generation: the mean exit time averaged over where the
     /// energy is released (to the medium's surface, or to where the walk stops), s.
@@ -169,29 +199,23 @@ pub struct DiffusionSummary {
 }
 
 impl DiffusionSummary {
-    /// Diffusion theory on `medium`; `slab` is the steady slab theory beside the run (slabs
-    /// lit from outside), `entering` the fraction of launched photons that entered the
-    /// medium (1 but for Fresnel reflection at a slab's lit face). Returns the summary and
-    /// notes on what is missing and why.
-    pub fn new(
-        medium: &Medium,
-        slab: Option<&SlabDiffusion>,
-        entering: f64,
-    ) -> (Self, Vec<String>) {
+    /// Diffusion theory on `medium`, with the time-dependent `solution` of its diffusion
+    /// problem (`None` where the solver failed; the caller says why). Returns the summary and
+    /// notes on what the values mean.
+    pub fn new(medium: &Medium, solution: Option<&EscapeSolution>) -> (Self, Vec<String>) {
         let plain = diffusion::estimate(medium);
         let source = theory_source(medium);
         let theory = match source {
             TheorySource::Modelled => Some(plain.clone()),
             _ => theory_estimate(medium),
         };
-        let conservative = !absorbs(medium);
-        let lit_slab = !matches!(source, TheorySource::Modelled);
         let mut notes = Vec::new();
         match source {
             TheorySource::Plane { depth_cm } => notes.push(format!(
-                "diffusion theory puts the incident light's source one reduced scattering \
-                 length below the lit face, 1/μs′ = {} cm (μs′ averaged over the thickness), \
-                 for the mean times as for R and T",
+                "the closed-form steady means put the incident light's source one reduced \
+                 scattering length below the lit face, 1/μs′ = {} cm (μs′ averaged over the \
+                 thickness), as the closed-form R and T do; the diffusion solver lets the \
+                 beam decay into each layer",
                 format_significant(depth_cm, 4)
             )),
             TheorySource::OutsideSlab {
@@ -199,43 +223,17 @@ impl DiffusionSummary {
                 thickness_cm,
             } => notes.push(format!(
                 "the slab ({} cm) is not thicker than one reduced scattering length 1/μs′ = \
-                 {} cm: diffusion theory has no source inside it and gives no mean time",
+                 {} cm: the closed-form steady means have no source inside it",
                 format_significant(thickness_cm, 4),
                 format_significant(depth_cm, 4)
             )),
             TheorySource::Modelled => {}
         }
-        let escape_probability = if conservative {
-            Some(if lit_slab { entering } else { 1.0 })
-        } else {
-            slab.map(|s| s.reflectance + s.transmittance)
-        };
-        let mut escape_time = EscapeTimeTheory::default();
-        if conservative {
-            escape_time.mean_s = theory.as_ref().map(|t| t.mean_time_extrapolated_s);
-            if let Some((radius_cm, diffusion_cm2_s)) = equivalent_sphere(medium) {
-                let time = |p: f64| {
-                    first_passage::time_from_dimensionless(
-                        first_passage::quantile(p),
-                        radius_cm,
-                        diffusion_cm2_s,
-                    )
-                };
-                escape_time.median_s = Some(time(0.5));
-                escape_time.p05_s = Some(time(0.05));
-                escape_time.p95_s = Some(time(0.95));
-            }
-        } else {
-            let probability = if escape_probability.is_some() {
-                "the steady R and T include absorption, but the"
-            } else {
-                "the escape probability and the"
-            };
+        if absorbs(medium) {
             notes.push(format!(
-                "the medium absorbs (lowest albedo {}): the mean times above are those of \
-                 conservative diffusion, while absorption removes long paths from the Monte \
-                 Carlo escape times; {probability} escape times of absorbing diffusion are not \
-                 computed yet, so no Monte Carlo time is compared with diffusion",
+                "the medium absorbs (lowest albedo {}): the closed-form steady means are those \
+                 of conservative diffusion, and no Monte Carlo time is compared with them; the \
+                 diffusion solver's escape times include absorption, and those are compared",
                 format_significant(lowest_albedo(medium), 4)
             ));
         }
@@ -254,10 +252,12 @@ impl DiffusionSummary {
                 TheorySource::Plane { depth_cm } => Some(depth_cm),
                 _ => None,
             },
-            escape_probability,
-            escape_time,
-            reflected: slab.map(|s| s.reflectance),
-            transmitted: slab.map(|s| s.transmittance),
+            escape_probability: solution.map(EscapeSolution::escape_probability),
+            absorbed: solution.map(EscapeSolution::absorbed),
+            escape_time: solution.map(EscapeTimeTheory::of).unwrap_or_default(),
+            decay_rate_per_s: solution.map(EscapeSolution::decay_rate_per_s),
+            reflected: solution.and_then(EscapeSolution::reflected),
+            transmitted: solution.and_then(EscapeSolution::transmitted),
             luminosity_weighted_time_s: None,
             luminosity_weighted_time_extrapolated_s: None,
             flux_weighted_time_s: None,
@@ -277,19 +277,16 @@ impl DiffusionSummary {
         self.time_to_convective_base_s = times.time_to_convective_base_s;
     }
 
-    /// The theory a run whose photons start where the energy is released is compared with:
-    /// the luminosity-weighted mean times in place of the times from the centre, and no
-    /// scattering count or escape-time quantiles (those are from the centre).
+    /// The closed-form theory a run whose photons start where the energy is released is
+    /// compared with: the luminosity-weighted mean times in place of the times from the
+    /// centre, and no scattering count. The solver's values (escape time, probabilities)
+    /// already start from the energy generation and stay as they are.
     pub fn luminosity_weighted_reference(&self) -> Self {
         Self {
             mean_time_s: self.luminosity_weighted_time_s,
             mean_time_extrapolated_s: self.luminosity_weighted_time_extrapolated_s,
             mean_scatterings: None,
             mean_scatterings_extrapolated: None,
-            escape_time: EscapeTimeTheory {
-                mean_s: self.luminosity_weighted_time_extrapolated_s,
-                ..EscapeTimeTheory::default()
-            },
             ..self.clone()
         }
     }

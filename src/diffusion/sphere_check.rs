@@ -5,7 +5,7 @@
 //! radius R + q∞ l_tr.
 
 use super::boundary::MILNE_EXTRAPOLATION_LENGTH;
-use super::{first_passage, ks};
+use super::first_passage;
 use crate::medium::{Geometry, Medium, Source};
 use crate::tally::PathStats;
 use crate::units::SPEED_OF_LIGHT_CM_S;
@@ -32,8 +32,9 @@ pub fn equivalent_sphere(medium: &Medium) -> Option<(f64, f64)> {
 
 /// KS distance between the escape-time histogram of `escapes` and the first-passage CDF of
 /// the equivalent diffusion sphere, evaluated at the histogram's bin edges (a lower bound of
-/// the unbinned statistic; bins are at most 0.1 % wide). `None` where no equivalent sphere
-/// exists or some time is zero, negative or not finite.
+/// the unbinned statistic; bins are at most 0.1 % wide), with every photon counted with its
+/// weight (the weighted empirical cdf). `None` where no equivalent sphere exists or some
+/// time is zero, negative or not finite.
 pub fn first_passage_ks_distance(medium: &Medium, escapes: &PathStats) -> Option<f64> {
     let (radius, diffusion) = equivalent_sphere(medium)?;
     let histogram = escapes.time_histogram();
@@ -41,23 +42,17 @@ pub fn first_passage_ks_distance(medium: &Medium, escapes: &PathStats) -> Option
     if histogram.total() == 0 || unbinned > 0 || histogram.non_finite_count() > 0 {
         return None;
     }
-    // The occupied bins, with an empty bin standing for each gap between them.
-    let bins = histogram.bins();
-    let mut edges = vec![bins.first()?.low];
-    let mut counts = Vec::with_capacity(bins.len());
-    for bin in &bins {
-        if edges.last().is_some_and(|&edge| bin.low > edge) {
-            counts.push(0);
-            edges.push(bin.low);
-        }
-        counts.push(bin.count);
-        edges.push(bin.high);
+    let bins = histogram.contiguous()?;
+    let total: f64 = bins.weights.iter().sum();
+    if total <= 0.0 {
+        return None;
     }
     let cdf = |t: f64| first_passage::cdf(t * diffusion / (radius * radius));
-    Some(ks::ks_distance_binned(
-        &edges,
-        &counts,
-        histogram.total(),
-        cdf,
-    ))
+    let mut below = 0.0;
+    let mut distance = cdf(bins.edges[0]);
+    for (weight, &edge) in bins.weights.iter().zip(&bins.edges[1..]) {
+        below += weight;
+        distance = distance.max((below / total - cdf(edge)).abs());
+    }
+    Some(distance)
 }

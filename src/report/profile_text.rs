@@ -223,6 +223,19 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
         "  rule of thumb / diffusion          {}",
         format_significant(d.naive_over_diffusion, 4)
     );
+    let e = &d.escape_time;
+    if let (Some(escape), Some(median), Some(p05), Some(p95)) =
+        (d.escape_probability, e.median_s, e.p05_s, e.p95_s)
+    {
+        let _ = writeln!(
+            out,
+            "  diffusion solver (time-dependent): escape probability {escape:.5}, median {}, \
+             5–95 % {} – {}",
+            format_duration(median),
+            format_duration(p05),
+            format_duration(p95)
+        );
+    }
     let _ = writeln!(out);
     write_stellar_times(&mut out, report, &length);
     let b = &report.analysis.time_budget;

@@ -82,6 +82,125 @@ fn write_stellar_rows(out: &mut String, report: &RunReport) {
     }
 }
 
+/// The time-dependent diffusion solver's values (with absorption), where it solved.
+fn write_solver_rows(out: &mut String, report: &RunReport) {
+    let d = &report.analysis.diffusion;
+    let Some(escape) = d.escape_probability else {
+        return;
+    };
+    let _ = writeln!(
+        out,
+        "  diffusion solver (time-dependent, with absorption, the model's own layers and source)"
+    );
+    let mut fractions = format!("escape probability {escape:.5}");
+    if let (Some(r), Some(t)) = (d.reflected, d.transmitted) {
+        let _ = write!(fractions, " (R {r:.5}, T {t:.5})");
+    }
+    if let Some(absorbed) = d.absorbed {
+        let _ = write!(fractions, "   absorbed {absorbed:.5}");
+    }
+    let _ = writeln!(out, "    {fractions}");
+    let e = &d.escape_time;
+    let _ = writeln!(
+        out,
+        "    escape time (given escape)  mean {}   median {}   5–95 % {} – {}",
+        time(e.mean_s),
+        time(e.median_s),
+        time(e.p05_s),
+        time(e.p95_s)
+    );
+    if let Some(rate) = d.decay_rate_per_s {
+        let _ = writeln!(
+            out,
+            "    late decay rate λ₁          {} /s (e-folding time {})",
+            format_significant(rate, 4),
+            format_duration(1.0 / rate)
+        );
+    }
+}
+
+/// Monte Carlo beside diffusion: outcome fractions, the mean escape time, the KS distance and
+/// the late decay against the solver (both with absorption), then the ratios to the closed
+/// forms where those are comparable, and the verdict with its notes.
+fn write_comparison_rows(out: &mut String, report: &RunReport) {
+    let c = &report.analysis.comparison;
+    let _ = writeln!(
+        out,
+        "Monte Carlo against the diffusion solver (both with absorption)"
+    );
+    if !c.outcomes.is_empty() {
+        let _ = writeln!(out, "                      Monte Carlo           diffusion");
+    }
+    for row in &c.outcomes {
+        let monte_carlo = match (row.monte_carlo, row.stderr) {
+            (Some(v), Some(e)) => fraction(v, e),
+            _ => "-".to_string(),
+        };
+        let _ = writeln!(
+            out,
+            "  {:<19} {monte_carlo:<21} {}",
+            row.name,
+            row.diffusion
+                .map_or_else(|| "-".to_string(), |v| format!("{v:.5}"))
+        );
+    }
+    if let (Some(ratio), Some(stderr)) = (c.escape_time_ratio, c.escape_time_ratio_stderr) {
+        let _ = writeln!(
+            out,
+            "  mean escape time    MC / solver {} ± {} (1σ), both given escape",
+            format_significant(ratio, 4),
+            format_significant(stderr, 2)
+        );
+    }
+    if let (Some(ks), Some(p)) = (c.ks_distance, c.ks_p_value) {
+        let bins = c
+            .ks_bins
+            .map_or_else(String::new, |b| format!(", {b} bins"));
+        let _ = writeln!(
+            out,
+            "  KS distance         {} (p = {}{bins}; largest gap at {})",
+            format_significant(ks, 3),
+            format_significant(p, 2),
+            time(c.ks_at_s)
+        );
+    }
+    if let Some(decay) = &c.late_decay {
+        let _ = writeln!(
+            out,
+            "  late decay          e-folding time {} ± {} after {} (diffusion {})",
+            format_duration(1.0 / decay.rate_per_s),
+            format_duration(decay.stderr_per_s / (decay.rate_per_s * decay.rate_per_s)),
+            format_duration(decay.from_s),
+            format_duration(1.0 / decay.diffusion_rate_per_s)
+        );
+    }
+    if c.time_ratio.is_some() || c.time_ratio_plain.is_some() || c.naive_time_ratio.is_some() {
+        let _ = writeln!(out, "  closed forms (conservative medium):");
+    }
+    if let (Some(ratio), Some(stderr)) = (c.time_ratio, c.time_ratio_stderr) {
+        let _ = writeln!(
+            out,
+            "    mean time / extrapolated diffusion       {} ± {} (1σ)",
+            format_significant(ratio, 4),
+            format_significant(stderr, 4)
+        );
+    }
+    if let Some(ratio) = c.time_ratio_plain {
+        let _ = writeln!(
+            out,
+            "    mean time / diffusion (no extrapolation) {}",
+            format_significant(ratio, 4)
+        );
+    }
+    if let Some(ratio) = c.naive_time_ratio {
+        let _ = writeln!(
+            out,
+            "    mean time / rule of thumb                {}",
+            format_significant(ratio, 4)
+        );
+    }
+}
+
 /// Renders the report as a table for a terminal.
 pub fn render_run_report(report: &RunReport) -> String {
     let mut out = String::new();
@@ -163,14 +282,7 @@ pub fn render_run_report(report: &RunReport) -> String {
         Geometry::Slab => "total thickness",
     };
     let c = &report.analysis.comparison;
-    if c.times_comparable {
-        let _ = writeln!(out, "Diffusion theory on this model");
-    } else {
-        let _ = writeln!(
-            out,
-            "Diffusion theory on this model (conservative: no photon is lost to absorption)"
-        );
-    }
+    let _ = writeln!(out, "Diffusion theory on this model");
     let _ = writeln!(
         out,
         "  optical depth ({path})           {}",
@@ -182,6 +294,12 @@ pub fn render_run_report(report: &RunReport) -> String {
         format_significant(d.mean_free_path_min_cm, 4),
         format_significant(d.mean_free_path_max_cm, 4)
     );
+    if !c.times_comparable {
+        let _ = writeln!(
+            out,
+            "  closed forms below are conservative: no photon is lost to absorption"
+        );
+    }
     let mut rows = vec![(
         "rule of thumb N ≈ τ², t ≈ τ·L/c",
         d.naive_scatterings,
@@ -195,16 +313,7 @@ pub fn render_run_report(report: &RunReport) -> String {
     }
     scattering_time_rows(&mut out, &rows, 39);
     write_stellar_rows(&mut out, report);
-    let e = &d.escape_time;
-    if let (Some(median), Some(p05), Some(p95)) = (e.median_s, e.p05_s, e.p95_s) {
-        let _ = writeln!(
-            out,
-            "  escape time, first-passage law          median {}   5–95 % {} – {}",
-            format_duration(median),
-            format_duration(p05),
-            format_duration(p95)
-        );
-    }
+    write_solver_rows(&mut out, report);
     let _ = writeln!(out);
     if let Some(slab) = &report.analysis.slab_diffusion {
         let _ = writeln!(
@@ -235,37 +344,7 @@ pub fn render_run_report(report: &RunReport) -> String {
         }
         let _ = writeln!(out);
     }
-    let _ = writeln!(out, "Monte Carlo / diffusion");
-    if let (Some(ratio), Some(stderr)) = (c.time_ratio, c.time_ratio_stderr) {
-        let _ = writeln!(
-            out,
-            "  mean time / extrapolated diffusion       {} ± {} (1σ)",
-            format_significant(ratio, 4),
-            format_significant(stderr, 4)
-        );
-    }
-    if let Some(ratio) = c.time_ratio_plain {
-        let _ = writeln!(
-            out,
-            "  mean time / diffusion (no extrapolation) {}",
-            format_significant(ratio, 4)
-        );
-    }
-    if let Some(ratio) = c.naive_time_ratio {
-        let _ = writeln!(
-            out,
-            "  mean time / rule of thumb                {}",
-            format_significant(ratio, 4)
-        );
-    }
-    if let (Some(ks), Some(p)) = (c.ks_distance, c.ks_p_value) {
-        let _ = writeln!(
-            out,
-            "  KS distance to the diffusion first-passage distribution   {} (p = {})",
-            format_significant(ks, 3),
-            format_significant(p, 2)
-        );
-    }
+    write_comparison_rows(&mut out, report);
     let _ = writeln!(out, "  verdict: {}", c.verdict.reason);
     for note in &c.notes {
         let _ = writeln!(out, "  note: {note}");

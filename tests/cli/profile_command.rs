@@ -30,6 +30,12 @@ fn json_has_the_required_keys() {
         "/profile/tau_error_relative",
         "/profile/time_error_relative",
         "/time_budget/radius_50_percent_cm",
+        "/diffusion/escape_probability",
+        "/diffusion/escape_time/mean_s",
+        "/diffusion/escape_time/median_s",
+        "/diffusion/escape_time/p05_s",
+        "/diffusion/escape_time/p95_s",
+        "/diffusion/decay_rate_per_s",
     ] {
         let value = report
             .pointer(path)
@@ -52,6 +58,17 @@ fn json_has_the_required_keys() {
         assert!(shells[0][key].is_number(), "shells[0].{key}");
     }
     assert!(report["profile"]["tau_error_relative"].as_f64().unwrap() < 1e-3);
+    // The diffusion solver from the centre: a conservative sphere lets everything out, and
+    // its quantiles are ordered around the median.
+    let d = &report["diffusion"];
+    assert!((d["escape_probability"].as_f64().unwrap() - 1.0).abs() < 1e-9);
+    let e = &d["escape_time"];
+    let (p05, median, p95) = (
+        e["p05_s"].as_f64().unwrap(),
+        e["median_s"].as_f64().unwrap(),
+        e["p95_s"].as_f64().unwrap(),
+    );
+    assert!(0.0 < p05 && p05 < median && median < p95);
     let shares: f64 = shells
         .iter()
         .map(|s| s["time_share"].as_f64().unwrap())

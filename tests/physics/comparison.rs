@@ -2,7 +2,7 @@
 //! against closed forms computed here, no time ratio where the medium absorbs, and the
 //! verdict where diffusion holds and where it fails.
 
-use sojourn::analysis::{DiffusionSummary, RunAnalysis};
+use sojourn::analysis::{DiffusionSummary, EscapeTimeTheory, RunAnalysis, solve_diffusion};
 use sojourn::diffusion::MILNE_EXTRAPOLATION_LENGTH;
 use sojourn::medium::{Layer, Medium, Source};
 use sojourn::simulation::{Method, RunConfig, run};
@@ -61,22 +61,29 @@ fn uniform_sphere_escape_time_quantiles_follow_the_first_passage_series() {
             "p = {p}: {n_over_tau2}"
         );
     }
-    // The theory beside a run: the extrapolated sphere, τ_e = τ + q∞, time = (N/τ²) τ_e² l / c.
+    // The theory beside a run is the diffusion solver's (its accuracy against the series
+    // is tested in tests/physics/diffusion_solver.rs). Its extrapolated boundary is a
+    // continuation that holds no photons, so its mean in scatterings is the steady
+    // closed form τ²/2 + τ² q∞/(τ + q∞) (the resistor shell out to R + q∞ l; see
+    // `FaceCondition::Extrapolated`), and its median lies between the series' quantiles of
+    // the spheres of radius R and R + q∞ l.
     let (tau, radius) = (20.0, 1.0);
     let medium = uniform_sphere(tau);
-    let (theory, _) = DiffusionSummary::new(&medium, None, 1.0);
-    let tau_e = tau + MILNE_EXTRAPOLATION_LENGTH;
-    let l = radius / tau;
-    let time = |p: f64| 3.0 * quantile_s(p) * tau_e * tau_e * l / SPEED_OF_LIGHT_CM_S;
+    let solution = solve_diffusion(&medium).unwrap();
+    let (theory, _) = DiffusionSummary::new(&medium, Some(&solution));
     let e = &theory.escape_time;
-    for (value, p) in [(e.p05_s, 0.05), (e.median_s, 0.5), (e.p95_s, 0.95)] {
-        let value = value.expect("a uniform conservative sphere has quantiles");
-        assert!((value / time(p) - 1.0).abs() < 1e-8, "p = {p}");
-    }
-    let mean = 0.5 * tau_e * tau_e * l / SPEED_OF_LIGHT_CM_S;
-    assert!((e.mean_s.unwrap() / mean - 1.0).abs() < 1e-12);
-    assert_eq!(theory.escape_probability, Some(1.0));
-    // Two layers: the mean only.
+    let quantiles = solution.escape_quantiles_s(&[0.05, 0.5, 0.95]);
+    assert_eq!([e.p05_s, e.median_s, e.p95_s], quantiles[..]);
+    let l = radius / tau;
+    let scatterings = |t: f64| t * SPEED_OF_LIGHT_CM_S / l;
+    let q = MILNE_EXTRAPOLATION_LENGTH;
+    let resistor = tau * tau / 2.0 + tau * tau * q / (tau + q);
+    assert!((scatterings(e.mean_s.unwrap()) / resistor - 1.0).abs() < 1e-3);
+    let median = scatterings(e.median_s.unwrap());
+    let series = |tau: f64| 3.0 * quantile_s(0.5) * tau * tau;
+    assert!(series(tau) < median && median < series(tau + q), "{median}");
+    assert!((theory.escape_probability.unwrap() - 1.0).abs() < 1e-9);
+    // Two layers: the solver gives the distribution there too; without it, nothing.
     let two = Medium::sphere(
         vec![
             (0.5, layer(40.0, 1.0, PhaseFunction::Isotropic)),
@@ -85,9 +92,13 @@ fn uniform_sphere_escape_time_quantiles_follow_the_first_passage_series() {
         Source::centre(),
     )
     .unwrap();
-    let (theory, _) = DiffusionSummary::new(&two, None, 1.0);
-    assert!(theory.escape_time.mean_s.is_some());
-    assert!(theory.escape_time.median_s.is_none());
+    let solution = solve_diffusion(&two).unwrap();
+    let (theory, _) = DiffusionSummary::new(&two, Some(&solution));
+    let e = &theory.escape_time;
+    assert!(e.p05_s.unwrap() < e.median_s.unwrap() && e.median_s.unwrap() < e.p95_s.unwrap());
+    let (none, _) = DiffusionSummary::new(&two, None);
+    assert_eq!(none.escape_time, EscapeTimeTheory::default());
+    assert!(none.mean_time_extrapolated_s.is_some());
 }
 
 #[test]
@@ -113,65 +124,87 @@ fn a_beam_diffuses_from_one_reduced_scattering_length_in_means_as_in_r_and_t() {
     // The steady slab theory beside it uses the same source depth.
     let slab = analysis.slab_diffusion.as_ref().unwrap();
     assert!(slab.model.contains("source at 1/μs′"));
-    assert_eq!(d.reflected, Some(slab.reflectance));
-    assert_eq!(d.transmitted, Some(slab.transmittance));
+    // The solver lets the beam decay into the slab (exponential source, δ-scaled) instead
+    // of a plane at 1/μs′: R and T differ from the closed form by a fraction of the
+    // source's spread over the slab, here under 0.005.
+    let (r, t) = (d.reflected.unwrap(), d.transmitted.unwrap());
+    assert!(
+        (r - slab.reflectance).abs() < 5e-3,
+        "{r} vs {}",
+        slab.reflectance
+    );
+    assert!(
+        (t - slab.transmittance).abs() < 5e-3,
+        "{t} vs {}",
+        slab.transmittance
+    );
+    assert!((d.escape_probability.unwrap() - (r + t)).abs() < 1e-12);
 }
 
 #[test]
-fn an_absorbing_slab_gets_no_time_ratio() {
+fn an_absorbing_slab_gets_no_time_ratio_to_conservative_diffusion() {
     let absorbing = Layer::new("", 40.0, 0.99, PhaseFunction::Isotropic, 1.0).unwrap();
     let medium = Medium::slab(vec![(1.0, absorbing)], 1.0, Source::normal_beam()).unwrap();
     let analysis = analyse(&medium, 8000, 3, Method::Auto);
     let c = &analysis.comparison;
     assert!(!c.times_comparable);
+    // Nothing is compared with the conservative closed forms or the rule of thumb.
     for ratio in [
         c.time_ratio,
         c.time_ratio_stderr,
         c.time_ratio_plain,
         c.naive_time_ratio,
         c.scatterings_ratio,
-        c.ks_distance,
     ] {
         assert_eq!(ratio, None);
     }
     assert!(c.notes.iter().any(|n| n.contains("the medium absorbs")));
     // The conservative values are still given, beside, not compared.
     assert!(analysis.diffusion.mean_time_extrapolated_s.is_some());
-    assert_eq!(analysis.diffusion.escape_time.mean_s, None);
-    // Steady R and T include absorption: they are compared, and decide the verdict.
-    let r = analysis.diffusion.reflected.unwrap();
-    let t = analysis.diffusion.transmitted.unwrap();
-    assert_eq!(analysis.diffusion.escape_probability, Some(r + t));
-    assert!(
-        c.verdict
-            .reason
-            .contains("times not compared: the medium absorbs"),
-        "{}",
-        c.verdict.reason
-    );
+    // The solver absorbs as the Monte Carlo does: its escape time and distribution are
+    // compared, conditional on escape.
+    let d = &analysis.diffusion;
+    let solver_mean = d.escape_time.mean_s.unwrap();
+    let mc_mean = analysis.escape_time.mean_s.unwrap();
+    assert!((c.escape_time_ratio.unwrap() - mc_mean / solver_mean).abs() < 1e-12);
+    assert!(c.ks_distance.is_some() && c.ks_p_value.is_some());
+    // Outcome fractions side by side, R + T + A = 1 on the diffusion side.
+    let r = d.reflected.unwrap();
+    let t = d.transmitted.unwrap();
+    assert_eq!(d.escape_probability, Some(r + t));
+    assert!((r + t + d.absorbed.unwrap() - 1.0).abs() < 1e-3);
+    let names: Vec<&str> = c.outcomes.iter().map(|o| o.name.as_str()).collect();
+    assert_eq!(names, ["reflected", "transmitted", "absorbed"]);
+    assert!(c.verdict.trustworthy.is_some(), "{}", c.verdict.reason);
 }
 
 #[test]
 fn the_verdict_holds_in_a_deep_sphere_and_flips_where_diffusion_fails() {
     // τ = 20, conservative, direct walk, 10 000 photons: the mean is known to 0.6 % (1σ)
-    // and the KS distance to the first-passage law is ~0.003 + noise (~0.009).
+    // and the KS noise is about 0.009, so the 5 % level (3σ = 1.9 % inside 5 %, D ≤ 0.03)
+    // is resolved. (This seed gives +1.6 % and D = 0.018: transport differs from diffusion
+    // at order 1/τ; `examples/verdict_thresholds.rs` shows the spread over media.)
     let deep = analyse(&uniform_sphere(20.0), 10_000, 5, Method::Direct);
     let v = &deep.comparison.verdict;
+    println!(
+        "τ = 20: {} (p = {:?})",
+        v.reason, deep.comparison.ks_p_value
+    );
     assert_eq!(v.trustworthy, Some(true), "{}", v.reason);
     assert!(
-        v.reason
-            .starts_with("diffusion describes this medium: mean within"),
+        v.reason.starts_with("diffusion describes this medium to"),
         "{}",
         v.reason
     );
-    assert!(deep.comparison.ks_p_value.unwrap() > 1e-3);
+    assert!(deep.comparison.ks_distance.unwrap() <= 0.03);
 
     // τ = 1: the escape-time distribution is far from diffusion's.
     let thin = analyse(&uniform_sphere(1.0), 2_000, 5, Method::Direct);
     let v = &thin.comparison.verdict;
     assert_eq!(v.trustworthy, Some(false), "{}", v.reason);
     assert!(
-        v.reason.contains("KS D") && v.reason.contains("1.0 transport mean free paths below"),
+        v.reason.starts_with("diffusion is off by ")
+            && v.reason.contains("1.0 transport mean free paths below"),
         "{}",
         v.reason
     );
@@ -186,9 +219,10 @@ fn the_verdict_holds_in_a_deep_sphere_and_flips_where_diffusion_fails() {
     assert_eq!(dark.comparison.time_ratio, None);
     let v = &dark.comparison.verdict;
     assert_eq!(v.trustworthy, Some(false), "{}", v.reason);
-    assert_eq!(
-        v.reason,
-        "diffusion is not expected to hold: the albedo is 0.30 (μa/μs′ = 2.3)"
+    assert!(
+        v.reason.contains("the albedo is 0.30 (μa/μs′ = 2.3)"),
+        "{}",
+        v.reason
     );
 }
 
@@ -211,8 +245,29 @@ fn a_slab_thinner_than_a_transport_length_gets_no_diffusion_time() {
     // The rule of thumb is still compared (the slab is conservative).
     assert!(c.naive_time_ratio.is_some());
     assert_eq!(c.verdict.trustworthy, Some(false));
-    assert_eq!(
-        c.verdict.reason,
-        "diffusion is not expected to hold: the slab is 0.20 transport mean free paths thick"
+    assert!(
+        c.verdict.reason.starts_with("diffusion is off by ")
+            && c.verdict
+                .reason
+                .contains(": the slab is 0.20 transport mean free paths thick"),
+        "{}",
+        c.verdict.reason
     );
+}
+
+#[test]
+fn too_few_escapes_get_no_ks_test_and_a_note_saying_why() {
+    let analysis = analyse(&uniform_sphere(5.0), 60, 7, Method::Direct);
+    let c = &analysis.comparison;
+    assert_eq!(c.ks_distance, None);
+    assert_eq!(c.ks_p_value, None);
+    assert!(
+        c.notes
+            .iter()
+            .any(|n| n == "no KS test: 60 photons escaped, fewer than 100"),
+        "{:?}",
+        c.notes
+    );
+    // The mean is still compared with the solver's, with its 1σ.
+    assert!(c.escape_time_ratio.is_some() && c.escape_time_ratio_stderr.is_some());
 }

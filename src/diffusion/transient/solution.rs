@@ -225,43 +225,59 @@ impl EscapeSolution {
     /// `escape_cdf(t) ≥ p`, found by bisection to relative 1e−13. `None` for p outside
     /// (0, 1) or if nothing escapes.
     pub fn escape_quantile_s(&self, p: f64) -> Option<f64> {
+        self.escape_quantiles_s(&[p]).pop().flatten()
+    }
+
+    /// [`Self::escape_quantile_s`] at each of `ps`, with the cumulative escapes at the
+    /// stored time steps computed once for all of them (the same values, faster for many
+    /// quantiles, e.g. the edges of equal-probability bins).
+    pub fn escape_quantiles_s(&self, ps: &[f64]) -> Vec<Option<f64>> {
         let total = self.escaped_total();
-        if !(p > 0.0 && p < 1.0) || total <= 0.0 {
-            return None;
-        }
-        let target = p * total;
-        let value = |t: f64| self.escaped_by(t, Exit::Any);
-        if value(0.0) >= target {
-            return Some(0.0);
-        }
         let times = &self.history.time_s;
-        let mut high = match times.iter().position(|&t| value(t) >= target) {
-            Some(k) => times[k],
-            None => {
-                let mut t = self.history.tail.start_s.max(f64::MIN_POSITIVE);
-                let step = 1.0 / self.history.tail.rate_per_s;
-                let mut guard = 0;
-                while value(t) < target && guard < 4000 {
-                    t += step * 2f64.powi(guard.min(60));
-                    guard += 1;
-                }
-                t
-            }
+        let value = |t: f64| self.escaped_by(t, Exit::Any);
+        let at_steps: Vec<f64> = if total > 0.0 && ps.iter().any(|&p| p > 0.0 && p < 1.0) {
+            times.iter().map(|&t| value(t)).collect()
+        } else {
+            Vec::new()
         };
-        let below = times.iter().rev().find(|&&t| t < high).copied();
-        let mut low = below.unwrap_or(0.0);
-        for _ in 0..200 {
-            let middle = 0.5 * (low + high);
-            if middle <= low || middle >= high || high - low <= 1e-13 * high {
-                break;
-            }
-            if value(middle) >= target {
-                high = middle;
-            } else {
-                low = middle;
-            }
-        }
-        Some(high)
+        ps.iter()
+            .map(|&p| {
+                if !(p > 0.0 && p < 1.0) || total <= 0.0 {
+                    return None;
+                }
+                let target = p * total;
+                if value(0.0) >= target {
+                    return Some(0.0);
+                }
+                let first = at_steps.partition_point(|&v| v < target);
+                let mut high = if first < times.len() {
+                    times[first]
+                } else {
+                    let mut t = self.history.tail.start_s.max(f64::MIN_POSITIVE);
+                    let step = 1.0 / self.history.tail.rate_per_s;
+                    let mut guard = 0;
+                    while value(t) < target && guard < 4000 {
+                        t += step * 2f64.powi(guard.min(60));
+                        guard += 1;
+                    }
+                    t
+                };
+                let below = times.iter().rev().find(|&&t| t < high).copied();
+                let mut low = below.unwrap_or(0.0);
+                for _ in 0..200 {
+                    let middle = 0.5 * (low + high);
+                    if middle <= low || middle >= high || high - low <= 1e-13 * high {
+                        break;
+                    }
+                    if value(middle) >= target {
+                        high = middle;
+                    } else {
+                        low = middle;
+                    }
+                }
+                Some(high)
+            })
+            .collect()
     }
 
     /// Mean time each model layer holds a launched photon, s (absorbed photons included,
