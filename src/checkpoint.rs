@@ -16,6 +16,9 @@ use thiserror::Error;
 
 use crate::atomic_write::write_atomically;
 use crate::file_format::format_problem;
+use crate::input::{
+    InputError, MAX_STATE_BYTES, from_json_value, plain_message, read_text, strip_bom,
+};
 use crate::medium::Medium;
 use crate::simulation::{RunConfig, RunResult, run_with_progress};
 use crate::tally::{Tally, TallyError};
@@ -71,19 +74,37 @@ impl CheckpointIdentity {
     }
 }
 
-/// The saved state of a run.
-#[derive(Debug, Clone, Serialize, Deserialize)]
+/// The saved state of a run: made by [`CheckpointedRun`], read back by [`read_checkpoint`],
+/// which checks that it is consistent in itself.
+#[derive(Debug, Clone, Serialize)]
 pub struct Checkpoint {
-    /// Layout version ([`CHECKPOINT_FORMAT`]).
-    pub format: u32,
+    format: u32,
+    identity: CheckpointIdentity,
+    photons_done: u64,
+    elapsed_s: f64,
+    tally: Tally,
+}
+
+impl Checkpoint {
     /// What run this is.
-    pub identity: CheckpointIdentity,
+    pub fn identity(&self) -> &CheckpointIdentity {
+        &self.identity
+    }
+
     /// Photons done, counted from `identity.first_photon`.
-    pub photons_done: u64,
+    pub fn photons_done(&self) -> u64 {
+        self.photons_done
+    }
+
     /// Wall-clock time spent so far, over every session, s.
-    pub elapsed_s: f64,
+    pub fn elapsed_s(&self) -> f64 {
+        self.elapsed_s
+    }
+
     /// The exact tally of the photons done.
-    pub tally: Tally,
+    pub fn tally(&self) -> &Tally {
+        &self.tally
+    }
 }
 
 /// A checkpoint that cannot be used.
@@ -98,6 +119,9 @@ pub enum CheckpointError {
         /// The operating-system error.
         cause: std::io::Error,
     },
+    /// The file is not readable within the input limits (see [`crate::input`]).
+    #[error(transparent)]
+    Input(#[from] InputError),
     /// The file could not be written.
     #[error("{file}: cannot write the checkpoint: {cause}")]
     Write {
@@ -166,7 +190,7 @@ impl<'a> CheckpointedRun<'a> {
         every: u64,
     ) -> Result<Self, CheckpointError> {
         let identity = CheckpointIdentity::new(config, model_hash, method);
-        let state = match std::fs::read_to_string(path) {
+        let state = match read_text(path, MAX_STATE_BYTES, "checkpoint") {
             Ok(text) => {
                 let state = load(&text, path, &identity)?;
                 let kept = state.tally.resolved().map(|r| r.layout());
@@ -180,19 +204,16 @@ impl<'a> CheckpointedRun<'a> {
                 }
                 state
             }
-            Err(error) if error.kind() == std::io::ErrorKind::NotFound => Checkpoint {
-                format: CHECKPOINT_FORMAT,
-                identity,
-                photons_done: 0,
-                elapsed_s: 0.0,
-                tally: Tally::new(),
-            },
-            Err(source) => {
-                return Err(CheckpointError::Read {
-                    file: path.display().to_string(),
-                    cause: source,
-                });
+            Err(InputError::Read { cause, .. }) if cause.kind() == std::io::ErrorKind::NotFound => {
+                Checkpoint {
+                    format: CHECKPOINT_FORMAT,
+                    identity,
+                    photons_done: 0,
+                    elapsed_s: 0.0,
+                    tally: Tally::new(),
+                }
             }
+            Err(error) => return Err(error.into()),
         };
         Ok(Self {
             medium,
@@ -267,14 +288,14 @@ impl<'a> CheckpointedRun<'a> {
     }
 }
 
-fn load(
-    text: &str,
-    path: &Path,
-    identity: &CheckpointIdentity,
-) -> Result<Checkpoint, CheckpointError> {
-    let file = path.display().to_string();
+/// Reads checkpoint text (`file` labels errors) and checks that it is consistent in
+/// itself: its format, its tally, and the photons done against the run and the tally.
+///
+/// # Errors
+/// [`CheckpointError::Damaged`] or [`CheckpointError::InvalidTally`].
+pub fn read_checkpoint(text: &str, file: &str) -> Result<Checkpoint, CheckpointError> {
     let damaged = |problem: String| CheckpointError::Damaged {
-        file: file.clone(),
+        file: file.to_string(),
         problem,
     };
     /// A checkpoint without its tally (read apart, for its typed errors).
@@ -286,8 +307,8 @@ fn load(
         photons_done: u64,
         elapsed_s: f64,
     }
-    let mut value: serde_json::Value =
-        serde_json::from_str(text).map_err(|e| damaged(e.to_string()))?;
+    let mut value: serde_json::Value = serde_json::from_str(strip_bom(text))
+        .map_err(|e| damaged(format!("not valid JSON: {}", plain_message(&e.to_string()))))?;
     if let Some(problem) = format_problem(&value, "/format", CHECKPOINT_FORMAT, "checkpoint") {
         return Err(damaged(problem));
     }
@@ -295,24 +316,52 @@ fn load(
         .as_object_mut()
         .and_then(|object| object.remove("tally"))
         .ok_or_else(|| damaged("no \"tally\" key".into()))?;
-    let head: Head = serde_json::from_value(value).map_err(|e| damaged(e.to_string()))?;
+    let head: Head = from_json_value(&value).map_err(|e| damaged(e.to_string()))?;
     let tally = Tally::from_json(tally).map_err(|e| CheckpointError::InvalidTally {
-        file: file.clone(),
+        file: file.to_string(),
         problem: e.within("tally"),
     })?;
-    let state = Checkpoint {
+    if head.format != CHECKPOINT_FORMAT {
+        return Err(damaged(format!(
+            "format {} (this sojourn reads format {CHECKPOINT_FORMAT})",
+            head.format
+        )));
+    }
+    if head.photons_done > head.identity.photons {
+        return Err(damaged(format!(
+            "{} photons done of a run of {}",
+            head.photons_done, head.identity.photons
+        )));
+    }
+    if tally.launched() != head.photons_done {
+        return Err(damaged(format!(
+            "the tally does not hold the {} photons done",
+            head.photons_done
+        )));
+    }
+    if !(head.elapsed_s.is_finite() && head.elapsed_s >= 0.0) {
+        return Err(damaged(format!(
+            "elapsed_s = {}: expected a wall-clock time >= 0 s",
+            head.elapsed_s
+        )));
+    }
+    Ok(Checkpoint {
         format: head.format,
         identity: head.identity,
         photons_done: head.photons_done,
         elapsed_s: head.elapsed_s,
         tally,
-    };
-    if state.format != CHECKPOINT_FORMAT {
-        return Err(damaged(format!(
-            "format {} (this sojourn reads format {CHECKPOINT_FORMAT})",
-            state.format
-        )));
-    }
+    })
+}
+
+/// Reads the checkpoint at `path` and checks that it belongs to the run `identity`.
+fn load(
+    text: &str,
+    path: &Path,
+    identity: &CheckpointIdentity,
+) -> Result<Checkpoint, CheckpointError> {
+    let file = path.display().to_string();
+    let state = read_checkpoint(text, &file)?;
     for ((field, saved), (_, wanted)) in state.identity.fields().into_iter().zip(identity.fields())
     {
         if saved != wanted {
@@ -323,18 +372,6 @@ fn load(
                 wanted,
             });
         }
-    }
-    if state.photons_done > identity.photons {
-        return Err(damaged(format!(
-            "{} photons done of a run of {}",
-            state.photons_done, identity.photons
-        )));
-    }
-    if state.tally.launched() != state.photons_done {
-        return Err(damaged(format!(
-            "the tally does not hold the {} photons done",
-            state.photons_done
-        )));
     }
     Ok(state)
 }

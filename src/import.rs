@@ -31,6 +31,7 @@
 
 use thiserror::Error;
 
+use crate::input::{InputError, MAX_PROFILE_ROWS, MAX_TEXT_BYTES, read_text, strip_bom};
 use crate::medium::MediumError;
 use crate::medium::profile::{ColumnValues, ProfileColumns, ProfileOpacity, ProfileTable};
 use crate::opacity::{GasState, OpacitySpec};
@@ -50,6 +51,9 @@ pub enum ImportError {
         /// The operating-system error.
         source: std::io::Error,
     },
+    /// The table is not readable within the input limits (see [`crate::input`]).
+    #[error(transparent)]
+    Input(#[from] InputError),
     /// The column mapping is malformed.
     #[error("--columns {entry:?}: {problem}")]
     Mapping {
@@ -366,16 +370,13 @@ struct Resolved<'a> {
 /// Reads a table file and imports it with `options` (see [`import_table`]).
 ///
 /// # Errors
-/// [`ImportError::Read`], or any error of [`import_table`].
+/// [`ImportError::Input`] (see [`crate::input::read_text`]), or any error of [`import_table`].
 pub fn import_table_file(
     path: &std::path::Path,
     options: &ImportOptions,
 ) -> Result<ProfileTable, ImportError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| ImportError::Read {
-        file: file.clone(),
-        source,
-    })?;
+    let text = read_text(path, MAX_TEXT_BYTES, "column table")?;
     import_table(&text, &file, options)
 }
 
@@ -393,7 +394,7 @@ pub fn import_table(
         file: file.to_string(),
         problem,
     };
-    let lines: Vec<(usize, &str)> = text
+    let lines: Vec<(usize, &str)> = strip_bom(text)
         .lines()
         .enumerate()
         .skip(options.skip_rows)
@@ -689,6 +690,16 @@ pub fn import_table(
             values[column].push(value);
         }
         line_of_row.push(number);
+        if line_of_row.len() > MAX_PROFILE_ROWS {
+            return Err(ImportError::Line {
+                file: file.to_string(),
+                line: number,
+                problem: format!(
+                    "more than {MAX_PROFILE_ROWS} data rows: a profile may have at most \
+                     {MAX_PROFILE_ROWS} rows (the README's *Limits*); thin the table out"
+                ),
+            });
+        }
     }
     let rows = line_of_row.len();
     if rows < 2 {

@@ -51,6 +51,7 @@ pub mod diffusion;
 pub(crate) mod file_format;
 pub mod fingerprint;
 pub mod import;
+pub mod input;
 pub mod medium;
 pub mod opacity;
 pub mod report;

@@ -2,6 +2,7 @@
 
 mod cli;
 
+use std::io::Write;
 use std::process::ExitCode;
 
 fn main() -> ExitCode {
@@ -11,7 +12,8 @@ fn main() -> ExitCode {
             if cli::is_broken_pipe(&error) {
                 return ExitCode::SUCCESS;
             }
-            eprintln!("sojourn: error: {error:#}");
+            // A failing stderr must not turn the error into a panic; the exit code says it.
+            let _ = writeln!(std::io::stderr(), "sojourn: error: {error:#}");
             ExitCode::FAILURE
         }
     }

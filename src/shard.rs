@@ -21,9 +21,10 @@ use thiserror::Error;
 use crate::analysis::RunAnalysis;
 use crate::file_format::format_problem;
 use crate::fingerprint::{canonical_json, fingerprint};
+use crate::input::{InputError, from_json_value, plain_message, strip_bom};
 use crate::medium::Medium;
 use crate::medium::model_file::{ModelError, model_from_value};
-use crate::simulation::{RunConfig, RunResult};
+use crate::simulation::{Method, RunConfig, RunResult};
 use crate::tally::{ResolvedLayout, Tally, TallyError};
 use crate::transport::Acceleration;
 use crate::transport::WalkLimits;
@@ -148,36 +149,105 @@ impl FromStr for Shard {
 
 /// What a run shard file says about itself, beyond its report: everything merge needs to
 /// check that shards belong together and to rebuild the full report with no other input.
+///
+/// Made by [`RunShardInfo::new`]; reading one from JSON checks that it is consistent in
+/// itself (format, photon range, method, step cap, model hash) and that its model builds.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(try_from = "RunShardInfoRepr")]
 pub struct RunShardInfo {
-    /// Layout version ([`SHARD_FORMAT`]).
-    pub format: u32,
-    /// Which part this is.
-    pub shard: Shard,
-    /// Photons of the whole run.
-    pub total_photons: u64,
-    /// First photon index of this shard.
-    pub first_photon: u64,
-    /// Photons in this shard.
-    pub photons: u64,
-    /// Seed of the random streams.
-    pub seed: u64,
-    /// Stream id.
-    pub stream: u64,
-    /// Step cap per photon.
-    pub max_steps: u64,
-    /// Walk method (as in the report's `method`).
-    pub method: String,
-    /// Parameters of the accelerated walk.
-    pub acceleration: Acceleration,
-    /// Resolved slab tallies kept, if any.
-    pub resolved: Option<ResolvedLayout>,
-    /// [`crate::fingerprint::fingerprint`] of `model`.
-    pub model_hash: String,
-    /// The model file's label as given on the command line (reported as `model.file`).
-    pub model_file: String,
-    /// The model file's JSON, so that merge can rebuild the medium.
-    pub model: Value,
+    format: u32,
+    shard: Shard,
+    total_photons: u64,
+    first_photon: u64,
+    photons: u64,
+    seed: u64,
+    stream: u64,
+    max_steps: u64,
+    method: String,
+    acceleration: Acceleration,
+    resolved: Option<ResolvedLayout>,
+    model_hash: String,
+    model_file: String,
+    model: Value,
+}
+
+/// A [`RunShardInfo`] as read, before its checks.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RunShardInfoRepr {
+    format: u32,
+    shard: Shard,
+    total_photons: u64,
+    first_photon: u64,
+    photons: u64,
+    seed: u64,
+    stream: u64,
+    max_steps: u64,
+    method: String,
+    acceleration: Acceleration,
+    resolved: Option<ResolvedLayout>,
+    model_hash: String,
+    model_file: String,
+    model: Value,
+}
+
+impl TryFrom<RunShardInfoRepr> for RunShardInfo {
+    type Error = String;
+
+    fn try_from(repr: RunShardInfoRepr) -> Result<Self, String> {
+        if repr.format != SHARD_FORMAT {
+            return Err(format!(
+                "shard format {} (this sojourn reads format {SHARD_FORMAT})",
+                repr.format
+            ));
+        }
+        if repr.total_photons == 0 {
+            return Err("total_photons = 0: a run has at least 1 photon".into());
+        }
+        let expected = repr.shard.photon_range(repr.total_photons);
+        if repr.first_photon != expected.start || repr.photons != expected.end - expected.start {
+            return Err(format!(
+                "photons {}..{} are not shard {} of {} photons ({}..{})",
+                repr.first_photon,
+                repr.first_photon.saturating_add(repr.photons),
+                repr.shard,
+                repr.total_photons,
+                expected.start,
+                expected.end
+            ));
+        }
+        if repr.max_steps == 0 {
+            return Err("max_steps = 0: a walk has at least 1 step".into());
+        }
+        repr.method
+            .parse::<Method>()
+            .map_err(|problem| format!("method: {problem}"))?;
+        if fingerprint(&repr.model) != repr.model_hash {
+            return Err(format!(
+                "model_hash {} does not match the embedded model ({})",
+                repr.model_hash,
+                fingerprint(&repr.model)
+            ));
+        }
+        model_from_value(&repr.model, &repr.model_file)
+            .map_err(|error| format!("the embedded model does not build: {error}"))?;
+        Ok(Self {
+            format: repr.format,
+            shard: repr.shard,
+            total_photons: repr.total_photons,
+            first_photon: repr.first_photon,
+            photons: repr.photons,
+            seed: repr.seed,
+            stream: repr.stream,
+            max_steps: repr.max_steps,
+            method: repr.method,
+            acceleration: repr.acceleration,
+            resolved: repr.resolved,
+            model_hash: repr.model_hash,
+            model_file: repr.model_file,
+            model: repr.model,
+        })
+    }
 }
 
 impl RunShardInfo {
@@ -209,6 +279,31 @@ impl RunShardInfo {
             model,
         }
     }
+
+    /// Which part this is.
+    pub fn shard(&self) -> Shard {
+        self.shard
+    }
+
+    /// Photons of the whole run.
+    pub fn total_photons(&self) -> u64 {
+        self.total_photons
+    }
+
+    /// First photon index of this shard, and its photon count.
+    pub fn photon_range(&self) -> std::ops::Range<u64> {
+        self.first_photon..self.first_photon + self.photons
+    }
+
+    /// The model file's label as given on the command line (reported as `model.file`).
+    pub fn model_file(&self) -> &str {
+        &self.model_file
+    }
+
+    /// The model file's JSON, so that merge can rebuild the medium.
+    pub fn model(&self) -> &Value {
+        &self.model
+    }
 }
 
 /// The shard file: the shard's own report (any serialisable map, in practice
@@ -237,10 +332,11 @@ pub struct RunShard {
     pub file: String,
 }
 
+/// The parts of a run shard file that merge reads besides its tally (the report's other
+/// keys are ignored: merge rebuilds the report).
 #[derive(Deserialize)]
 struct RunShardFile {
     shard: RunShardInfo,
-    tally: Value,
     #[serde(default)]
     elapsed_s: f64,
 }
@@ -260,6 +356,9 @@ pub enum MergeError {
         /// The operating-system error.
         cause: std::io::Error,
     },
+    /// The file is not readable within the input limits (see [`crate::input`]).
+    #[error(transparent)]
+    Input(#[from] InputError),
     /// A file is not a shard file of the expected kind.
     #[error("{file}: not a shard file: {problem}")]
     NotAShard {
@@ -345,10 +444,16 @@ impl fmt::Display for Mismatch {
 /// [`MergeError::NotAShard`] for other JSON, [`MergeError::Damaged`] when the content
 /// contradicts itself (model hash, photon range or tally).
 pub fn read_run_shard(text: &str, file: &str) -> Result<RunShard, MergeError> {
-    let value: Value = serde_json::from_str(text).map_err(|e| MergeError::NotAShard {
-        file: file.to_string(),
-        problem: format!("not valid JSON: {e}"),
-    })?;
+    let value: Value =
+        serde_json::from_str(strip_bom(text)).map_err(|e| MergeError::NotAShard {
+            file: file.to_string(),
+            problem: format!("not valid JSON: {}", plain_message(&e.to_string())),
+        })?;
+    run_shard_from_value(value, file)
+}
+
+/// Reads a run shard file from its parsed JSON; see [`read_run_shard`].
+pub(crate) fn run_shard_from_value(value: Value, file: &str) -> Result<RunShard, MergeError> {
     if value.get("spec_hash").is_some() && value.get("point").is_some() {
         return Err(MergeError::NotAShard {
             file: file.to_string(),
@@ -370,11 +475,22 @@ pub fn read_run_shard(text: &str, file: &str) -> Result<RunShard, MergeError> {
     if let Some(problem) = format_problem(&value, "/shard/format", SHARD_FORMAT, "shard") {
         return Err(damaged(problem));
     }
-    let parsed: RunShardFile = serde_json::from_value(value).map_err(|e| damaged(e.to_string()))?;
-    let tally = Tally::from_json(parsed.tally).map_err(|e| MergeError::InvalidTally {
+    let mut value = value;
+    let tally = value
+        .as_object_mut()
+        .and_then(|object| object.remove("tally"))
+        .unwrap_or(Value::Null);
+    let parsed: RunShardFile = from_json_value(&value).map_err(|e| damaged(e.to_string()))?;
+    let tally = Tally::from_json(tally).map_err(|e| MergeError::InvalidTally {
         file: file.to_string(),
         problem: e.within("tally"),
     })?;
+    if !(parsed.elapsed_s.is_finite() && parsed.elapsed_s >= 0.0) {
+        return Err(damaged(format!(
+            "elapsed_s = {}: expected a wall-clock time >= 0 s",
+            parsed.elapsed_s
+        )));
+    }
     let shard = RunShard {
         info: parsed.shard,
         tally,
@@ -382,31 +498,6 @@ pub fn read_run_shard(text: &str, file: &str) -> Result<RunShard, MergeError> {
         file: file.to_string(),
     };
     let info = &shard.info;
-    if info.format != SHARD_FORMAT {
-        return Err(damaged(format!(
-            "shard format {} (this sojourn reads format {SHARD_FORMAT})",
-            info.format
-        )));
-    }
-    if fingerprint(&info.model) != info.model_hash {
-        return Err(damaged(format!(
-            "model_hash {} does not match the embedded model ({})",
-            info.model_hash,
-            fingerprint(&info.model)
-        )));
-    }
-    let expected = info.shard.photon_range(info.total_photons);
-    if info.first_photon != expected.start || info.photons != expected.end - expected.start {
-        return Err(damaged(format!(
-            "photons {}..{} are not shard {} of {} photons ({}..{})",
-            info.first_photon,
-            info.first_photon + info.photons,
-            info.shard,
-            info.total_photons,
-            expected.start,
-            expected.end
-        )));
-    }
     check_tally(&shard.tally, info.photons, file)?;
     let kept = shard.tally.resolved().map(|r| r.layout());
     if kept != info.resolved {
@@ -571,7 +662,13 @@ pub fn merge_run_shards(mut shards: Vec<RunShard>) -> Result<MergedRun, MergeErr
             limits: WalkLimits {
                 max_steps: a.max_steps,
             },
-            method: a.method.parse().unwrap_or_default(),
+            method: a
+                .method
+                .parse()
+                .map_err(|problem: String| MergeError::Damaged {
+                    file: first.file.clone(),
+                    problem: format!("shard.method: {problem}"),
+                })?,
             acceleration: a.acceleration,
             resolved: a.resolved,
         },

@@ -6,6 +6,7 @@
 
 mod architecture;
 mod cli;
+mod fuzz;
 mod physics;
 mod report;
 mod scale;

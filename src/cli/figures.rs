@@ -16,7 +16,7 @@ use sojourn::report::plots::{
 use sojourn::sweep::{PointResult, Sweep};
 use sojourn::tally::Tally;
 
-use super::output::write_atomically;
+use super::output::{write_atomically, write_text};
 
 /// Draws the run's figures and writes them to `plot_dir` (as NAME.svg) and/or into the HTML
 /// report at `report_path`. Does nothing if neither is asked for.
@@ -51,7 +51,7 @@ pub fn write_run_figures(
             report.sojourn_version
         );
         let html = render_html_report(&title, &subtitle, text, &figures);
-        write_atomically(path, html.as_bytes())
+        write_text(path, &html)
             .with_context(|| format!("cannot write the HTML report to {}", path.display()))?;
     }
     Ok(())
@@ -81,7 +81,7 @@ pub fn write_profile_figures(
             report.model.file, report.model.shells, report.sojourn_version
         );
         let html = render_html_report(&title, &subtitle, text, &figures);
-        write_atomically(path, html.as_bytes())
+        write_text(path, &html)
             .with_context(|| format!("cannot write the HTML report to {}", path.display()))?;
     }
     Ok(())

@@ -12,7 +12,7 @@ use sojourn::star::builder::interior_opacity;
 use sojourn::units::{LengthUnit, format_significant};
 
 use super::args;
-use super::output::write_atomically;
+use super::output::{Output, check_outputs, write_atomically};
 use super::stellar_args::{EnergyChoice, energy, table_for_model};
 
 /// Field separators.
@@ -94,6 +94,11 @@ pub struct ImportArgs {
 
 /// Runs the subcommand.
 pub fn execute(args: ImportArgs) -> Result<()> {
+    check_outputs(&[Output::File {
+        flag: "--out",
+        path: &args.out,
+        stdout: false,
+    }])?;
     let mapping = ColumnMapping::parse(&args.columns)?;
     let mapped = |q: TableQuantity| mapping.entries().iter().any(|e| e.quantity == q);
     let opacity_table = match &args.opacity_table {

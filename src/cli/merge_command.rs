@@ -12,7 +12,7 @@ use sojourn::sweep::PointResult;
 use sojourn::sweep::merge::{ShardFile, SweepShard, merge_sweep_shards, read_shard_file};
 use sojourn::sweep::table::{SweepRow, csv_text, jsonl_text, render_text};
 
-use super::output::write_text;
+use super::output::{Output, check_outputs, write_text};
 
 /// Arguments of `sojourn merge`.
 #[derive(Debug, Args)]
@@ -35,6 +35,23 @@ pub struct MergeArgs {
 
 /// Runs the subcommand.
 pub fn execute(args: MergeArgs) -> Result<()> {
+    let mut outputs = Vec::new();
+    for (flag, path) in [("--json", &args.json), ("--csv", &args.csv)] {
+        if let Some(path) = path {
+            outputs.push(Output::File {
+                flag,
+                path,
+                stdout: true,
+            });
+        }
+    }
+    if let Some(path) = &args.out {
+        outputs.push(Output::Folder {
+            flag: "--out",
+            path,
+        });
+    }
+    check_outputs(&outputs)?;
     let mut runs: Vec<RunShard> = Vec::new();
     let mut sweeps: Vec<SweepShard> = Vec::new();
     for path in &args.files {
@@ -92,7 +109,6 @@ fn merge_sweeps(shards: Vec<SweepShard>, args: &MergeArgs) -> Result<()> {
         write_text(path, &csv_text(&rows))?;
     }
     if let Some(dir) = &args.out {
-        std::fs::create_dir_all(dir)?;
         write_text(&dir.join("sweep.csv"), &csv_text(&rows))?;
         write_text(&dir.join("sweep.jsonl"), &jsonl_text(&rows))?;
     }

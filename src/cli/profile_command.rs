@@ -3,7 +3,7 @@
 
 use std::path::{Path, PathBuf};
 
-use anyhow::{Context, Result, bail};
+use anyhow::{Context, Result};
 use clap::Args;
 
 use sojourn::medium::model_file::{LoadOptions, load_model_with};
@@ -11,7 +11,7 @@ use sojourn::report::{ProfileReport, render_profile_csv, render_profile_report};
 
 use super::args;
 use super::figures::write_profile_figures;
-use super::output::write_text;
+use super::output::{Output, check_outputs, write_text};
 
 /// Arguments of `sojourn profile`.
 #[derive(Debug, Args)]
@@ -42,9 +42,27 @@ pub struct ProfileArgs {
 /// Runs the subcommand.
 pub fn execute(args: ProfileArgs) -> Result<()> {
     let stdout = Path::new("-");
-    if args.json.as_deref() == Some(stdout) && args.csv.as_deref() == Some(stdout) {
-        bail!("--json - and --csv - would both write to stdout; send one to a file");
+    let mut outputs = Vec::new();
+    for (flag, path) in [
+        ("--json", &args.json),
+        ("--csv", &args.csv),
+        ("--report", &args.report),
+    ] {
+        if let Some(path) = path {
+            outputs.push(Output::File {
+                flag,
+                path,
+                stdout: true,
+            });
+        }
     }
+    if let Some(path) = &args.plot {
+        outputs.push(Output::Folder {
+            flag: "--plot",
+            path,
+        });
+    }
+    let stdout_taken = check_outputs(&outputs)?;
     let options = LoadOptions {
         profile_tolerance: args.tolerance,
     };
@@ -68,7 +86,7 @@ pub fn execute(args: ProfileArgs) -> Result<()> {
         &report,
         &text,
     )?;
-    if args.json.as_deref() != Some(stdout) && args.csv.as_deref() != Some(stdout) {
+    if !stdout_taken {
         write_text(stdout, &text)?;
     }
     Ok(())

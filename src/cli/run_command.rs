@@ -18,7 +18,7 @@ use sojourn::simulation::{Method, PlanError, RunConfig};
 use sojourn::transport::{Acceleration, WalkLimits};
 
 use super::figures::write_run_figures;
-use super::output::write_text;
+use super::output::{Output, check_outputs, write_text};
 use super::run_scale::{ScaleArgs, ScaledRun};
 
 /// Arguments of `sojourn run`.
@@ -185,6 +185,7 @@ fn stop_at_convective_base(medium: Medium, file: &str) -> Result<Medium> {
 /// Runs the subcommand.
 pub fn execute(args: RunArgs) -> Result<()> {
     let (medium, file, model) = load(&args)?;
+    let stdout_taken = check_run_outputs(&args)?;
     if args.resolve && medium.geometry() != Geometry::Slab {
         anyhow::bail!("{file}: --resolve is for slabs; this model is a sphere");
     }
@@ -229,7 +230,6 @@ pub fn execute(args: RunArgs) -> Result<()> {
     let result = pool.install(|| scaled.run(&medium))?;
     let mut report = RunReport::new(&medium, &file, scaled.config(), &result);
     scaled.annotate(&mut report);
-    let json_to_stdout = args.json.as_deref() == Some(std::path::Path::new("-"));
     if let Some(path) = &args.json {
         let json = scaled.json(&report, &result)?;
         write_text(path, &json)
@@ -244,8 +244,42 @@ pub fn execute(args: RunArgs) -> Result<()> {
         &report,
         &text,
     )?;
-    if !json_to_stdout {
+    if !stdout_taken {
         write_text(std::path::Path::new("-"), &text)?;
     }
     Ok(())
+}
+
+/// Checks every output of the run before any photon (see [`check_outputs`]); returns
+/// whether one of them is standard output, which then carries only that output.
+fn check_run_outputs(args: &RunArgs) -> Result<bool> {
+    let mut outputs = Vec::new();
+    if let Some(path) = &args.json {
+        outputs.push(Output::File {
+            flag: "--json",
+            path,
+            stdout: true,
+        });
+    }
+    if let Some(path) = &args.report {
+        outputs.push(Output::File {
+            flag: "--report",
+            path,
+            stdout: true,
+        });
+    }
+    if let Some(path) = args.scale.checkpoint() {
+        outputs.push(Output::File {
+            flag: "--checkpoint",
+            path,
+            stdout: false,
+        });
+    }
+    if let Some(path) = &args.plot {
+        outputs.push(Output::Folder {
+            flag: "--plot",
+            path,
+        });
+    }
+    check_outputs(&outputs)
 }

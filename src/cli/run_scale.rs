@@ -38,6 +38,13 @@ pub struct ScaleArgs {
     quiet: bool,
 }
 
+impl ScaleArgs {
+    /// The checkpoint file, if one was asked for.
+    pub fn checkpoint(&self) -> Option<&std::path::Path> {
+        self.checkpoint.as_deref()
+    }
+}
+
 /// A run with its shard restriction applied.
 pub struct ScaledRun<'a> {
     args: &'a ScaleArgs,

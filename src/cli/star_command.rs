@@ -11,7 +11,7 @@ use sojourn::star::builder::{DEFAULT_ROWS, PolytropeStar, PressureChoice, interi
 use sojourn::units::{SOLAR_LUMINOSITY_ERG_S, format_significant};
 
 use super::args;
-use super::output::write_atomically;
+use super::output::{Output, check_outputs, write_atomically};
 use super::stellar_args::{EnergyChoice, energy, table_for_model};
 
 /// Arguments of `sojourn star`.
@@ -82,6 +82,19 @@ pub struct StarArgs {
 
 /// Runs the subcommand.
 pub fn execute(args: StarArgs) -> Result<()> {
+    let mut outputs = vec![Output::File {
+        flag: "--out",
+        path: &args.out,
+        stdout: false,
+    }];
+    if let Some(path) = &args.table {
+        outputs.push(Output::File {
+            flag: "--table",
+            path,
+            stdout: false,
+        });
+    }
+    check_outputs(&outputs)?;
     let opacity_table = match &args.opacity_table {
         Some(table) => Some(table_for_model(table, &args.out, args.clamp_opacity_table)?),
         None => None,

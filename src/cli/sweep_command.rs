@@ -12,6 +12,7 @@ use sojourn::sweep::table::render_text;
 use sojourn::sweep::{ResolvedSpec, SweepRunner};
 
 use super::figures::write_sweep_figures;
+use super::output::{Output, check_outputs, write_stdout};
 use super::progress::Progress;
 
 /// Arguments of `sojourn sweep`.
@@ -57,11 +58,11 @@ pub fn execute(args: SweepArgs) -> Result<()> {
     let spec = ResolvedSpec::load(&args.spec)?;
     let sweep = spec.build(&label)?;
     if args.dry_run {
-        println!(
-            "{label}: {} points × {} photons (seed {}, spec hash {})",
+        let mut listing = format!(
+            "{label}: {} points × {} photons (seed {}, spec hash {})\n",
             sweep.points().len(),
-            spec.photons,
-            spec.seed,
+            spec.photons(),
+            spec.seed(),
             spec.hash()
         );
         for (index, point) in sweep.points().iter().enumerate() {
@@ -70,11 +71,22 @@ pub fn execute(args: SweepArgs) -> Result<()> {
                 .iter()
                 .map(|(path, value)| format!("{path} = {value}"))
                 .collect();
-            println!("  point {index:>4}: {}", settings.join(", "));
+            listing += &format!("  point {index:>4}: {}\n", settings.join(", "));
         }
-        return Ok(());
+        return write_stdout(&listing);
     }
     let out = args.out.clone().unwrap_or_else(|| default_out(&args.spec));
+    let mut outputs = vec![Output::Folder {
+        flag: "--out",
+        path: &out,
+    }];
+    if let Some(path) = &args.plot {
+        outputs.push(Output::Folder {
+            flag: "--plot",
+            path,
+        });
+    }
+    check_outputs(&outputs)?;
     let mut pool = rayon::ThreadPoolBuilder::new();
     if let Some(threads) = args.threads {
         pool = pool.num_threads(threads as usize);
@@ -104,7 +116,7 @@ pub fn execute(args: SweepArgs) -> Result<()> {
             csv,
             jsonl,
         } => {
-            print!("{}", render_text(&results));
+            write_stdout(&render_text(&results))?;
             if let Some(directory) = &args.plot {
                 write_sweep_figures(directory, &sweep, &results, &label)?;
             }
@@ -114,13 +126,13 @@ pub fn execute(args: SweepArgs) -> Result<()> {
         }
         Finished::Shard { bundle } => {
             let shard = args.shard.unwrap_or_else(Shard::whole);
-            println!(
-                "shard {shard} of the sweep done: {}\nwhen every shard is done: sojourn merge {}/shard-*-of-{}.json --out {}",
+            write_stdout(&format!(
+                "shard {shard} of the sweep done: {}\nwhen every shard is done: sojourn merge {}/shard-*-of-{}.json --out {}\n",
                 bundle.display(),
                 out.display(),
                 shard.count(),
                 out.display()
-            );
+            ))?;
         }
     }
     Ok(())

@@ -15,6 +15,11 @@ use super::profile::{
     RadialStructure,
 };
 use super::{GasSample, Layer, Medium, MediumError, Quantity, Source};
+use crate::input::{
+    InputError, MAX_COEFFICIENT_PER_CM, MAX_LAYERS, MAX_LENGTH_CM, MAX_OPTICAL_DEPTH,
+    MAX_TEXT_BYTES, MIN_COEFFICIENT_PER_CM, MIN_LENGTH_CM, field_and_message, plain_message,
+    read_text, strip_bom,
+};
 use crate::opacity::{OpacitySpec, OpacityTable, OutsidePolicy};
 use crate::transport::PhaseFunction;
 use crate::units::LengthUnit;
@@ -71,6 +76,10 @@ pub enum ModelError {
         /// What would have been accepted.
         expected: String,
     },
+    /// The file is not readable within the input limits (a directory or a device, too
+    /// large, not UTF-8); see [`crate::input`].
+    #[error(transparent)]
+    Input(#[from] InputError),
     /// A structural problem that is not about one value.
     #[error("{file}: {field}: {problem}")]
     Structure {
@@ -93,7 +102,10 @@ enum GeometrySpec {
 
 /// The top level of a model file, as written.
 #[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
+#[serde(
+    deny_unknown_fields,
+    expecting = "a model: an object such as {\"geometry\": \"slab\", \"layers\": [...]}"
+)]
 struct ModelSpec {
     name: Option<String>,
     geometry: GeometrySpec,
@@ -105,16 +117,52 @@ struct ModelSpec {
 }
 
 /// The ambient refractive index: one number for both sides, or each side apart.
-#[derive(Debug, Clone, Deserialize)]
-#[serde(untagged)]
+#[derive(Debug, Clone)]
 enum AmbientSpec {
     Both(f64),
     Sides(AmbientSides),
 }
 
+impl<'de> Deserialize<'de> for AmbientSpec {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct AmbientVisitor;
+        impl<'de> serde::de::Visitor<'de> for AmbientVisitor {
+            type Value = AmbientSpec;
+
+            fn expecting(&self, formatter: &mut std::fmt::Formatter) -> std::fmt::Result {
+                formatter.write_str("a refractive index (a number) or {\"above\": N, \"below\": N}")
+            }
+
+            fn visit_f64<E: serde::de::Error>(self, value: f64) -> Result<Self::Value, E> {
+                Ok(AmbientSpec::Both(value))
+            }
+
+            fn visit_i64<E: serde::de::Error>(self, value: i64) -> Result<Self::Value, E> {
+                Ok(AmbientSpec::Both(value as f64))
+            }
+
+            fn visit_u64<E: serde::de::Error>(self, value: u64) -> Result<Self::Value, E> {
+                Ok(AmbientSpec::Both(value as f64))
+            }
+
+            fn visit_map<A: serde::de::MapAccess<'de>>(
+                self,
+                map: A,
+            ) -> Result<Self::Value, A::Error> {
+                AmbientSides::deserialize(serde::de::value::MapAccessDeserializer::new(map))
+                    .map(AmbientSpec::Sides)
+            }
+        }
+        deserializer.deserialize_any(AmbientVisitor)
+    }
+}
+
 /// Refractive indices above and below a slab.
 #[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
+#[serde(
+    deny_unknown_fields,
+    expecting = "{\"above\": N, \"below\": N}, the refractive indices on each side"
+)]
 struct AmbientSides {
     above: f64,
     below: f64,
@@ -122,7 +170,10 @@ struct AmbientSides {
 
 /// One layer, as written.
 #[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
+#[serde(
+    deny_unknown_fields,
+    expecting = "a layer: an object such as {\"thickness\": 1, \"extinction_coefficient\": 2}"
+)]
 struct LayerSpec {
     name: Option<String>,
     outer_radius: Option<f64>,
@@ -143,7 +194,10 @@ struct LayerSpec {
 /// in cm² g⁻¹ whatever the length unit. See [`crate::medium::profile`] for how it becomes
 /// sub-shells.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
-#[serde(deny_unknown_fields)]
+#[serde(
+    deny_unknown_fields,
+    expecting = "a profile: an object with \"radius\", \"density\" and more, one value per row"
+)]
 pub struct ProfileSpec {
     /// Radius of each row, in the file's `length_unit`, strictly increasing from the centre.
     pub radius: Vec<f64>,
@@ -413,12 +467,26 @@ pub fn profile_model_json(
     .expect("a model serialises to JSON")
 }
 
-/// A phase function, as written.
+/// A phase function, as written: `{"kind": "isotropic"}`, `{"kind": "rayleigh"}` or
+/// `{"kind": "henyey_greenstein", "g": G}`. A flat object rather than a tagged enum, so
+/// that an error inside it names its field (`layers[0].phase.g`).
 #[derive(Debug, Clone, Deserialize)]
-#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
-enum PhaseSpec {
+#[serde(
+    deny_unknown_fields,
+    expecting = "a phase function: {\"kind\": \"isotropic\"}, {\"kind\": \"rayleigh\"} or \
+                 {\"kind\": \"henyey_greenstein\", \"g\": G}"
+)]
+struct PhaseSpec {
+    kind: PhaseKind,
+    g: Option<f64>,
+}
+
+/// Phase-function kinds.
+#[derive(Debug, Clone, Copy, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+enum PhaseKind {
     Isotropic,
-    HenyeyGreenstein { g: f64 },
+    HenyeyGreenstein,
     Rayleigh,
 }
 
@@ -435,7 +503,10 @@ enum SourceKind {
 
 /// The source, as written.
 #[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
+#[serde(
+    deny_unknown_fields,
+    expecting = "a source: an object such as {\"kind\": \"point\", \"radius\": 0}"
+)]
 struct SourceSpec {
     kind: SourceKind,
     radius: Option<f64>,
@@ -457,11 +528,13 @@ pub fn load_model(path: &Path) -> Result<Medium, ModelError> {
 /// [`ModelError`] naming the file, the field, the value and what was expected.
 pub fn load_model_with(path: &Path, options: &LoadOptions) -> Result<Medium, ModelError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|cause| ModelError::Read {
-        file: file.clone(),
-        cause,
-    })?;
+    let text = read_model_text(path)?;
     parse_model_with(&text, &file, options)
+}
+
+/// The text of a model file, within [`MAX_TEXT_BYTES`] (see [`crate::input::read_text`]).
+fn read_model_text(path: &Path) -> Result<String, ModelError> {
+    Ok(read_text(path, MAX_TEXT_BYTES, "model file")?)
 }
 
 /// Parses and validates model-file text; `file` labels errors.
@@ -485,16 +558,26 @@ pub fn parse_model_with(
 }
 
 /// Parses model-file text into its JSON value without building the medium (for callers
-/// that keep or edit the JSON, e.g. shard files and sweeps); `file` labels errors.
+/// that keep or edit the JSON, e.g. shard files and sweeps); `file` labels errors. A
+/// leading UTF-8 byte-order mark is ignored.
 ///
 /// # Errors
-/// [`ModelError::Syntax`] with the line and column of the problem.
+/// [`ModelError::Syntax`] with the line and column of the problem;
+/// [`ModelError::Input`] for text longer than [`MAX_TEXT_BYTES`].
 pub fn parse_model_value(text: &str, file: &str) -> Result<serde_json::Value, ModelError> {
-    serde_json::from_str(text).map_err(|error| ModelError::Syntax {
+    if text.len() as u64 > MAX_TEXT_BYTES {
+        return Err(ModelError::Input(InputError::TooLarge {
+            file: file.to_string(),
+            what: "model file",
+            size: crate::input::describe_bytes(text.len() as u64),
+            limit: MAX_TEXT_BYTES,
+        }));
+    }
+    serde_json::from_str(strip_bom(text)).map_err(|error| ModelError::Syntax {
         file: file.to_string(),
         line: error.line(),
         column: error.column(),
-        message: strip_position(&error.to_string()),
+        message: plain_message(&error.to_string()),
     })
 }
 
@@ -505,11 +588,7 @@ pub fn parse_model_value(text: &str, file: &str) -> Result<serde_json::Value, Mo
 /// [`ModelError::Read`] or [`ModelError::Syntax`].
 pub fn load_model_value(path: &Path) -> Result<serde_json::Value, ModelError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|cause| ModelError::Read {
-        file: file.clone(),
-        cause,
-    })?;
-    parse_model_value(&text, &file)
+    parse_model_value(&read_model_text(path)?, &file)
 }
 
 /// Builds a medium from an already parsed model-file JSON value; `file` labels errors.
@@ -530,26 +609,39 @@ pub fn model_from_value_with(
     file: &str,
     options: &LoadOptions,
 ) -> Result<Medium, ModelError> {
+    // serde would read a list as the fields in order; a model file is an object.
+    if !value.is_object() {
+        return Err(ModelError::Schema {
+            file: file.to_string(),
+            field: ".".into(),
+            message: format!(
+                "{}: expected a model, an object such as {{\"geometry\": \"slab\", \"layers\": [...]}}",
+                crate::input::json_kind(value)
+            ),
+        });
+    }
     let spec: ModelSpec = serde_path_to_error::deserialize(value).map_err(|error| {
-        let field = error.path().to_string();
+        let (field, message) =
+            field_and_message(&error.path().to_string(), &error.into_inner().to_string());
         ModelError::Schema {
             file: file.to_string(),
-            field: if field.is_empty() { ".".into() } else { field },
-            message: strip_position(&error.into_inner().to_string()),
+            field,
+            message,
         }
     })?;
+    if spec.layers.len() > MAX_LAYERS {
+        return Err(ModelError::Invalid {
+            file: file.to_string(),
+            field: "layers".into(),
+            value: format!("{} layers", spec.layers.len()),
+            expected: format!(
+                "at most {MAX_LAYERS} layers (a profile layer counts once, whatever its rows)"
+            ),
+        });
+    }
     // An opacity table's path is relative to the model file's folder.
     let folder = Path::new(file).parent().unwrap_or(Path::new(""));
     build_medium(&spec, options, folder).map_err(|error| describe(error, file, spec.length_unit))
-}
-
-/// serde_json appends " at line L column C" to messages; for a parsed `Value` that position
-/// is meaningless, and for syntax errors it is reported separately.
-fn strip_position(message: &str) -> String {
-    match message.rfind(" at line ") {
-        Some(index) => message[..index].to_string(),
-        None => message.to_string(),
-    }
 }
 
 /// Turns a medium error into a model error in the file's own units.
@@ -562,12 +654,12 @@ fn describe(error: MediumError, file: &str, unit: LengthUnit) -> ModelError {
             expected,
         } => {
             let shown = match quantity {
-                Quantity::Length => format!("{} {}", value / unit.to_cm(), unit.symbol()),
+                Quantity::Length => format!("{} {}", show(value / unit.to_cm()), unit.symbol()),
                 Quantity::InverseLength => {
-                    format!("{} per {}", value * unit.to_cm(), unit.symbol())
+                    format!("{} per {}", show(value * unit.to_cm()), unit.symbol())
                 }
-                Quantity::AngleDeg => format!("{value} deg"),
-                Quantity::Dimensionless => format!("{value}"),
+                Quantity::AngleDeg => format!("{} deg", show(value)),
+                Quantity::Dimensionless => show(value),
             };
             let expected = convert_cm_mentions(&expected, unit);
             ModelError::Invalid {
@@ -582,6 +674,16 @@ fn describe(error: MediumError, file: &str, unit: LengthUnit) -> ModelError {
             field,
             problem,
         },
+    }
+}
+
+/// A value as the user would write it: exact (the shortest form that reads back as the
+/// same number), in exponent form when very large or small.
+fn show(value: f64) -> String {
+    if value != 0.0 && value.is_finite() && !(1e-5..1e7).contains(&value.abs()) {
+        format!("{value:e}")
+    } else {
+        format!("{value}")
     }
 }
 
@@ -652,6 +754,7 @@ fn build_medium(
                         .into(),
                 });
             }
+            check_profile_extinction(&shells.shells).map_err(|e| e.within(&prefix))?;
             let first = items.len();
             // Every division inside a profile is a smooth one, not a material interface.
             smooth.extend(first..first + shells.shells.len() - 1);
@@ -681,6 +784,11 @@ fn build_medium(
             ),
         }
         .map_err(|e| e.within(&prefix))?;
+        let boundary_field = match spec.geometry {
+            GeometrySpec::Sphere => "outer_radius",
+            GeometrySpec::Slab => "thickness",
+        };
+        check_length(boundary_field, boundary * to_cm).map_err(|e| e.within(&prefix))?;
         if let Some(previous) = previous_profile_outer.take() {
             let outer = boundary * to_cm;
             if outer.is_nan() || outer <= previous {
@@ -740,6 +848,7 @@ fn build_medium(
                 .with_ambient_below(below)?
         }
     };
+    check_totals(&medium)?;
     let mut medium = medium
         .with_smooth_boundaries(smooth)
         .with_profiles(profiles)
@@ -854,9 +963,22 @@ fn build_layer(spec: &LayerSpec, geometry: GeometrySpec, to_cm: f64) -> Result<L
                 Quantity::Dimensionless,
                 "a density in g/cm^3, finite and >= 0",
             )?;
+            check_coefficient("density", opacity * density).map_err(|_| {
+                MediumError::value(
+                    "density",
+                    density,
+                    Quantity::Dimensionless,
+                    format!(
+                        "a density whose product with the opacity ({opacity} cm^2/g), the \
+                         extinction, is 0 or between {MIN_COEFFICIENT_PER_CM:e} and \
+                         {MAX_COEFFICIENT_PER_CM:e} per cm"
+                    ),
+                )
+            })?;
             (opacity * density, spec.albedo.unwrap_or(1.0))
         }
         (None, None, Some(extinction), None, None) => {
+            check_coefficient("extinction_coefficient", extinction / to_cm)?;
             (extinction / to_cm, spec.albedo.unwrap_or(1.0))
         }
         (None, None, None, Some(scattering), Some(absorption)) => {
@@ -880,6 +1002,8 @@ fn build_layer(spec: &LayerSpec, geometry: GeometrySpec, to_cm: f64) -> Result<L
                 Quantity::InverseLength,
                 "a finite number >= 0",
             )?;
+            check_coefficient("scattering_coefficient", scattering / to_cm)?;
+            check_coefficient("absorption_coefficient", absorption / to_cm)?;
             let total = (scattering + absorption) / to_cm;
             let albedo = if total > 0.0 {
                 scattering / (scattering + absorption)
@@ -926,11 +1050,8 @@ fn build_layer(spec: &LayerSpec, geometry: GeometrySpec, to_cm: f64) -> Result<L
         }
     };
     let phase = match &spec.phase {
-        None | Some(PhaseSpec::Isotropic) => PhaseFunction::Isotropic,
-        Some(PhaseSpec::HenyeyGreenstein { g }) => {
-            PhaseFunction::henyey_greenstein(*g).map_err(|e| e.within("phase"))?
-        }
-        Some(PhaseSpec::Rayleigh) => PhaseFunction::Rayleigh,
+        None => PhaseFunction::Isotropic,
+        Some(phase) => build_phase(phase).map_err(|e| e.within("phase"))?,
     };
     if geometry == GeometrySpec::Sphere
         && let Some(index) = spec.refractive_index
@@ -960,6 +1081,116 @@ fn build_layer(spec: &LayerSpec, geometry: GeometrySpec, to_cm: f64) -> Result<L
         }),
         _ => layer,
     })
+}
+
+/// A thickness or radius, cm, inside [`MIN_LENGTH_CM`, `MAX_LENGTH_CM`]. Values that are
+/// not positive are left to the medium's own checks, which explain them better.
+fn check_length(field: &str, value_cm: f64) -> Result<(), MediumError> {
+    if value_cm.is_nan() || value_cm <= 0.0 || (MIN_LENGTH_CM..=MAX_LENGTH_CM).contains(&value_cm) {
+        return Ok(());
+    }
+    Err(MediumError::value(
+        field,
+        value_cm,
+        Quantity::Length,
+        format!(
+            "a length between {MIN_LENGTH_CM:e} cm and {MAX_LENGTH_CM:e} cm (the range sojourn \
+             accepts: positions and their squares stay finite)"
+        ),
+    ))
+}
+
+/// A coefficient, per cm: 0, or inside [`MIN_COEFFICIENT_PER_CM`,
+/// `MAX_COEFFICIENT_PER_CM`]. Negative values and NaN are left to the layer's own checks.
+fn check_coefficient(field: &str, value_per_cm: f64) -> Result<(), MediumError> {
+    if value_per_cm.is_nan()
+        || value_per_cm <= 0.0
+        || (MIN_COEFFICIENT_PER_CM..=MAX_COEFFICIENT_PER_CM).contains(&value_per_cm)
+    {
+        return Ok(());
+    }
+    Err(MediumError::value(
+        field,
+        value_per_cm,
+        Quantity::InverseLength,
+        coefficient_range(),
+    ))
+}
+
+fn coefficient_range() -> String {
+    format!(
+        "0 or a coefficient between {MIN_COEFFICIENT_PER_CM:e} and {MAX_COEFFICIENT_PER_CM:e} \
+         per cm (the range sojourn accepts: mean free paths stay finite)"
+    )
+}
+
+/// The extinction of every sub-shell of a profile layer, inside the accepted range.
+fn check_profile_extinction(shells: &[(f64, Layer)]) -> Result<(), MediumError> {
+    for (outer_cm, layer) in shells {
+        let sigma = layer.extinction_per_cm();
+        if sigma > 0.0 && !(MIN_COEFFICIENT_PER_CM..=MAX_COEFFICIENT_PER_CM).contains(&sigma) {
+            return Err(MediumError::Invalid {
+                field: "profile".into(),
+                problem: format!(
+                    "the extinction (opacity × density) is {sigma:e} per cm in the sub-shell \
+                     ending at r = {outer_cm:e} cm: expected {}; check the density and opacity \
+                     of the rows there",
+                    coefficient_range()
+                ),
+            });
+        }
+    }
+    Ok(())
+}
+
+/// The whole medium: its size at most [`MAX_LENGTH_CM`] and its optical depth (through
+/// every layer) at most [`MAX_OPTICAL_DEPTH`].
+fn check_totals(medium: &Medium) -> Result<(), MediumError> {
+    let size = medium.size_cm();
+    if size.is_nan() || size > MAX_LENGTH_CM {
+        return Err(MediumError::value(
+            "layers",
+            size,
+            Quantity::Length,
+            format!("a total size of at most {MAX_LENGTH_CM:e} cm"),
+        ));
+    }
+    let depth: f64 = (0..medium.layers().len())
+        .map(|index| {
+            let (inner, outer) = medium.layer_bounds_cm(index);
+            medium.layers()[index].extinction_per_cm() * (outer - inner)
+        })
+        .sum();
+    if depth.is_nan() || depth > MAX_OPTICAL_DEPTH {
+        return Err(MediumError::Invalid {
+            field: "layers".into(),
+            problem: format!(
+                "the optical depth through every layer is {depth:e}: expected at most \
+                 {MAX_OPTICAL_DEPTH:e} (the naive step count τ² and the diffusion times must \
+                 stay finite numbers)"
+            ),
+        });
+    }
+    Ok(())
+}
+
+/// The phase function of a layer: `g` only (and always) with Henyey–Greenstein.
+fn build_phase(spec: &PhaseSpec) -> Result<PhaseFunction, MediumError> {
+    match (spec.kind, spec.g) {
+        (PhaseKind::HenyeyGreenstein, Some(g)) => PhaseFunction::henyey_greenstein(g),
+        (PhaseKind::HenyeyGreenstein, None) => Err(missing(
+            "g",
+            "a Henyey-Greenstein phase function needs the anisotropy \"g\" (-1 < g < 1)",
+        )),
+        (PhaseKind::Isotropic | PhaseKind::Rayleigh, Some(g)) => Err(MediumError::value(
+            "g",
+            g,
+            Quantity::Dimensionless,
+            "no \"g\": only \"henyey_greenstein\" takes an anisotropy",
+        )),
+        (PhaseKind::Isotropic, None) => Ok(PhaseFunction::Isotropic),
+        (PhaseKind::Rayleigh, None) => Ok(PhaseFunction::Rayleigh),
+    }
 }
 
 fn positive_finite(
@@ -997,11 +1228,22 @@ fn build_source(
         field: format!("source.{field}"),
         problem: why.to_string(),
     };
+    // The first of the fields a source kind does not take that the file gives.
+    let extra = |allowed: &[&str]| {
+        [
+            ("radius", spec.radius.is_some()),
+            ("depth", spec.depth.is_some()),
+            ("polar_angle_deg", spec.polar_angle_deg.is_some()),
+        ]
+        .into_iter()
+        .find(|(name, given)| *given && !allowed.contains(name))
+        .map(|(name, _)| name)
+    };
     match (geometry, spec.kind) {
         (GeometrySpec::Sphere, SourceKind::Point) => {
-            if spec.depth.is_some() || spec.polar_angle_deg.is_some() {
+            if let Some(field) = extra(&["radius"]) {
                 return Err(unexpected(
-                    "depth",
+                    field,
                     "a sphere's point source takes only \"radius\"",
                 ));
             }
@@ -1010,9 +1252,9 @@ fn build_source(
             })
         }
         (GeometrySpec::Sphere, SourceKind::EnergyGeneration) => {
-            if spec.radius.is_some() || spec.depth.is_some() || spec.polar_angle_deg.is_some() {
+            if let Some(field) = extra(&[]) {
                 return Err(unexpected(
-                    "kind",
+                    field,
                     "an energy-generation source takes no other field: photons start where the \
                      profile's energy_generation releases the luminosity",
                 ));
@@ -1030,17 +1272,17 @@ fn build_source(
             "a sphere takes only \"point\" or \"energy_generation\" sources",
         )),
         (GeometrySpec::Slab, SourceKind::Beam) => {
-            if spec.depth.is_some() || spec.radius.is_some() {
-                return Err(unexpected("depth", "a beam takes only \"polar_angle_deg\""));
+            if let Some(field) = extra(&["polar_angle_deg"]) {
+                return Err(unexpected(field, "a beam takes only \"polar_angle_deg\""));
             }
             Ok(Source::Beam {
                 polar_angle_deg: spec.polar_angle_deg.unwrap_or(0.0),
             })
         }
         (GeometrySpec::Slab, SourceKind::Point | SourceKind::Plane) => {
-            if spec.radius.is_some() || spec.polar_angle_deg.is_some() {
+            if let Some(field) = extra(&["depth"]) {
                 return Err(unexpected(
-                    "radius",
+                    field,
                     "a slab's point or plane source takes only \"depth\"",
                 ));
             }
@@ -1061,9 +1303,9 @@ fn build_source(
             })
         }
         (GeometrySpec::Slab, SourceKind::Diffuse) => {
-            if spec.radius.is_some() || spec.polar_angle_deg.is_some() || spec.depth.is_some() {
+            if let Some(field) = extra(&[]) {
                 return Err(unexpected(
-                    "kind",
+                    field,
                     "diffuse illumination takes no other field",
                 ));
             }

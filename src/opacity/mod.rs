@@ -33,6 +33,7 @@
 use serde::{Deserialize, Serialize};
 use thiserror::Error;
 
+mod spec_de;
 mod steffen;
 pub mod table;
 
@@ -588,8 +589,8 @@ fn one() -> f64 {
 ///
 /// Unknown fields are rejected. [`OpacitySpec::build`] validates the numbers and returns
 /// the law.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
 pub enum OpacitySpec {
     /// [`ConstantOpacity`]: `value_cm2_g` (cm² g⁻¹, ≥ 0) and `scattering_fraction`
     /// (0 ..= 1, default 1: a grey scatterer).

@@ -64,6 +64,10 @@ pub enum OpacityTableError {
         /// The operating-system error.
         cause: std::io::Error,
     },
+    /// The file is a folder or a device, over the size limit, or not UTF-8 text (see
+    /// [`crate::input::read_text`]).
+    #[error(transparent)]
+    Input(#[from] crate::input::InputError),
     /// A problem with one line (header, number of fields, a repeated grid point).
     #[error("{file}: line {line}: {problem}")]
     Line {
@@ -196,10 +200,14 @@ impl OpacityTable {
     /// [`OpacityTableError`] naming the file, the line and the value.
     pub fn read(path: &Path) -> Result<Self, OpacityTableError> {
         let file = path.display().to_string();
-        let text = std::fs::read_to_string(path).map_err(|cause| OpacityTableError::Read {
-            file: file.clone(),
-            cause,
-        })?;
+        let text = crate::input::read_text(path, crate::input::MAX_TEXT_BYTES, "opacity table")
+            .map_err(|error| match error {
+                crate::input::InputError::Read { cause, .. } => OpacityTableError::Read {
+                    file: file.clone(),
+                    cause,
+                },
+                other => OpacityTableError::Input(other),
+            })?;
         Self::parse(&text, &file)
     }
 

@@ -14,22 +14,57 @@ use super::runner::{PointRecord, results_from_tallies};
 use super::spec::{ResolvedSpec, SpecError};
 use super::{PointResult, Sweep};
 use crate::file_format::format_problem;
+use crate::input::{MAX_STATE_BYTES, from_json_value, plain_message, read_text, strip_bom};
 use crate::shard::{
-    MergeError, RunShard, SHARD_FORMAT, Shard, check_coverage, read_run_shard, same,
+    MergeError, RunShard, SHARD_FORMAT, Shard, check_coverage, run_shard_from_value, same,
 };
 use crate::tally::Tally;
 
-/// What a sweep shard bundle says about itself.
+/// What a sweep shard bundle says about itself. Reading one from JSON checks its format,
+/// its embedded spec (see [`ResolvedSpec`]) and that the spec hash matches the spec.
 #[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(try_from = "SweepShardInfoRepr")]
 pub struct SweepShardInfo {
-    /// Layout version ([`SHARD_FORMAT`]).
-    pub format: u32,
-    /// [`ResolvedSpec::hash`] of `spec`.
-    pub spec_hash: String,
-    /// Which part.
-    pub shard: Shard,
-    /// The sweep, with its base model inlined.
-    pub spec: ResolvedSpec,
+    format: u32,
+    spec_hash: String,
+    shard: Shard,
+    spec: ResolvedSpec,
+}
+
+/// A [`SweepShardInfo`] as read, before its checks.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct SweepShardInfoRepr {
+    format: u32,
+    spec_hash: String,
+    shard: Shard,
+    spec: ResolvedSpec,
+}
+
+impl TryFrom<SweepShardInfoRepr> for SweepShardInfo {
+    type Error = String;
+
+    fn try_from(repr: SweepShardInfoRepr) -> Result<Self, String> {
+        if repr.format != SHARD_FORMAT {
+            return Err(format!(
+                "shard format {} (this sojourn reads format {SHARD_FORMAT})",
+                repr.format
+            ));
+        }
+        if repr.spec.hash() != repr.spec_hash {
+            return Err(format!(
+                "spec_hash {} does not match the embedded spec ({})",
+                repr.spec_hash,
+                repr.spec.hash()
+            ));
+        }
+        Ok(Self {
+            format: repr.format,
+            spec_hash: repr.spec_hash,
+            shard: repr.shard,
+            spec: repr.spec,
+        })
+    }
 }
 
 impl SweepShardInfo {
@@ -42,15 +77,36 @@ impl SweepShardInfo {
             spec: spec.clone(),
         }
     }
+
+    /// Which part.
+    pub fn shard(&self) -> Shard {
+        self.shard
+    }
+
+    /// The sweep, with its base model inlined.
+    pub fn spec(&self) -> &ResolvedSpec {
+        &self.spec
+    }
 }
 
 /// A sweep shard bundle, as written to `OUT/shard-K-of-N.json`.
 #[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct SweepShardFile {
+    pub(crate) sweep_shard: SweepShardInfo,
+    pub(crate) points: Vec<PointRecord>,
+}
+
+impl SweepShardFile {
     /// Which part of which sweep.
-    pub sweep_shard: SweepShardInfo,
+    pub fn info(&self) -> &SweepShardInfo {
+        &self.sweep_shard
+    }
+
     /// Every point's record for this shard's photons, in point order.
-    pub points: Vec<PointRecord>,
+    pub fn points(&self) -> &[PointRecord] {
+        &self.points
+    }
 }
 
 /// A sweep shard read back, with the file it came from.
@@ -76,46 +132,30 @@ pub struct MergedSweep {
 /// # Errors
 /// [`MergeError::NotAShard`] or [`MergeError::Damaged`].
 pub fn read_sweep_shard(text: &str, file: &str) -> Result<SweepShard, MergeError> {
-    if let Some(problem) = serde_json::from_str::<serde_json::Value>(text)
-        .ok()
-        .and_then(|value| format_problem(&value, "/sweep_shard/format", SHARD_FORMAT, "shard"))
-    {
-        return Err(MergeError::Damaged {
+    let value: Value =
+        serde_json::from_str(strip_bom(text)).map_err(|e| MergeError::NotAShard {
             file: file.to_string(),
-            problem,
-        });
-    }
-    let content: SweepShardFile = serde_json::from_str(text).map_err(|e| {
-        if text.contains("\"sweep_shard\"") {
-            MergeError::Damaged {
-                file: file.to_string(),
-                problem: e.to_string(),
-            }
-        } else {
-            MergeError::NotAShard {
-                file: file.to_string(),
-                problem: format!("not a sweep shard bundle: {e}"),
-            }
-        }
-    })?;
-    let info = &content.sweep_shard;
+            problem: format!("not valid JSON: {}", plain_message(&e.to_string())),
+        })?;
+    sweep_shard_from_value(&value, file)
+}
+
+/// Reads a sweep shard bundle from its parsed JSON; see [`read_sweep_shard`].
+fn sweep_shard_from_value(value: &Value, file: &str) -> Result<SweepShard, MergeError> {
     let damaged = |problem: String| MergeError::Damaged {
         file: file.to_string(),
         problem,
     };
-    if info.format != SHARD_FORMAT {
-        return Err(damaged(format!(
-            "shard format {} (this sojourn reads format {SHARD_FORMAT})",
-            info.format
-        )));
+    if value.get("sweep_shard").is_none() {
+        return Err(MergeError::NotAShard {
+            file: file.to_string(),
+            problem: "not a sweep shard bundle: no \"sweep_shard\" key".into(),
+        });
     }
-    if info.spec.hash() != info.spec_hash {
-        return Err(damaged(format!(
-            "spec_hash {} does not match the embedded spec ({})",
-            info.spec_hash,
-            info.spec.hash()
-        )));
+    if let Some(problem) = format_problem(value, "/sweep_shard/format", SHARD_FORMAT, "shard") {
+        return Err(damaged(problem));
     }
+    let content: SweepShardFile = from_json_value(value).map_err(|e| damaged(e.to_string()))?;
     Ok(SweepShard {
         content,
         file: file.to_string(),
@@ -138,11 +178,7 @@ pub fn merge_sweep_shards(mut shards: Vec<SweepShard>) -> Result<MergedSweep, Me
         let b = &other.content.sweep_shard;
         let (f, o) = (first.file.as_str(), other.file.as_str());
         same("sweep", "spec_hash", (f, &a.spec_hash), (o, &b.spec_hash))?;
-        let same_content = |spec: &ResolvedSpec| ResolvedSpec {
-            model_file: String::new(),
-            ..spec.clone()
-        };
-        if same_content(&a.spec) != same_content(&b.spec) {
+        if !a.spec.same_sweep(&b.spec) {
             same(
                 "sweep",
                 "spec",
@@ -215,22 +251,29 @@ pub enum ShardFile {
     Sweep(SweepShard),
 }
 
-/// Reads a shard file of either kind.
+/// Reads a shard file of either kind, within [`MAX_STATE_BYTES`].
 ///
 /// # Errors
-/// [`MergeError::Read`], [`MergeError::NotAShard`] or [`MergeError::Damaged`].
+/// [`MergeError::Input`], [`MergeError::NotAShard`] or [`MergeError::Damaged`].
 pub fn read_shard_file(path: &std::path::Path) -> Result<ShardFile, MergeError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| MergeError::Read {
-        file: file.clone(),
-        cause: source,
-    })?;
-    let is_sweep = serde_json::from_str::<Value>(&text)
-        .ok()
-        .is_some_and(|v| v.get("sweep_shard").is_some());
-    if is_sweep {
-        read_sweep_shard(&text, &file).map(ShardFile::Sweep)
+    let text = read_text(path, MAX_STATE_BYTES, "shard file")?;
+    parse_shard_file(&text, &file)
+}
+
+/// Reads shard-file text of either kind; `file` labels errors.
+///
+/// # Errors
+/// [`MergeError::NotAShard`] or [`MergeError::Damaged`].
+pub fn parse_shard_file(text: &str, file: &str) -> Result<ShardFile, MergeError> {
+    let value: Value =
+        serde_json::from_str(strip_bom(text)).map_err(|e| MergeError::NotAShard {
+            file: file.to_string(),
+            problem: format!("not valid JSON: {}", plain_message(&e.to_string())),
+        })?;
+    if value.get("sweep_shard").is_some() {
+        sweep_shard_from_value(&value, file).map(ShardFile::Sweep)
     } else {
-        read_run_shard(&text, &file).map(|shard| ShardFile::Run(Box::new(shard)))
+        run_shard_from_value(value, file).map(|shard| ShardFile::Run(Box::new(shard)))
     }
 }

@@ -25,6 +25,9 @@ use super::table::{SweepRow, csv_text, jsonl_text};
 use super::{PointResult, Sweep};
 use crate::atomic_write::{is_temporary, write_atomically};
 use crate::file_format::format_problem;
+use crate::input::{
+    InputError, MAX_STATE_BYTES, from_json_value, plain_message, read_text, strip_bom,
+};
 use crate::shard::{MergeError, Shard, check_tally};
 use crate::simulation::RunResult;
 use crate::tally::Tally;
@@ -68,6 +71,9 @@ pub enum SweepError {
         /// What is wrong.
         problem: String,
     },
+    /// A point file that is not readable within the input limits (see [`crate::input`]).
+    #[error(transparent)]
+    Input(#[from] InputError),
     /// Assembly was asked for before every point was done.
     #[error("points {missing} are not done yet")]
     Incomplete {
@@ -85,29 +91,82 @@ pub struct ParameterValue {
     pub value: Value,
 }
 
-/// A finished point (or a shard's part of it), as stored in its file.
+/// A finished point (or a shard's part of it), as stored in its file. Reading one from
+/// JSON checks its format, its tally (see [`Tally`]) against its photon count, and its
+/// wall-clock time; [`SweepRunner`] and merge then check it against the sweep.
 #[derive(Debug, Clone, Serialize, Deserialize)]
+#[serde(try_from = "PointRecordRepr")]
 pub struct PointRecord {
-    /// Layout version ([`POINT_FORMAT`]).
-    pub format: u32,
-    /// Hash of the sweep spec ([`ResolvedSpec::hash`]).
-    pub spec_hash: String,
-    /// Point index (= its random stream).
-    pub point: u64,
-    /// Which shard of the photons this holds (1/1: all).
-    pub shard: Shard,
-    /// Seed of the random streams.
-    pub seed: u64,
-    /// First photon index.
-    pub first_photon: u64,
-    /// Photons.
-    pub photons: u64,
-    /// The point's parameter values.
-    pub parameters: Vec<ParameterValue>,
-    /// Wall-clock time of the point, s.
-    pub elapsed_s: f64,
-    /// The exact tally of its photons.
-    pub tally: Tally,
+    pub(crate) format: u32,
+    pub(crate) spec_hash: String,
+    pub(crate) point: u64,
+    pub(crate) shard: Shard,
+    pub(crate) seed: u64,
+    pub(crate) first_photon: u64,
+    pub(crate) photons: u64,
+    pub(crate) parameters: Vec<ParameterValue>,
+    pub(crate) elapsed_s: f64,
+    pub(crate) tally: Tally,
+}
+
+/// A [`PointRecord`] as read, before its checks.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct PointRecordRepr {
+    format: u32,
+    spec_hash: String,
+    point: u64,
+    shard: Shard,
+    seed: u64,
+    first_photon: u64,
+    photons: u64,
+    parameters: Vec<ParameterValue>,
+    elapsed_s: f64,
+    tally: Tally,
+}
+
+impl TryFrom<PointRecordRepr> for PointRecord {
+    type Error = String;
+
+    fn try_from(repr: PointRecordRepr) -> Result<Self, String> {
+        if repr.format != POINT_FORMAT {
+            return Err(format!(
+                "format {} (this sojourn reads format {POINT_FORMAT})",
+                repr.format
+            ));
+        }
+        if repr.first_photon.checked_add(repr.photons).is_none() {
+            return Err(format!(
+                "photons {} from {}: past the last photon index",
+                repr.photons, repr.first_photon
+            ));
+        }
+        if repr.tally.launched() != repr.photons {
+            return Err(format!(
+                "the tally holds {} photons, the record {}",
+                repr.tally.launched(),
+                repr.photons
+            ));
+        }
+        if !(repr.elapsed_s.is_finite() && repr.elapsed_s >= 0.0) {
+            return Err(format!(
+                "elapsed_s = {}: expected a wall-clock time >= 0 s",
+                repr.elapsed_s
+            ));
+        }
+        Ok(Self {
+            format: repr.format,
+            spec_hash: repr.spec_hash,
+            point: repr.point,
+            shard: repr.shard,
+            seed: repr.seed,
+            first_photon: repr.first_photon,
+            photons: repr.photons,
+            parameters: repr.parameters,
+            elapsed_s: repr.elapsed_s,
+            tally: repr.tally,
+        })
+    }
 }
 
 impl PointRecord {
@@ -232,16 +291,14 @@ impl<'a> SweepRunner<'a> {
         })?;
         for index in 0..sweep.points().len() as u64 {
             let path = runner.point_path(index);
-            let text = match std::fs::read_to_string(&path) {
+            let text = match read_text(&path, MAX_STATE_BYTES, "sweep point file") {
                 Ok(text) => text,
-                Err(error) if error.kind() == std::io::ErrorKind::NotFound => continue,
-                Err(source) => {
-                    return Err(SweepError::Io {
-                        path: path.display().to_string(),
-                        action: "read",
-                        cause: source,
-                    });
+                Err(InputError::Read { cause, .. })
+                    if cause.kind() == std::io::ErrorKind::NotFound =>
+                {
+                    continue;
                 }
+                Err(error) => return Err(error.into()),
             };
             runner.done[index as usize] = Some(runner.read_point(&path, &text, index)?);
         }
@@ -368,13 +425,13 @@ impl<'a> SweepRunner<'a> {
             file: file.clone(),
             problem,
         };
-        let value: serde_json::Value =
-            serde_json::from_str(text).map_err(|e| damaged(e.to_string()))?;
+        let value: serde_json::Value = serde_json::from_str(strip_bom(text))
+            .map_err(|e| damaged(format!("not valid JSON: {}", plain_message(&e.to_string()))))?;
         if let Some(problem) = format_problem(&value, "/format", POINT_FORMAT, "point") {
             return Err(damaged(problem));
         }
         let mut record: PointRecord =
-            serde_json::from_value(value).map_err(|e| damaged(e.to_string()))?;
+            from_json_value(&value).map_err(|e| damaged(e.to_string()))?;
         if record.spec_hash != self.hash {
             return Err(SweepError::Foreign {
                 file: file.clone(),

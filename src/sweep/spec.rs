@@ -30,7 +30,10 @@ use thiserror::Error;
 use super::json_path::{JsonPath, PathError, describe};
 use super::{Sweep, SweepPoint};
 use crate::fingerprint::fingerprint;
-use crate::medium::model_file::{ModelError, model_from_value, parse_model_value};
+use crate::input::{
+    InputError, MAX_SWEEP_POINTS, MAX_TEXT_BYTES, plain_message, read_text, strip_bom,
+};
+use crate::medium::model_file::{ModelError, load_model_value, model_from_value};
 use crate::simulation::Method;
 use crate::transport::WalkLimits;
 
@@ -95,6 +98,9 @@ pub enum SpecError {
         /// What is wrong with the path.
         cause: PathError,
     },
+    /// The spec file is not readable within the input limits (see [`crate::input`]).
+    #[error(transparent)]
+    Input(#[from] InputError),
     /// The base model cannot be read or is invalid.
     #[error("{file}: base model: {cause}")]
     Model {
@@ -130,7 +136,10 @@ pub enum Combine {
 
 /// The spec file as written.
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
+#[serde(
+    deny_unknown_fields,
+    expecting = "a sweep spec: an object such as {\"model\": \"m.json\", \"parameters\": [...]}"
+)]
 struct SpecFile {
     model: String,
     photons: Option<u64>,
@@ -144,7 +153,10 @@ struct SpecFile {
 
 /// One parameter as written: a path and exactly one of the value kinds.
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
+#[serde(
+    deny_unknown_fields,
+    expecting = "a parameter: an object such as {\"path\": \"layers[0].albedo\", \"values\": [0.9, 1]}"
+)]
 struct ParameterFile {
     path: String,
     values: Option<Vec<Value>>,
@@ -154,7 +166,10 @@ struct ParameterFile {
 
 /// A range as written; `count` is signed so that a negative count gets its own message.
 #[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
+#[serde(
+    deny_unknown_fields,
+    expecting = "a range: an object such as {\"from\": 1, \"to\": 10, \"count\": 5}"
+)]
 struct RangeFile {
     from: f64,
     to: f64,
@@ -163,57 +178,95 @@ struct RangeFile {
 
 /// One parameter with its values spelled out.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct ResolvedParameter {
+    path: String,
+    values: Vec<Value>,
+}
+
+impl ResolvedParameter {
     /// Path into the model, e.g. `layers[0].albedo`.
-    pub path: String,
+    pub fn path(&self) -> &str {
+        &self.path
+    }
+
     /// Every value it takes, in order.
-    pub values: Vec<Value>,
+    pub fn values(&self) -> &[Value] {
+        &self.values
+    }
 }
 
 /// A sweep with every value spelled out and the base model inlined: all that is needed to
 /// rebuild its points, with no file. Its [`ResolvedSpec::hash`] identifies the sweep.
+///
+/// It holds only valid sweeps: it is made by [`ResolvedSpec::parse`] (or
+/// [`ResolvedSpec::load`]), and reading one back from JSON (a sweep shard bundle) runs the
+/// same checks, so that every point it names builds from a valid base model.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(try_from = "ResolvedSpecRepr")]
 pub struct ResolvedSpec {
-    /// The model file as the spec names it (a label only; not part of the hash).
-    pub model_file: String,
-    /// The base model's JSON.
-    pub model: Value,
-    /// Photons per point.
-    pub photons: u64,
-    /// Seed of the random streams (the stream of point i is i).
-    pub seed: u64,
-    /// Step cap per photon.
-    pub max_steps: u64,
-    /// Walk method (default `auto`).
+    model_file: String,
+    model: Value,
+    photons: u64,
+    seed: u64,
+    max_steps: u64,
+    method: Method,
+    combine: Combine,
+    parameters: Vec<ResolvedParameter>,
+}
+
+/// A [`ResolvedSpec`] as read from JSON, before its checks.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ResolvedSpecRepr {
+    model_file: String,
+    model: Value,
+    photons: u64,
+    seed: u64,
+    max_steps: u64,
     #[serde(default)]
-    pub method: Method,
-    /// How parameters combine.
-    pub combine: Combine,
-    /// The parameters.
-    pub parameters: Vec<ResolvedParameter>,
+    method: Method,
+    combine: Combine,
+    parameters: Vec<ResolvedParameter>,
+}
+
+/// The label of a resolved spec read back from JSON, in its errors.
+const EMBEDDED_LABEL: &str = "embedded sweep spec";
+
+impl TryFrom<ResolvedSpecRepr> for ResolvedSpec {
+    type Error = SpecError;
+
+    fn try_from(repr: ResolvedSpecRepr) -> Result<Self, SpecError> {
+        let spec = ResolvedSpec {
+            model_file: repr.model_file,
+            model: repr.model,
+            photons: repr.photons,
+            seed: repr.seed,
+            max_steps: repr.max_steps,
+            method: repr.method,
+            combine: repr.combine,
+            parameters: repr.parameters,
+        };
+        spec.validate(EMBEDDED_LABEL)?;
+        Ok(spec)
+    }
 }
 
 impl ResolvedSpec {
     /// Reads a spec file and the model it names (relative to the spec's folder), checks
-    /// both and resolves every value.
+    /// both and resolves every value. Both files are read within
+    /// [`crate::input::MAX_TEXT_BYTES`].
     ///
     /// # Errors
     /// [`SpecError`] naming the file, the field, the value and what was expected.
     pub fn load(path: &Path) -> Result<Self, SpecError> {
         let file = path.display().to_string();
-        let text = std::fs::read_to_string(path).map_err(|source| SpecError::Read {
-            file: file.clone(),
-            cause: source,
-        })?;
+        let text = read_text(path, MAX_TEXT_BYTES, "sweep spec")?;
         let directory = path.parent().unwrap_or(Path::new(""));
         Self::parse(&text, &file, |model| {
             let model_path = directory.join(model);
             let label = model_path.display().to_string();
-            let text = std::fs::read_to_string(&model_path).map_err(|cause| ModelError::Read {
-                file: label.clone(),
-                cause,
-            })?;
-            Ok((parse_model_value(&text, &label)?, label))
+            Ok((load_model_value(&model_path)?, label))
         })
     }
 
@@ -227,18 +280,30 @@ impl ResolvedSpec {
         file: &str,
         read_model: impl FnOnce(&str) -> Result<(Value, String), ModelError>,
     ) -> Result<Self, SpecError> {
-        let value: Value = serde_json::from_str(text).map_err(|error| SpecError::Syntax {
-            file: file.to_string(),
-            line: error.line(),
-            column: error.column(),
-            message: strip_position(&error.to_string()),
-        })?;
+        let value: Value =
+            serde_json::from_str(strip_bom(text)).map_err(|error| SpecError::Syntax {
+                file: file.to_string(),
+                line: error.line(),
+                column: error.column(),
+                message: plain_message(&error.to_string()),
+            })?;
+        // serde would read a list as the fields in order; a spec is an object.
+        if !value.is_object() {
+            return Err(SpecError::Schema {
+                file: file.to_string(),
+                field: ".".into(),
+                message: format!(
+                    "{}: expected a sweep spec, an object such as {{\"model\": \"m.json\", \"parameters\": [...]}}",
+                    crate::input::json_kind(&value)
+                ),
+            });
+        }
         let spec: SpecFile = serde_path_to_error::deserialize(&value).map_err(|error| {
             let field = error.path().to_string();
             SpecError::Schema {
                 file: file.to_string(),
                 field: if field.is_empty() { ".".into() } else { field },
-                message: strip_position(&error.into_inner().to_string()),
+                message: plain_message(&error.into_inner().to_string()),
             }
         })?;
         let invalid = |field: String, value: String, expected: &str| SpecError::Invalid {
@@ -247,62 +312,19 @@ impl ResolvedSpec {
             value,
             expected: expected.to_string(),
         };
-        let photons = spec.photons.unwrap_or(10_000);
-        if photons == 0 {
-            return Err(invalid("photons".into(), "0".into(), "a whole number >= 1"));
-        }
-        let max_steps = spec.max_steps.unwrap_or(WalkLimits::default().max_steps);
-        if max_steps == 0 {
-            return Err(invalid(
-                "max_steps".into(),
-                "0".into(),
-                "a whole number >= 1",
-            ));
-        }
-        if spec.parameters.is_empty() {
-            return Err(invalid(
-                "parameters".into(),
-                "[]".into(),
-                "at least one parameter ({\"path\": ..., \"values\"|\"linear\"|\"log\": ...})",
-            ));
-        }
         let mut parameters = Vec::with_capacity(spec.parameters.len());
         for (index, parameter) in spec.parameters.iter().enumerate() {
             let field = format!("parameters[{index}]");
-            let path: JsonPath = parameter.path.parse().map_err(|source| SpecError::Path {
-                file: file.to_string(),
-                field: format!("{field}.path"),
-                cause: source,
-            })?;
-            if parameters
-                .iter()
-                .any(|p: &ResolvedParameter| p.path == path.as_str())
-            {
-                return Err(invalid(
-                    format!("{field}.path"),
-                    format!("{:?}", path.as_str()),
-                    "a path not already varied by an earlier parameter",
-                ));
-            }
             let values = match (&parameter.values, &parameter.linear, &parameter.log) {
-                (Some(values), None, None) => {
-                    if values.is_empty() {
-                        return Err(invalid(
-                            format!("{field}.values"),
-                            "[]".into(),
-                            "a non-empty list of values",
-                        ));
-                    }
-                    values.clone()
-                }
+                (Some(values), None, None) => values.clone(),
                 (None, Some(range), None) => {
                     spaced(range, false).map_err(|(what, value, expected)| {
-                        invalid(format!("{field}.linear.{what}"), value, expected)
+                        invalid(format!("{field}.linear.{what}"), value, &expected)
                     })?
                 }
                 (None, None, Some(range)) => {
                     spaced(range, true).map_err(|(what, value, expected)| {
-                        invalid(format!("{field}.log.{what}"), value, expected)
+                        invalid(format!("{field}.log.{what}"), value, &expected)
                     })?
                 }
                 _ => {
@@ -314,13 +336,101 @@ impl ResolvedSpec {
                 }
             };
             parameters.push(ResolvedParameter {
-                path: path.as_str().to_string(),
+                path: parameter.path.clone(),
                 values,
             });
         }
-        if spec.combine == Combine::Zip {
-            let first = parameters[0].values.len();
-            if let Some((index, other)) = parameters
+        let mut resolved = Self {
+            model_file: String::new(),
+            model: Value::Null,
+            photons: spec.photons.unwrap_or(10_000),
+            seed: spec.seed.unwrap_or(1),
+            max_steps: spec.max_steps.unwrap_or(WalkLimits::default().max_steps),
+            method: spec.method.unwrap_or_default(),
+            combine: spec.combine,
+            parameters,
+        };
+        // Everything but the model first: a bad count is refused before any file is read.
+        resolved.validate_settings(file)?;
+        let (model, model_label) = read_model(&spec.model).map_err(|source| SpecError::Model {
+            file: file.to_string(),
+            cause: Box::new(source),
+        })?;
+        resolved.model = model;
+        resolved.model_file = model_label;
+        resolved.validate_model(file)?;
+        Ok(resolved)
+    }
+
+    /// Every check of [`ResolvedSpec::parse`]; `file` labels errors.
+    fn validate(&self, file: &str) -> Result<(), SpecError> {
+        self.validate_settings(file)?;
+        self.validate_model(file)
+    }
+
+    /// The checks that need no model: counts, paths, list lengths, the number of points.
+    fn validate_settings(&self, file: &str) -> Result<(), SpecError> {
+        let invalid = |field: String, value: String, expected: &str| SpecError::Invalid {
+            file: file.to_string(),
+            field,
+            value,
+            expected: expected.to_string(),
+        };
+        if self.photons == 0 {
+            return Err(invalid("photons".into(), "0".into(), "a whole number >= 1"));
+        }
+        if self.max_steps == 0 {
+            return Err(invalid(
+                "max_steps".into(),
+                "0".into(),
+                "a whole number >= 1",
+            ));
+        }
+        if self.parameters.is_empty() {
+            return Err(invalid(
+                "parameters".into(),
+                "[]".into(),
+                "at least one parameter ({\"path\": ..., \"values\"|\"linear\"|\"log\": ...})",
+            ));
+        }
+        for (index, parameter) in self.parameters.iter().enumerate() {
+            let field = format!("parameters[{index}]");
+            let path: JsonPath = parameter.path.parse().map_err(|source| SpecError::Path {
+                file: file.to_string(),
+                field: format!("{field}.path"),
+                cause: source,
+            })?;
+            if self.parameters[..index]
+                .iter()
+                .any(|p| p.path == path.as_str())
+            {
+                return Err(invalid(
+                    format!("{field}.path"),
+                    format!("{:?}", path.as_str()),
+                    "a path not already varied by an earlier parameter",
+                ));
+            }
+            if parameter.values.is_empty() {
+                return Err(invalid(
+                    format!("{field}.values"),
+                    "[]".into(),
+                    "a non-empty list of values",
+                ));
+            }
+            if parameter.values.len() as u64 > MAX_SWEEP_POINTS {
+                return Err(invalid(
+                    format!("{field}.values"),
+                    format!("{} values", parameter.values.len()),
+                    &format!(
+                        "at most {MAX_SWEEP_POINTS} values (a sweep has at most {MAX_SWEEP_POINTS} points)"
+                    ),
+                ));
+            }
+        }
+        if self.combine == Combine::Zip {
+            let first = self.parameters[0].values.len();
+            if let Some((index, other)) = self
+                .parameters
                 .iter()
                 .enumerate()
                 .find(|(_, p)| p.values.len() != first)
@@ -334,27 +444,90 @@ impl ResolvedSpec {
                 ));
             }
         }
-        let (model, model_label) = read_model(&spec.model).map_err(|source| SpecError::Model {
-            file: file.to_string(),
-            cause: Box::new(source),
-        })?;
-        model_from_value(&model, &model_label).map_err(|source| SpecError::Model {
-            file: file.to_string(),
-            cause: Box::new(source),
-        })?;
-        for (index, parameter) in parameters.iter().enumerate() {
-            check_against_model(&model, parameter, index, file)?;
+        let points = self
+            .parameters
+            .iter()
+            .try_fold(1u64, |product, p| match self.combine {
+                Combine::Grid => product.checked_mul(p.values.len() as u64),
+                Combine::Zip => Some(p.values.len() as u64),
+            });
+        match points {
+            Some(points) if points <= MAX_SWEEP_POINTS => Ok(()),
+            _ => Err(invalid(
+                "parameters".into(),
+                match points {
+                    Some(points) => format!("{points} points"),
+                    None => "more than 2^64 points".into(),
+                },
+                &format!(
+                    "at most {MAX_SWEEP_POINTS} points (a grid has the product of the value counts; split the study into several sweeps)"
+                ),
+            )),
         }
-        Ok(Self {
-            model_file: model_label,
-            model,
-            photons,
-            seed: spec.seed.unwrap_or(1),
-            max_steps,
-            method: spec.method.unwrap_or_default(),
-            combine: spec.combine,
-            parameters,
-        })
+    }
+
+    /// The checks against the base model: it builds, and every path leads into it with
+    /// values of the kind it replaces.
+    fn validate_model(&self, file: &str) -> Result<(), SpecError> {
+        model_from_value(&self.model, &self.model_file).map_err(|source| SpecError::Model {
+            file: file.to_string(),
+            cause: Box::new(source),
+        })?;
+        for (index, parameter) in self.parameters.iter().enumerate() {
+            check_against_model(&self.model, parameter, index, file)?;
+        }
+        Ok(())
+    }
+
+    /// The model file as the spec names it (a label only; not part of the hash).
+    pub fn model_file(&self) -> &str {
+        &self.model_file
+    }
+
+    /// The base model's JSON.
+    pub fn model(&self) -> &Value {
+        &self.model
+    }
+
+    /// Photons per point.
+    pub fn photons(&self) -> u64 {
+        self.photons
+    }
+
+    /// Seed of the random streams (the stream of point i is i).
+    pub fn seed(&self) -> u64 {
+        self.seed
+    }
+
+    /// Step cap per photon.
+    pub fn max_steps(&self) -> u64 {
+        self.max_steps
+    }
+
+    /// Walk method (default `auto`).
+    pub fn method(&self) -> Method {
+        self.method
+    }
+
+    /// How parameters combine.
+    pub fn combine(&self) -> Combine {
+        self.combine
+    }
+
+    /// The parameters, in order.
+    pub fn parameters(&self) -> &[ResolvedParameter] {
+        &self.parameters
+    }
+
+    /// Whether `other` is the same sweep, whatever its model label.
+    pub fn same_sweep(&self, other: &ResolvedSpec) -> bool {
+        ResolvedSpec {
+            model_file: String::new(),
+            ..self.clone()
+        } == ResolvedSpec {
+            model_file: String::new(),
+            ..other.clone()
+        }
     }
 
     /// The identity of the sweep: the fingerprint of everything that decides its results
@@ -373,7 +546,7 @@ impl ResolvedSpec {
         }))
     }
 
-    /// Number of points.
+    /// Number of points (at most [`MAX_SWEEP_POINTS`]).
     pub fn point_count(&self) -> u64 {
         match self.combine {
             Combine::Grid => self
@@ -386,7 +559,15 @@ impl ResolvedSpec {
     }
 
     /// The parameter values of point `index`, as `(path, value)` pairs.
+    ///
+    /// # Panics
+    /// If `index` is not below [`ResolvedSpec::point_count`].
     pub fn settings(&self, index: u64) -> Vec<(String, Value)> {
+        assert!(
+            index < self.point_count(),
+            "point {index} of {}",
+            self.point_count()
+        );
         let mut rest = index;
         let mut chosen = vec![0usize; self.parameters.len()];
         match self.combine {
@@ -419,10 +600,14 @@ impl ResolvedSpec {
         for index in 0..self.point_count() {
             let settings = self.settings(index);
             let mut model = self.model.clone();
-            for (path, value) in &settings {
-                let path: JsonPath = path.parse().expect("checked at load");
-                path.set(&mut model, value.clone())
-                    .expect("checked against the model at load");
+            for (field, (path, value)) in settings.iter().enumerate() {
+                path.parse::<JsonPath>()
+                    .and_then(|path| path.set(&mut model, value.clone()))
+                    .map_err(|cause| SpecError::Path {
+                        file: spec_file.to_string(),
+                        field: format!("parameters[{field}].path"),
+                        cause,
+                    })?;
             }
             let medium =
                 model_from_value(&model, &self.model_file).map_err(|source| SpecError::Point {
@@ -443,19 +628,23 @@ impl ResolvedSpec {
 
 /// Evenly spaced values of a range (in log for `log`), both ends included exactly.
 /// Errors are (field, value, expected).
-fn spaced(
-    range: &RangeFile,
-    log: bool,
-) -> Result<Vec<Value>, (&'static str, String, &'static str)> {
+fn spaced(range: &RangeFile, log: bool) -> Result<Vec<Value>, (&'static str, String, String)> {
     if range.count < 1 {
         return Err((
             "count",
             range.count.to_string(),
             if range.count < 0 {
-                "a whole number >= 1 (a count cannot be negative)"
+                "a whole number >= 1 (a count cannot be negative)".into()
             } else {
-                "a whole number >= 1 (an empty range gives no points)"
+                "a whole number >= 1 (an empty range gives no points)".into()
             },
+        ));
+    }
+    if range.count as u64 > MAX_SWEEP_POINTS {
+        return Err((
+            "count",
+            range.count.to_string(),
+            format!("at most {MAX_SWEEP_POINTS} (a sweep has at most {MAX_SWEEP_POINTS} points)"),
         ));
     }
     let check = |name, value: f64| {
@@ -464,9 +653,9 @@ fn spaced(
                 name,
                 value.to_string(),
                 if log {
-                    "a finite number > 0 (log spacing)"
+                    "a finite number > 0 (log spacing)".into()
                 } else {
-                    "a finite number"
+                    "a finite number".into()
                 },
             ))
         } else {
@@ -539,14 +728,6 @@ fn check_against_model(
     Ok(())
 }
 
-/// serde_json appends " at line L column C"; the position is reported separately.
-fn strip_position(message: &str) -> String {
-    match message.rfind(" at line ") {
-        Some(index) => message[..index].to_string(),
-        None => message.to_string(),
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -568,11 +749,11 @@ mod tests {
         )
         .unwrap();
         assert_eq!(
-            spec.parameters[0].values,
+            spec.parameters()[0].values(),
             vec![json!(1.0), json!(10.000000000000002), json!(100.0)]
         );
         assert_eq!(
-            spec.parameters[1].values,
+            spec.parameters()[1].values(),
             vec![json!(0.5), json!(0.75), json!(1.0)]
         );
         assert_eq!(spec.point_count(), 9);

@@ -221,7 +221,7 @@ impl RadialChain {
             .collect();
         let built: Vec<(usize, usize, PassageCell)> = specs
             .par_iter()
-            .map(|(segment, k, spec)| (*segment, *k, PassageCell::new(spec)))
+            .filter_map(|(segment, k, spec)| Some((*segment, *k, PassageCell::new(spec)?)))
             .collect();
         let mut segments: Vec<Segment> = layout
             .segments

@@ -99,12 +99,14 @@ pub(super) struct PassageCell {
 }
 
 impl PassageCell {
-    /// Builds the tables of one cell.
+    /// Builds the tables of one cell; `None` where they cannot be computed in floating point
+    /// (the eigen-decomposition does not converge, e.g. for optical-depth contrasts near
+    /// 10¹⁷ within a cell): photons then take direct steps there.
     ///
     /// # Panics
     /// If the spec is inconsistent (radii out of order, pieces not covering the interval,
     /// a piece with D ≤ 0): the caller builds specs only from validated media.
-    pub(super) fn new(spec: &CellSpec) -> Self {
+    pub(super) fn new(spec: &CellSpec) -> Option<Self> {
         let grid = grid_points(spec);
         let centre = spec.inner_exit.is_none();
         let n = grid.len() - 1; // grid intervals; unknowns are points 1..n−1
@@ -203,7 +205,7 @@ impl PassageCell {
                 );
             }
         }
-        symmetric_tridiagonal_eigen(&mut diagonal, &mut off, &mut rows);
+        symmetric_tridiagonal_eigen(&mut diagonal, &mut off, &mut rows).ok()?;
         let rates = diagonal;
         let tail_rate = rates[0];
         // Time grid: from where every start's CDF is below e^-30 to 30/λ₁.
@@ -224,7 +226,12 @@ impl PassageCell {
             .fold(f64::INFINITY, f64::min);
         let t_low = nearest * nearest / 120.0;
         let t_high = 30.0 / tail_rate;
-        let points = ((t_high / t_low).log10() * POINTS_PER_DECADE).ceil() as usize + 1;
+        let decades = (t_high / t_low).log10();
+        // A time grid more than 300 decades wide (or not a number) cannot be tabulated.
+        if !decades.is_finite() || decades <= 0.0 || decades >= 300.0 {
+            return None;
+        }
+        let points = (decades * POINTS_PER_DECADE).ceil() as usize + 1;
         let step = (t_high / t_low).ln() / (points - 1) as f64;
         let ln_time: Vec<f64> = (0..points).map(|m| t_low.ln() + m as f64 * step).collect();
         // e^(−λ_n t_m), row m contiguous over the modes that have not yet decayed below
@@ -288,7 +295,7 @@ impl PassageCell {
             }
         }
         let centre_piece = spec.pieces.first().filter(|_| centre);
-        Self {
+        Some(Self {
             inner_exit_cm: spec.inner_exit.map(|(radius, _)| radius),
             outer_exit_cm: spec.outer_exit.0,
             start_cm: starts.iter().map(|&j| grid[j]).collect(),
@@ -303,7 +310,7 @@ impl PassageCell {
             centre_diffusion: centre_piece.map(|p| p.diffusion),
             centre_rates: centre_piece
                 .map_or((0.0, 0.0), |p| (p.scattering_rate, p.absorption_rate)),
-        }
+        })
     }
 
     /// The inner exit radius (None at the centre) and the outer one, cm.
@@ -513,7 +520,7 @@ mod tests {
             start: (0.0, 0.5),
             outer_exit: (1.0, 1.0),
         };
-        let cell = PassageCell::new(&spec);
+        let cell = PassageCell::new(&spec).unwrap();
         for (k, &r) in cell.start_radii().iter().enumerate() {
             let exact = (1.0 - r * r) / 6.0;
             let got = cell.mean_time_s(k, true);
@@ -544,7 +551,7 @@ mod tests {
             start: (1.6, 2.2),
             outer_exit: (b, b),
         };
-        let cell = PassageCell::new(&spec);
+        let cell = PassageCell::new(&spec).unwrap();
         let big_b = -(b * b - a * a) / (1.0 / a - 1.0 / b);
         let big_a = a * a - big_b / a;
         for (k, &r) in cell.start_radii().iter().enumerate() {

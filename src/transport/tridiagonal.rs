@@ -20,14 +20,19 @@
 /// along the eigenvector of eigenvalue j. Pass a row of the identity to read an
 /// eigenvector's components at one index.
 ///
+/// # Errors
+/// [`NotConverged`] if an entry is not finite, or the iteration does not converge in 60 n
+/// sweeps (which the Wilkinson shift makes practically impossible for a finite symmetric
+/// matrix whose entries stay clear of overflow and underflow); the slices then hold
+/// intermediate values.
+///
 /// # Panics
-/// If the lengths do not match, or the iteration does not converge in 60 n sweeps (which
-/// the Wilkinson shift makes practically impossible for a finite symmetric matrix).
+/// If the lengths do not match.
 pub fn symmetric_tridiagonal_eigen(
     diagonal: &mut [f64],
     off_diagonal: &mut [f64],
     rows: &mut [Vec<f64>],
-) {
+) -> Result<(), NotConverged> {
     let n = diagonal.len();
     assert!(
         n == 0 || off_diagonal.len() == n - 1,
@@ -37,8 +42,15 @@ pub fn symmetric_tridiagonal_eigen(
         rows.iter().all(|row| row.len() == n),
         "rows must have length n"
     );
+    if !diagonal
+        .iter()
+        .chain(off_diagonal.iter())
+        .all(|x| x.is_finite())
+    {
+        return Err(NotConverged);
+    }
     if n <= 1 {
-        return;
+        return Ok(());
     }
     let mut hi = n - 1;
     let mut sweeps = 0usize;
@@ -53,7 +65,9 @@ pub fn symmetric_tridiagonal_eigen(
             lo -= 1;
         }
         sweeps += 1;
-        assert!(sweeps <= 60 * n, "symmetric QR did not converge");
+        if sweeps > 60 * n {
+            return Err(NotConverged);
+        }
         qr_step(diagonal, off_diagonal, rows, lo, hi);
     }
     // Sort eigenvalues ascending, permuting the columns of every row alike.
@@ -65,7 +79,12 @@ pub fn symmetric_tridiagonal_eigen(
         let permuted: Vec<f64> = order.iter().map(|&k| row[k]).collect();
         row.copy_from_slice(&permuted);
     }
+    Ok(())
 }
+
+/// The symmetric QR iteration did not converge (or was given a value that is not finite).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct NotConverged;
 
 /// Whether the off-diagonal entry `e` between diagonal entries `a` and `b` is below
 /// rounding: |e| ≤ ε (|a| + |b|).
@@ -156,7 +175,7 @@ mod tests {
         let mut rows: Vec<Vec<f64>> = (0..n)
             .map(|i| (0..n).map(|j| if i == j { 1.0 } else { 0.0 }).collect())
             .collect();
-        symmetric_tridiagonal_eigen(&mut values, &mut off, &mut rows);
+        symmetric_tridiagonal_eigen(&mut values, &mut off, &mut rows).unwrap();
         let scale = expected.iter().fold(0.0f64, |m, v| m.max(v.abs()));
         for (got, want) in values.iter().zip(&expected) {
             assert!((got - want).abs() < 1e-12 * scale, "{got} vs {want}");
@@ -184,7 +203,7 @@ mod tests {
             .collect();
         rows.push(w.clone());
         let (mut values, mut off) = (d, e);
-        symmetric_tridiagonal_eigen(&mut values, &mut off, &mut rows);
+        symmetric_tridiagonal_eigen(&mut values, &mut off, &mut rows).unwrap();
         for (j, expected) in rows[5].iter().enumerate() {
             let direct: f64 = rows[..5].iter().zip(&w).map(|(row, wi)| wi * row[j]).sum();
             assert!((direct - expected).abs() < 1e-13);

@@ -16,7 +16,13 @@ use std::path::{Path, PathBuf};
 
 /// The library's top-level modules, lowest layer first.
 const LAYERS: &[&[&str]] = &[
-    &["units", "fingerprint", "atomic_write", "file_format"],
+    &[
+        "units",
+        "fingerprint",
+        "atomic_write",
+        "file_format",
+        "input",
+    ],
     &["opacity"],
     &["medium"],
     &["tally", "star"],

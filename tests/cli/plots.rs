@@ -101,7 +101,10 @@ fn unwritable_plot_directory_is_an_error() {
         .unwrap();
     assert!(!output.status.success());
     let stderr = String::from_utf8_lossy(&output.stderr);
-    assert!(stderr.contains("figure directory"), "{stderr}");
+    assert!(
+        stderr.contains("--plot") && stderr.contains("not a folder"),
+        "{stderr}"
+    );
 }
 
 /// The `.svg` files in `directory`, sorted, each parsed as XML.

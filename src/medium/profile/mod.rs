@@ -27,6 +27,7 @@ use serde::de::{self, Deserializer, SeqAccess, Visitor};
 use serde::{Deserialize, Serialize, Serializer};
 
 use super::error::{MediumError, Quantity};
+use crate::input::MAX_PROFILE_ROWS;
 use crate::opacity::{OpacityLaw, OpacitySpec, OpacityTable, OutsidePolicy, TableOpacity};
 
 /// One column of values: the same for every row, or one per row.
@@ -263,6 +264,16 @@ impl ProfileTable {
             return Err(invalid(
                 "radius",
                 format!("{rows} row(s): a profile needs at least 2 rows"),
+            ));
+        }
+        if rows > MAX_PROFILE_ROWS {
+            return Err(invalid(
+                "radius",
+                format!(
+                    "{rows} rows: a profile may have at most {MAX_PROFILE_ROWS} rows (the \
+                     README's *Limits*); thin the table out, its sub-shells follow the \
+                     extinction to the tolerance anyway"
+                ),
             ));
         }
         check_values(

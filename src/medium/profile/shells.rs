@@ -783,6 +783,24 @@ impl ProfileTable {
                 ),
             ));
         };
+        // A row at 0 K inside the star: the law's T^-3.5 (or a table's edge) has no value
+        // there, and interpolation towards it makes the extinction blow up between rows.
+        if range.min_k > 0.0
+            && let Some(row) = (0..top_row).find(|&row| temperature[row] <= 0.0)
+        {
+            return Err(MediumError::value(
+                format!("temperature[{row}]"),
+                temperature[row],
+                Quantity::Dimensionless,
+                format!(
+                    "a temperature above 0 K: the medium keeps every row up to row {top_row}, the \
+                     outermost at or above {} K (the lower limit of the opacity), and the opacity \
+                     has no value at 0 K; only rows beyond it, which the surface cut drops, may \
+                     be 0 K",
+                    range.min_k
+                ),
+            ));
+        }
         let cold_inside: Vec<usize> = (0..top_row)
             .filter(|&row| temperature[row] < range.min_k)
             .collect();
