@@ -99,10 +99,9 @@ fn main() {
     );
     println!("|---|---|---|---|---|---|---|");
     for epsilon in [0.03, 0.1, 0.3, 1.0] {
-        let acceleration = Acceleration {
-            epsilon,
-            ..Acceleration::default()
-        };
+        let acceleration = Acceleration::default()
+            .with_epsilon(epsilon)
+            .expect("valid ε");
         let fast = tally(&steep, photons, 2, Method::Accelerated, acceleration);
         let escapes = fast.all_escapes();
         let (t, ts) = ratio(escapes.time_s(), reference.time_s());
@@ -149,11 +148,8 @@ fn main() {
     println!("|---|---|---|---|---|---|");
     for epsilon in [0.4, 0.2, 0.1] {
         for drift_correction in [false, true] {
-            let acceleration = Acceleration {
-                gamma: 10.0,
-                epsilon,
-                drift_correction,
-            };
+            let acceleration =
+                Acceleration::new(10.0, epsilon, drift_correction).expect("valid γ and ε");
             let fast = tally(&slab, slab_photons, 3, Method::Accelerated, acceleration);
             let escapes = fast.all_escapes();
             let time = escapes.time_s().mean().unwrap() / diffusion.mean_time_extrapolated_s;

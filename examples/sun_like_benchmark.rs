@@ -27,10 +27,14 @@ fn main() {
     let photons: u64 = args.next().and_then(|a| a.parse().ok()).unwrap_or(10_000);
     let mut acceleration = Acceleration::default();
     if let Some(gamma) = args.next().and_then(|a| a.parse().ok()) {
-        acceleration.gamma = gamma;
+        acceleration = acceleration
+            .with_gamma(gamma)
+            .expect("GAMMA: a positive number");
     }
     if let Some(epsilon) = args.next().and_then(|a| a.parse().ok()) {
-        acceleration.epsilon = epsilon;
+        acceleration = acceleration
+            .with_epsilon(epsilon)
+            .expect("EPSILON: a positive number");
     }
     let medium = load_model(std::path::Path::new("models/veyra-n3-sun-like.json"))
         .expect("the demo model loads");

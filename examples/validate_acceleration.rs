@@ -109,10 +109,14 @@ fn main() {
         .map(|a| a.split(',').filter_map(|c| c.parse().ok()).collect());
     let mut acceleration = Acceleration::default();
     if let Some(gamma) = args.next().and_then(|a| a.parse().ok()) {
-        acceleration.gamma = gamma;
+        acceleration = acceleration
+            .with_gamma(gamma)
+            .expect("GAMMA: a positive number");
     }
     if let Some(epsilon) = args.next().and_then(|a| a.parse().ok()) {
-        acceleration.epsilon = epsilon;
+        acceleration = acceleration
+            .with_epsilon(epsilon)
+            .expect("EPSILON: a positive number");
     }
     let accelerated_photons: u64 = args.next().and_then(|a| a.parse().ok()).unwrap_or(photons);
     let cases: Vec<(&str, MediumBuilder)> = vec![
@@ -161,7 +165,8 @@ fn main() {
     }
     eprintln!(
         "{photons} direct and {accelerated_photons} accelerated photons, seeds 1 and 2; γ = {}, ε = {}",
-        acceleration.gamma, acceleration.epsilon
+        acceleration.gamma(),
+        acceleration.epsilon()
     );
     println!(
         "| model | time accelerated / direct | scatterings accelerated / direct | KS distance | KS p-value | steps per photon direct → accelerated |"

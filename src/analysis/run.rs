@@ -397,9 +397,9 @@ impl WalkSummary {
         Self {
             method_used: plan.method.name().to_string(),
             method_reason: plan.reason,
-            gamma: accelerated.then_some(config.acceleration.gamma),
-            epsilon: accelerated.then_some(config.acceleration.epsilon),
-            drift_correction: accelerated.then_some(config.acceleration.drift_correction),
+            gamma: accelerated.then_some(config.acceleration.gamma()),
+            epsilon: accelerated.then_some(config.acceleration.epsilon()),
+            drift_correction: accelerated.then_some(config.acceleration.drift_correction()),
             jumps_per_photon: walk.jumps.value() / launched,
             direct_steps_per_photon: walk.direct_steps.value() / launched,
             jump_time_fraction: if total_time > 0.0 {

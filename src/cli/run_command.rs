@@ -47,11 +47,11 @@ pub struct RunArgs {
     method: MethodArg,
     /// Accelerated walk: smallest jump, in transport mean free paths (a jump starts at least
     /// GAMMA from where it can end, and never within GAMMA of a surface or interface).
-    #[arg(long, default_value_t = Acceleration::default().gamma, value_parser = positive_number)]
+    #[arg(long, default_value_t = Acceleration::default().gamma(), value_parser = positive_number)]
     gamma: f64,
     /// Accelerated walk: gradient tolerance; jumps only where the transport mean free path
     /// changes by at most EPSILON (relative) over GAMMA mean free paths.
-    #[arg(long, default_value_t = Acceleration::default().epsilon, value_parser = positive_number)]
+    #[arg(long, default_value_t = Acceleration::default().epsilon(), value_parser = positive_number)]
     epsilon: f64,
     /// Accelerated walk: do not tilt jump exits along the gradient of the diffusion
     /// coefficient (for measuring the drift bias only).
@@ -204,11 +204,8 @@ pub fn execute(args: RunArgs) -> Result<()> {
             max_steps: args.max_steps,
         },
         method: args.method.into(),
-        acceleration: Acceleration {
-            gamma: args.gamma,
-            epsilon: args.epsilon,
-            drift_correction: !args.no_drift_correction,
-        },
+        acceleration: Acceleration::new(args.gamma, args.epsilon, !args.no_drift_correction)
+            .context("--gamma and --epsilon")?,
         resolved,
         ..RunConfig::default()
     };

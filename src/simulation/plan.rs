@@ -144,7 +144,7 @@ pub fn plan(medium: &Medium, config: &RunConfig) -> WalkPlan {
     let cost = WalkCost::new(medium, &config.acceleration);
     let direct = cost.direct_flights_per_photon;
     let accelerated = cost.accelerated_steps_per_photon;
-    let gamma = config.acceleration.gamma;
+    let gamma = config.acceleration.gamma();
     let (method, reason) = match config.method {
         Method::Direct => (
             Method::Direct,

@@ -21,22 +21,110 @@ use super::direct::{DirectWalker, JumpSites, Photon, Stop, WalkLimits};
 use super::direction;
 use super::jump_spheres::{JumpOutcome, LocalJumps, LocalSettings};
 use super::radial_chain::{ChainSettings, RadialChain};
-use crate::medium::{Geometry, Medium};
+use crate::medium::{Geometry, Medium, MediumError, Quantity};
 use crate::tally::{Outcome, PhotonRecord};
 
-/// Parameters of the accelerated walk.
+/// Parameters of the accelerated walk, always valid: γ and ε are finite and positive. The
+/// fields are private; [`Acceleration::new`] checks them, and so does deserialisation (a
+/// shard, checkpoint or sweep file cannot smuggle in a bad value).
+///
+/// ```
+/// use sojourn::transport::Acceleration;
+/// assert!(Acceleration::new(0.0, 0.1, true).is_err());
+/// assert!(Acceleration::new(10.0, f64::NAN, true).is_err());
+/// assert_eq!(Acceleration::new(5.0, 0.2, false).unwrap().gamma(), 5.0);
+/// ```
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(try_from = "AccelerationFields")]
 pub struct Acceleration {
+    gamma: f64,
+    epsilon: f64,
+    drift_correction: bool,
+}
+
+/// The serialised form of [`Acceleration`], checked by [`Acceleration::new`] on the way in.
+#[derive(serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+struct AccelerationFields {
+    gamma: f64,
+    epsilon: f64,
+    drift_correction: bool,
+}
+
+impl TryFrom<AccelerationFields> for Acceleration {
+    type Error = MediumError;
+
+    fn try_from(fields: AccelerationFields) -> Result<Self, Self::Error> {
+        Acceleration::new(fields.gamma, fields.epsilon, fields.drift_correction)
+    }
+}
+
+impl Acceleration {
+    /// Checked parameters: `gamma` (smallest jump, transport mean free paths) and
+    /// `epsilon` (gradient tolerance, relative) finite and positive.
+    ///
+    /// # Errors
+    /// [`MediumError::InvalidValue`] naming `gamma` or `epsilon`.
+    pub fn new(gamma: f64, epsilon: f64, drift_correction: bool) -> Result<Self, MediumError> {
+        for (name, value) in [("gamma", gamma), ("epsilon", epsilon)] {
+            if !(value.is_finite() && value > 0.0) {
+                return Err(MediumError::value(
+                    name,
+                    value,
+                    Quantity::Dimensionless,
+                    "a finite positive number",
+                ));
+            }
+        }
+        Ok(Self {
+            gamma,
+            epsilon,
+            drift_correction,
+        })
+    }
+
     /// Smallest size of a jump, in transport mean free paths: a passage starts at least γ
     /// from where it can end (spheres), a local jump has R₀ ≥ γ l_tr (slabs).
-    pub gamma: f64,
+    pub fn gamma(&self) -> f64 {
+        self.gamma
+    }
+
     /// Gradient tolerance: diffusion passages only where l_tr changes by at most ε over γ
     /// transport mean free paths (spheres); local jumps only where l_tr stays within a
     /// relative ε of its value at the centre (slabs).
-    pub epsilon: f64,
-    /// Tilt local jump exits along ∇D (first-order drift correction; slabs with smooth
-    /// profiles only — radial passages are exact in D(r)).
-    pub drift_correction: bool,
+    pub fn epsilon(&self) -> f64 {
+        self.epsilon
+    }
+
+    /// Whether local jump exits are tilted along ∇D (first-order drift correction; slabs
+    /// with smooth profiles only — radial passages are exact in D(r)).
+    pub fn drift_correction(&self) -> bool {
+        self.drift_correction
+    }
+
+    /// The same parameters with γ replaced (checked).
+    ///
+    /// # Errors
+    /// As [`Acceleration::new`].
+    pub fn with_gamma(self, gamma: f64) -> Result<Self, MediumError> {
+        Self::new(gamma, self.epsilon, self.drift_correction)
+    }
+
+    /// The same parameters with ε replaced (checked).
+    ///
+    /// # Errors
+    /// As [`Acceleration::new`].
+    pub fn with_epsilon(self, epsilon: f64) -> Result<Self, MediumError> {
+        Self::new(self.gamma, epsilon, self.drift_correction)
+    }
+
+    /// The same parameters with the drift correction switched on or off.
+    pub fn with_drift_correction(self, drift_correction: bool) -> Self {
+        Self {
+            drift_correction,
+            ..self
+        }
+    }
 }
 
 impl Default for Acceleration {
@@ -239,5 +327,37 @@ impl Jumper for Radial<'_> {
             elapsed_s: passage.time_s,
             absorbed: false,
         })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::Acceleration;
+
+    #[test]
+    fn deserialised_parameters_are_checked_like_constructed_ones() {
+        let default = Acceleration::default();
+        let text = serde_json::to_string(&default).unwrap();
+        assert_eq!(
+            text,
+            r#"{"gamma":10.0,"epsilon":0.1,"drift_correction":true}"#
+        );
+        assert_eq!(
+            serde_json::from_str::<Acceleration>(&text).unwrap(),
+            default
+        );
+        for (bad, field) in [
+            (
+                r#"{"gamma":-1.0,"epsilon":0.1,"drift_correction":true}"#,
+                "gamma",
+            ),
+            (
+                r#"{"gamma":10.0,"epsilon":0.0,"drift_correction":true}"#,
+                "epsilon",
+            ),
+        ] {
+            let error = serde_json::from_str::<Acceleration>(bad).unwrap_err();
+            assert!(error.to_string().contains(field), "{error}");
+        }
     }
 }

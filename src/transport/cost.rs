@@ -132,8 +132,8 @@ fn sphere_direct_zones(medium: &Medium, settings: &Acceleration) -> (Vec<bool>, 
     let layout = ChainLayout::new(
         medium,
         ChainSettings {
-            gamma: settings.gamma,
-            epsilon: settings.epsilon,
+            gamma: settings.gamma(),
+            epsilon: settings.epsilon(),
         },
     );
     if layout.is_empty() {
@@ -228,9 +228,9 @@ fn slab_direct_zones(
     let local = LocalJumps::layout(
         medium,
         LocalSettings {
-            gamma: settings.gamma,
-            epsilon: settings.epsilon,
-            drift_correction: settings.drift_correction,
+            gamma: settings.gamma(),
+            epsilon: settings.epsilon(),
+            drift_correction: settings.drift_correction(),
         },
     );
     if local.is_empty() {
@@ -245,12 +245,12 @@ fn slab_direct_zones(
             let (a, b) = medium.layer_bounds_cm(index);
             let thickness = layer.transport_extinction_per_cm() * (b - a);
             let share = if thickness > 0.0 {
-                (2.0 * settings.gamma / thickness).min(1.0)
+                (2.0 * settings.gamma() / thickness).min(1.0)
             } else {
                 1.0
             };
             flights += scatterings[index] * share;
-            jumps += scatterings[index] * (1.0 - share) / (settings.gamma * settings.gamma);
+            jumps += scatterings[index] * (1.0 - share) / (settings.gamma() * settings.gamma());
             share > 0.0
         })
         .collect();

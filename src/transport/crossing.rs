@@ -112,7 +112,7 @@ impl CrossingLaw {
     pub fn for_phase(phase: &PhaseFunction) -> CrossingLaw {
         match *phase {
             PhaseFunction::Isotropic => CrossingLaw::isotropic().clone(),
-            PhaseFunction::HenyeyGreenstein { g } if g.abs() > 0.9 => {
+            PhaseFunction::HenyeyGreenstein(g) if g.value().abs() > 0.9 => {
                 CrossingLaw::isotropic().clone()
             }
             _ => {

@@ -200,7 +200,7 @@ mod tests {
         // With g > 0 the emergent intensity is more peaked towards the normal than for
         // isotropic scattering: u(0)/u(1) falls.
         let (_, isotropic) = emergent_intensity(&PhaseFunction::Isotropic);
-        let (_, forward) = emergent_intensity(&PhaseFunction::HenyeyGreenstein { g: 0.5 });
+        let (_, forward) = emergent_intensity(&PhaseFunction::henyey_greenstein(0.5).unwrap());
         assert!(
             forward[0] < isotropic[0],
             "{} vs {}",

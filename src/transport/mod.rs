@@ -19,4 +19,4 @@ mod tridiagonal;
 pub use accelerated::{AcceleratedWalker, Acceleration};
 pub use cost::{STALL_ULPS, Stall, WalkCost};
 pub use direct::{DirectWalker, WalkLimits};
-pub use phase::PhaseFunction;
+pub use phase::{Anisotropy, PhaseFunction};

@@ -4,6 +4,48 @@ use rand::{Rng, RngExt};
 
 use crate::medium::{MediumError, Quantity};
 
+/// The anisotropy g of a Henyey–Greenstein phase function: the mean cosine of the
+/// scattering angle (dimensionless), always strictly between −1 and 1. Its field is
+/// private, so [`Anisotropy::new`] (or [`PhaseFunction::henyey_greenstein`]) is the only
+/// way to build one, and an invalid g cannot exist:
+///
+/// ```compile_fail
+/// use sojourn::transport::{Anisotropy, PhaseFunction};
+/// let forward = PhaseFunction::HenyeyGreenstein(Anisotropy(1.5)); // private field
+/// ```
+///
+/// ```
+/// use sojourn::transport::{Anisotropy, PhaseFunction};
+/// assert!(Anisotropy::new(1.5).is_err());
+/// assert!(PhaseFunction::henyey_greenstein(1.5).is_err());
+/// assert_eq!(Anisotropy::new(0.8).unwrap().value(), 0.8);
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Anisotropy(f64);
+
+impl Anisotropy {
+    /// The anisotropy `g`, checked.
+    ///
+    /// # Errors
+    /// [`MediumError::InvalidValue`] for `g` outside (−1, 1) or NaN.
+    pub fn new(g: f64) -> Result<Self, MediumError> {
+        if g.is_nan() || g <= -1.0 || g >= 1.0 {
+            return Err(MediumError::value(
+                "g",
+                g,
+                Quantity::Dimensionless,
+                "an anisotropy strictly between -1 and 1",
+            ));
+        }
+        Ok(Self(g))
+    }
+
+    /// The mean cosine g, in (−1, 1).
+    pub fn value(self) -> f64 {
+        self.0
+    }
+}
+
 /// Angular distribution of single scattering, as a function of the cosine μ of the angle
 /// between the incoming and outgoing directions (azimuth uniform).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -12,10 +54,7 @@ pub enum PhaseFunction {
     Isotropic,
     /// Henyey & Greenstein (1941), ApJ 93:70:
     /// p(μ) = (1 − g²) / (2 (1 + g² − 2gμ)^{3/2}), mean cosine g, −1 < g < 1.
-    HenyeyGreenstein {
-        /// Anisotropy: the mean cosine of the scattering angle.
-        g: f64,
-    },
+    HenyeyGreenstein(Anisotropy),
     /// Rayleigh / Thomson dipole scattering of unpolarised light:
     /// p(μ) = (3/8)(1 + μ²) (Chandrasekhar 1950, Radiative Transfer, §17); ⟨μ²⟩ = 2/5.
     Rayleigh,
@@ -27,22 +66,14 @@ impl PhaseFunction {
     /// # Errors
     /// [`MediumError::InvalidValue`] for `g` outside (−1, 1) or NaN.
     pub fn henyey_greenstein(g: f64) -> Result<Self, MediumError> {
-        if g.is_nan() || g <= -1.0 || g >= 1.0 {
-            return Err(MediumError::value(
-                "g",
-                g,
-                Quantity::Dimensionless,
-                "an anisotropy strictly between -1 and 1",
-            ));
-        }
-        Ok(PhaseFunction::HenyeyGreenstein { g })
+        Anisotropy::new(g).map(PhaseFunction::HenyeyGreenstein)
     }
 
     /// Mean cosine of the scattering angle, ⟨μ⟩ (the anisotropy g).
     pub fn mean_cosine(&self) -> f64 {
         match *self {
             PhaseFunction::Isotropic | PhaseFunction::Rayleigh => 0.0,
-            PhaseFunction::HenyeyGreenstein { g } => g,
+            PhaseFunction::HenyeyGreenstein(g) => g.value(),
         }
     }
 
@@ -50,7 +81,8 @@ impl PhaseFunction {
     pub fn density(&self, mu: f64) -> f64 {
         match *self {
             PhaseFunction::Isotropic => 0.5,
-            PhaseFunction::HenyeyGreenstein { g } => {
+            PhaseFunction::HenyeyGreenstein(g) => {
+                let g = g.value();
                 (1.0 - g * g) / (2.0 * (1.0 + g * g - 2.0 * g * mu).powf(1.5))
             }
             PhaseFunction::Rayleigh => 0.375 * (1.0 + mu * mu),
@@ -63,7 +95,8 @@ impl PhaseFunction {
         let xi: f64 = rng.random();
         match *self {
             PhaseFunction::Isotropic => 2.0 * xi - 1.0,
-            PhaseFunction::HenyeyGreenstein { g } => {
+            PhaseFunction::HenyeyGreenstein(g) => {
+                let g = g.value();
                 if g.abs() < 1e-6 {
                     return 2.0 * xi - 1.0;
                 }
@@ -91,8 +124,8 @@ mod tests {
         for phase in [
             PhaseFunction::Isotropic,
             PhaseFunction::Rayleigh,
-            PhaseFunction::HenyeyGreenstein { g: 0.3 },
-            PhaseFunction::HenyeyGreenstein { g: -0.6 },
+            PhaseFunction::henyey_greenstein(0.3).unwrap(),
+            PhaseFunction::henyey_greenstein(-0.6).unwrap(),
         ] {
             let n = 200_000;
             let integral: f64 = (0..n)

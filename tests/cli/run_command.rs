@@ -364,3 +364,18 @@ fn labels_fit_the_source() {
     );
     assert!(!lit.contains("limb darkening"), "{lit}");
 }
+
+#[test]
+fn a_slab_of_index_four_gives_a_report() {
+    // Once a panic after the walk (a clamp with min > max in the slab diffusion estimate).
+    let directory = tempfile::tempdir().unwrap();
+    let model = directory.path().join("index-four.json");
+    std::fs::write(
+        &model,
+        r#"{"geometry":"slab","layers":[{"thickness":1,"extinction_coefficient":1,"refractive_index":4}]}"#,
+    )
+    .unwrap();
+    let report = run_json(&["run", model.to_str().unwrap(), "--photons", "200"]);
+    assert_eq!(report["photons"], 200);
+    assert!(report["outcome"]["reflected"].as_f64().unwrap() > 0.0);
+}

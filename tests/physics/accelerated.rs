@@ -266,11 +266,7 @@ fn drift_correction_removes_the_gradient_bias_of_local_jumps() {
             photons: 2_000,
             seed: 67,
             method: Method::Accelerated,
-            acceleration: Acceleration {
-                gamma: 10.0,
-                epsilon: 0.2,
-                drift_correction,
-            },
+            acceleration: Acceleration::new(10.0, 0.2, drift_correction).unwrap(),
             ..RunConfig::default()
         };
         let escapes = run(&medium, &config).tally.all_escapes();

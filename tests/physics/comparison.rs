@@ -105,7 +105,14 @@ fn uniform_sphere_escape_time_quantiles_follow_the_first_passage_series() {
 fn a_beam_diffuses_from_one_reduced_scattering_length_in_means_as_in_r_and_t() {
     // A conservative slab, g = 0.8: 1/μs′ = 5/μs, five times the first-collision depth.
     let (mu_s, g, thickness) = (40.0, 0.8, 1.0);
-    let slab_layer = Layer::new("", mu_s, 1.0, PhaseFunction::HenyeyGreenstein { g }, 1.0).unwrap();
+    let slab_layer = Layer::new(
+        "",
+        mu_s,
+        1.0,
+        PhaseFunction::henyey_greenstein(g).unwrap(),
+        1.0,
+    )
+    .unwrap();
     let medium = Medium::slab(vec![(thickness, slab_layer)], 1.0, Source::normal_beam()).unwrap();
     let analysis = analyse(&medium, 200, 1, Method::Direct);
     let d = &analysis.diffusion;

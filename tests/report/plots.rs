@@ -70,7 +70,7 @@ fn slab() -> Medium {
     Medium::slab(
         vec![(
             1.0,
-            layer(8.0, 0.98, PhaseFunction::HenyeyGreenstein { g: 0.5 }),
+            layer(8.0, 0.98, PhaseFunction::henyey_greenstein(0.5).unwrap()),
         )],
         1.0,
         Source::normal_beam(),
@@ -538,11 +538,11 @@ fn resolved_slab_run(photons: u64) -> SmallRun {
         vec![
             (
                 0.5,
-                layer(10.0, 0.99, PhaseFunction::HenyeyGreenstein { g: 0.3 }),
+                layer(10.0, 0.99, PhaseFunction::henyey_greenstein(0.3).unwrap()),
             ),
             (
                 1.5,
-                layer(10.0, 0.97, PhaseFunction::HenyeyGreenstein { g: 0.3 }),
+                layer(10.0, 0.97, PhaseFunction::henyey_greenstein(0.3).unwrap()),
             ),
         ],
         1.0,

@@ -12,8 +12,9 @@ pub enum SolverError {
          diffusion theory has nothing to describe"
     )]
     NoDiffusingLayer,
-    /// A layer's transport extinction is negative or not finite (a Henyey–Greenstein
-    /// anisotropy outside (−1, 1) built around the validating constructor).
+    /// A layer's transport extinction is negative or not finite (validated layers cannot
+    /// have one: their extinction is finite and the anisotropy inside (−1, 1); kept so that
+    /// the solver never divides by such a value).
     #[error(
         "layers[{layer}]: transport extinction σ_a + σ_s (1 − g) = {value} /cm; \
          expected a finite number >= 0"
