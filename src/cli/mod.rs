@@ -5,6 +5,7 @@ mod args;
 mod figures;
 mod import_command;
 mod merge_command;
+mod model_input;
 mod output;
 mod profile_command;
 mod progress;

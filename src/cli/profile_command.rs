@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 use anyhow::{Context, Result};
 use clap::Args;
 
-use sojourn::medium::model_file::{LoadOptions, load_model_with};
+use sojourn::medium::model_file::{LoadOptions, model_from_value_with};
 use sojourn::report::{ProfileReport, render_profile_csv, render_profile_report};
 
 use super::args;
@@ -16,7 +16,7 @@ use super::output::{Output, check_outputs, write_text};
 /// Arguments of `sojourn profile`.
 #[derive(Debug, Args)]
 pub struct ProfileArgs {
-    /// Model file (JSON) of a sphere.
+    /// Model file (JSON) of a sphere, or `-` to read it from standard input.
     model: PathBuf,
     /// Write the JSON report to PATH (`-` for stdout, which then carries only JSON).
     #[arg(long, value_name = "PATH")]
@@ -66,8 +66,8 @@ pub fn execute(args: ProfileArgs) -> Result<()> {
     let options = LoadOptions {
         profile_tolerance: args.tolerance,
     };
-    let medium = load_model_with(&args.model, &options)?;
-    let file = args.model.display().to_string();
+    let (value, file) = super::model_input::model_value(&args.model)?;
+    let medium = model_from_value_with(&value, &file, &options)?;
     let report = ProfileReport::new(&medium, &file).with_context(|| file.clone())?;
     if let Some(path) = &args.json {
         let json = serde_json::to_string_pretty(&report)? + "\n";

@@ -9,8 +9,7 @@ use serde_json::Value;
 use sojourn::analysis::resolved_layout;
 use sojourn::analysis::stellar::StellarAnalysis;
 use sojourn::medium::model_file::{
-    DEMO_MODEL_JSON, DEMO_MODEL_LABEL, LoadOptions, load_model_value, model_from_value_with,
-    parse_model_value,
+    DEMO_MODEL_JSON, DEMO_MODEL_LABEL, LoadOptions, model_from_value_with, parse_model_value,
 };
 use sojourn::medium::{Geometry, Medium};
 use sojourn::report::{RunReport, render_run_report};
@@ -24,7 +23,8 @@ use super::run_scale::{ScaleArgs, ScaledRun};
 /// Arguments of `sojourn run`.
 #[derive(Debug, Args)]
 pub struct RunArgs {
-    /// Model file (JSON). Without it, the embedded demo model runs.
+    /// Model file (JSON), or `-` to read it from standard input. Without it, the embedded
+    /// demo model runs.
     model: Option<PathBuf>,
     /// Number of photons to launch.
     #[arg(long, default_value_t = 10_000, value_parser = super::args::count)]
@@ -137,7 +137,7 @@ fn positive_number(text: &str) -> Result<f64, String> {
 /// The medium, its label and its model-file JSON (kept for shard files).
 fn load(args: &RunArgs) -> Result<(Medium, String, Value)> {
     let (value, file) = match &args.model {
-        Some(path) => (load_model_value(path)?, path.display().to_string()),
+        Some(path) => super::model_input::model_value(path)?,
         None => (
             parse_model_value(DEMO_MODEL_JSON, DEMO_MODEL_LABEL)?,
             DEMO_MODEL_LABEL.to_string(),

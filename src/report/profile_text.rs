@@ -100,8 +100,12 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
     );
     let _ = writeln!(
         out,
-        "  model {} · sphere of {} shell(s) · no Monte Carlo",
-        report.model.file, report.model.shells
+        "  model {} · sphere of {} · no Monte Carlo",
+        report.model.file,
+        match report.model.shells {
+            1 => "1 shell".to_string(),
+            n => format!("{n} shells"),
+        }
     );
     let _ = writeln!(out);
     let _ = writeln!(out, "Structure");

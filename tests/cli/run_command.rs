@@ -379,3 +379,34 @@ fn a_slab_of_index_four_gives_a_report() {
     assert_eq!(report["photons"], 200);
     assert!(report["outcome"]["reflected"].as_f64().unwrap() > 0.0);
 }
+
+#[test]
+fn a_dash_reads_the_model_from_standard_input() {
+    let model = std::fs::read("models/opal-diffuser.json").unwrap();
+    let from_file = run_json(&["run", "models/opal-diffuser.json", "--photons", "300"]);
+    let output = sojourn()
+        .args(["run", "-", "--photons", "300", "--json", "-"])
+        .write_stdin(model)
+        .output()
+        .unwrap();
+    assert!(output.status.success(), "{output:?}");
+    let from_stdin: Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert_eq!(from_stdin["model"]["file"], "<stdin>");
+    // The same walk, bit for bit, whichever way the model came in.
+    assert_eq!(from_stdin["escape_time"], from_file["escape_time"]);
+    assert_eq!(from_stdin["outcome"], from_file["outcome"]);
+    let output = sojourn()
+        .args(["profile", "-", "--rows", "2"])
+        .write_stdin(std::fs::read("models/ember-two-zone.json").unwrap())
+        .output()
+        .unwrap();
+    assert!(output.status.success(), "{output:?}");
+    assert!(String::from_utf8_lossy(&output.stdout).contains("model <stdin> · sphere of 2 shells"));
+    let output = sojourn()
+        .args(["run", "-"])
+        .write_stdin("{\"geometry\": \"sphere\"")
+        .output()
+        .unwrap();
+    assert_eq!(output.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&output.stderr).contains("<stdin>: line"));
+}
