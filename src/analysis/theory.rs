@@ -213,19 +213,19 @@ impl DiffusionSummary {
         match source {
             TheorySource::Plane { depth_cm } => notes.push(format!(
                 "the closed-form steady means put the incident light's source one reduced \
-                 scattering length below the lit face, 1/μs′ = {} cm (μs′ averaged over the \
+                 scattering length below the lit face, 1/μs′ = {} (μs′ averaged over the \
                  thickness), as the closed-form R and T do; the diffusion solver lets the \
                  beam decay into each layer",
-                format_significant(depth_cm, 4)
+                in_model_unit(medium, depth_cm)
             )),
             TheorySource::OutsideSlab {
                 depth_cm,
                 thickness_cm,
             } => notes.push(format!(
-                "the slab ({} cm) is not thicker than one reduced scattering length 1/μs′ = \
-                 {} cm: the closed-form steady means have no source inside it",
-                format_significant(thickness_cm, 4),
-                format_significant(depth_cm, 4)
+                "the slab ({}) is not thicker than one reduced scattering length 1/μs′ = \
+                 {}: the closed-form steady means have no source inside it",
+                in_model_unit(medium, thickness_cm),
+                in_model_unit(medium, depth_cm)
             )),
             TheorySource::Modelled => {}
         }
@@ -290,4 +290,14 @@ impl DiffusionSummary {
             ..self.clone()
         }
     }
+}
+
+/// A length in cm written in the model file's own unit (4 significant digits), for notes.
+fn in_model_unit(medium: &Medium, cm: f64) -> String {
+    let unit = medium.display_unit();
+    format!(
+        "{} {}",
+        format_significant(cm / unit.to_cm(), 4),
+        unit.symbol()
+    )
 }

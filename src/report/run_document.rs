@@ -23,6 +23,9 @@ pub struct ModelSummary {
     pub size_cm: f64,
     /// Length unit the model file used.
     pub length_unit: String,
+    /// That unit in cm, for lengths in the text report; text only.
+    #[serde(skip)]
+    pub unit_cm: f64,
 }
 
 /// The layers of `medium` as its model file declares them: its walker layers, with the
@@ -44,6 +47,24 @@ fn declared_layers(medium: &Medium) -> usize {
 }
 
 impl ModelSummary {
+    /// A length in cm, written in the model's own unit (4 significant digits).
+    pub fn length(&self, cm: f64) -> String {
+        format!(
+            "{} {}",
+            crate::units::format_significant(cm / self.unit_cm, 4),
+            self.length_unit
+        )
+    }
+
+    /// A coefficient in 1/cm, written per the model's own unit (4 significant digits).
+    pub fn per_length(&self, per_cm: f64) -> String {
+        format!(
+            "{} /{}",
+            crate::units::format_significant(per_cm * self.unit_cm, 4),
+            self.length_unit
+        )
+    }
+
     /// The summary of `medium`, read from `file`.
     pub fn new(medium: &Medium, file: &str) -> Self {
         Self {
@@ -53,6 +74,7 @@ impl ModelSummary {
             declared_layers: declared_layers(medium),
             size_cm: medium.size_cm(),
             length_unit: medium.display_unit().symbol().to_string(),
+            unit_cm: medium.display_unit().to_cm(),
         }
     }
 }

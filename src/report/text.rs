@@ -312,9 +312,9 @@ pub fn render_run_report(report: &RunReport) -> String {
     );
     let _ = writeln!(
         out,
-        "  mean free path                          {} – {} cm",
-        format_significant(d.mean_free_path_min_cm, 4),
-        format_significant(d.mean_free_path_max_cm, 4)
+        "  mean free path                          {} – {}",
+        report.model.length(d.mean_free_path_min_cm),
+        report.model.length(d.mean_free_path_max_cm)
     );
     if !c.times_comparable {
         let _ = writeln!(
@@ -340,10 +340,10 @@ pub fn render_run_report(report: &RunReport) -> String {
     if let Some(slab) = &report.analysis.slab_diffusion {
         let _ = writeln!(
             out,
-            "Slab against diffusion theory (μa = {} /cm, μs′ = {} /cm, z_e = {} cm)",
-            format_significant(slab.absorption_per_cm, 4),
-            format_significant(slab.reduced_scattering_per_cm, 4),
-            format_significant(slab.extrapolation_length_cm, 4)
+            "Slab against diffusion theory (μa = {}, μs′ = {}, z_e = {})",
+            report.model.per_length(slab.absorption_per_cm),
+            report.model.per_length(slab.reduced_scattering_per_cm),
+            report.model.length(slab.extrapolation_length_cm)
         );
         let _ = writeln!(
             out,

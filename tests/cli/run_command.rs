@@ -410,3 +410,21 @@ fn a_dash_reads_the_model_from_standard_input() {
     assert_eq!(output.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&output.stderr).contains("<stdin>: line"));
 }
+
+#[test]
+fn a_model_in_mm_is_reported_in_mm() {
+    let output = sojourn()
+        .args([
+            "run",
+            "models/diffuser-three-layer.json",
+            "--photons",
+            "1000",
+            "--resolve",
+        ])
+        .output()
+        .unwrap();
+    assert!(output.status.success());
+    let text = String::from_utf8(output.stdout).unwrap();
+    assert!(!text.contains("/cm") && !text.contains(" cm"), "{text}");
+    assert!(text.contains(" /mm") && text.contains(" mm"), "{text}");
+}
