@@ -36,6 +36,11 @@ pub const COLUMNS: &[(&str, &str)] = &[
     ),
     ("reflected_stderr", "its binomial 1σ"),
     (
+        "specular",
+        "fraction reflected at a slab's top face before entering it",
+    ),
+    ("specular_stderr", "its binomial 1σ"),
+    (
         "transmitted",
         "fraction that left a slab through the bottom face",
     ),
@@ -53,6 +58,14 @@ pub const COLUMNS: &[(&str, &str)] = &[
     ("escape_time_median_s", "median (histogram, within 0.1 %)"),
     ("escape_time_p05_s", "5 % quantile"),
     ("escape_time_p95_s", "95 % quantile"),
+    (
+        "reflected_time_mean_s",
+        "mean time in the medium of light that left a slab through the top face",
+    ),
+    (
+        "transmitted_time_mean_s",
+        "mean time in the medium of light that left a slab through the bottom face",
+    ),
     ("scatterings_mean", "mean scatterings of photons that left"),
     ("scatterings_stderr", "its standard error"),
     ("diffusion_naive_scatterings", "rule of thumb N ≈ τ²"),
@@ -82,7 +95,7 @@ pub const COLUMNS: &[(&str, &str)] = &[
     ),
     (
         "ks_distance",
-        "KS distance to the diffusion first-passage law (uniform sphere only)",
+        "KS distance to the diffusion solver's escape-time law (null below 100 escapes)",
     ),
     (
         "direct_steps_per_photon",
@@ -111,6 +124,8 @@ impl SweepRow {
             json!(o.stderr.escaped),
             json!(o.reflected),
             json!(o.stderr.reflected),
+            json!(o.specular),
+            json!(o.stderr.specular),
             json!(o.transmitted),
             json!(o.stderr.transmitted),
             json!(o.absorbed),
@@ -123,6 +138,8 @@ impl SweepRow {
             json!(r.escape_time.median_s),
             json!(r.escape_time.p05_s),
             json!(r.escape_time.p95_s),
+            json!(r.reflected_time.as_ref().and_then(|t| t.mean_s)),
+            json!(r.transmitted_time.as_ref().and_then(|t| t.mean_s)),
             json!(r.scatterings.mean),
             json!(r.scatterings.stderr),
             json!(r.diffusion.naive_scatterings),
@@ -221,7 +238,8 @@ pub fn jsonl_text(rows: &[SweepRow]) -> String {
 }
 
 /// A compact table of the results for a terminal: parameters, optical depth, the fraction
-/// that left the medium (any face), mean time in the medium, the extrapolated diffusion
+/// that left the medium (`left`: a sphere's `escaped`, a slab's reflected + transmitted,
+/// specular reflection not included; the CSV has each apart), mean time in the medium, the extrapolated diffusion
 /// time, and the ratios of the mean time to diffusion theory and to the rule of thumb. Where
 /// the medium absorbs, the (conservative) diffusion time is marked `*` and no ratio is
 /// given.
@@ -239,7 +257,7 @@ pub fn render_text(results: &[PointResult]) -> String {
     let _ = writeln!(
         out,
         "  {:>9}  {:>9}  {:>22}  {:>11}  {:>17}  {:>9}",
-        "τ", "escaped", "mean time ± 1σ", "diffusion", "MC/diffusion", "MC/rule"
+        "τ", "left", "mean time ± 1σ", "diffusion", "MC/diffusion", "MC/rule"
     );
     let number = |v: Option<f64>| v.map_or("-".to_string(), |v| format_significant(v, 4));
     let mut conservative_only = false;
@@ -254,7 +272,7 @@ pub fn render_text(results: &[PointResult]) -> String {
             let _ = write!(out, "  {shown:>width$}");
         }
         let o = &r.outcome;
-        let escaped = o
+        let left = o
             .escaped
             .unwrap_or_else(|| o.reflected.unwrap_or(0.0) + o.transmitted.unwrap_or(0.0));
         let time = match (r.escape_time.mean_s, r.escape_time.stderr_s) {
@@ -282,7 +300,7 @@ pub fn render_text(results: &[PointResult]) -> String {
             out,
             "  {:>9}  {:>9.5}  {time:>22}  {diffusion:>11}  {ratio:>17}  {:>9}",
             format_significant(r.optical_depth, 4),
-            escaped,
+            left,
             number(r.comparison.naive_time_ratio),
         );
     }

@@ -61,8 +61,11 @@ fn a_sweep_writes_one_row_per_point_in_csv_and_json_lines() {
         "optical_depth",
         "reflected",
         "reflected_stderr",
+        "specular",
         "transmitted",
         "escape_time_mean_s",
+        "reflected_time_mean_s",
+        "transmitted_time_mean_s",
         "escape_time_stderr_s",
         "diffusion_mean_time_extrapolated_s",
         "time_ratio",
@@ -73,6 +76,24 @@ fn a_sweep_writes_one_row_per_point_in_csv_and_json_lines() {
     }
     let rows: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
     assert_eq!(rows.len(), 6);
+    // Every photon is accounted for: R + specular + T + A + censored = 1 in each row.
+    let at = |name: &str| header.iter().position(|c| *c == name).unwrap();
+    for row in &rows {
+        let total: f64 = [
+            "reflected",
+            "specular",
+            "transmitted",
+            "absorbed",
+            "censored",
+        ]
+        .iter()
+        .map(|name| row[at(name)].parse::<f64>().unwrap())
+        .sum();
+        assert!(
+            (total - 1.0).abs() < 1e-12,
+            "{row:?}: outcomes sum to {total}"
+        );
+    }
     // Grid: the first parameter varies slowest.
     let settings: Vec<(&str, &str, &str)> = rows.iter().map(|r| (r[0], r[1], r[2])).collect();
     assert_eq!(
