@@ -997,3 +997,25 @@ fn full_comparison_with_the_monte_carlo() {
         c.mean_ratio, c.mean_sigma, c.ks.distance, c.ks.p_value
     );
 }
+
+#[test]
+fn a_source_a_vanishing_distance_below_a_face_is_refused_within_the_work_budget() {
+    // Found by the long fuzz campaign: a plane source 3e-29 km below the top of a
+    // τ = 60 slab made the integration take ~2·10⁵ steps (seconds on every run). The
+    // solver now stops at its stated work budget with an error, which the comparison
+    // reports as a note, instead of running on.
+    let medium = sojourn::medium::model_file::parse_model(
+        r#"{"geometry":"slab","length_unit":"km",
+            "source":{"kind":"plane","depth":2.9999999999999997e-29},
+            "layers":[{"extinction_coefficient":1.0,"name":"upper atmosphere","thickness":20.0},
+                      {"extinction_coefficient":1.0,"name":"deep atmosphere","thickness":40.0}]}"#,
+        "vanishing-depth.json",
+    )
+    .unwrap();
+    let outcome = solve(&medium);
+    assert!(
+        matches!(outcome, Err(SolverError::TooMuchWork { .. })),
+        "{:?}",
+        outcome.err()
+    );
+}

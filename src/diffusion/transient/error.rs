@@ -5,6 +5,22 @@
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 #[non_exhaustive]
 pub enum SolverError {
+    /// The time integration would exceed its work budget (grid nodes × time steps): the
+    /// medium spans too many orders of magnitude in its time scales (e.g. a source a
+    /// vanishing distance from a face) for the solver to follow in a moment.
+    #[error(
+        "the time integration would take more than {budget:.0e} node-steps ({nodes} nodes, \
+         stopped after {steps} steps): the medium's time scales span too many orders of \
+         magnitude"
+    )]
+    TooMuchWork {
+        /// Grid nodes.
+        nodes: usize,
+        /// Steps taken when the budget ran out.
+        steps: usize,
+        /// The budget, node-steps.
+        budget: f64,
+    },
     /// No layer has a positive transport extinction σ_tr = σ_a + σ_s (1 − g): there is
     /// nothing for photons to diffuse in.
     #[error(

@@ -150,7 +150,8 @@ pub fn solve_with(medium: &Medium, options: &SolverOptions) -> Result<EscapeSolu
     }
     let (steady, residence) = steady_state(&system, medium.layers().len());
     let first_step = first_step_s(&system);
-    let history = stepping::integrate(&system, first_step, STEP_GROWTH / resolution, lambda, &mode);
+    let history =
+        stepping::integrate(&system, first_step, STEP_GROWTH / resolution, lambda, &mode)?;
     let mut atoms = source.atoms.clone();
     atoms.extend(system.prompt.iter().copied());
     Ok(EscapeSolution {

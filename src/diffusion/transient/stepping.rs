@@ -12,6 +12,7 @@
 //! residual below 1e−6) or nearly every photon is gone; from there on the solution is
 //! exactly `a₁ x₁ e^(−λ₁ (t − t_end))`.
 
+use super::SolverError;
 use super::system::System;
 use super::tridiagonal::solve;
 
@@ -23,6 +24,9 @@ const EMPTY: f64 = 1e-15;
 /// Upper bound on the number of steps (never reached in practice: a problem needs
 /// ~ (ln(range) + 30) / ε steps).
 const MAX_STEPS: usize = 1_000_000;
+/// Work budget of one integration, grid nodes × steps (about 0.45 s on the development
+/// machine; the Sun-like star and a 1 000-layer slab need a small part of it).
+pub(super) const WORK_BUDGET: f64 = 1.5e7;
 
 /// The late exponential from the end of the history on.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -87,7 +91,7 @@ pub(super) fn integrate(
     epsilon: f64,
     lambda: f64,
     mode: &[f64],
-) -> History {
+) -> Result<History, SolverError> {
     let n = system.len();
     let initial_content: f64 = system.initial.iter().sum();
     let mut history = History {
@@ -169,6 +173,13 @@ pub(super) fn integrate(
         state.time_s += dt;
         history.record(system, &state, &w);
         steps += 1;
+        if (steps * n) as f64 > WORK_BUDGET {
+            return Err(SolverError::TooMuchWork {
+                nodes: n,
+                steps,
+                budget: WORK_BUDGET,
+            });
+        }
         let content = system.content(&w);
         let late = state.time_s * lambda > 1.0;
         if content <= EMPTY * initial_content
@@ -193,7 +204,7 @@ pub(super) fn integrate(
         escape_rate: system.escape_rates(&pure),
         absorption_rate: system.absorption_rate(&pure),
     };
-    history
+    Ok(history)
 }
 
 /// Whether `w` is the C-normalised `mode` alone to [`SINGLE_MODE_RESIDUAL`].
