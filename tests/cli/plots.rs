@@ -192,3 +192,38 @@ fn resolved_slab_run_adds_its_panels_and_a_sweep_plots_its_table() {
     assert!(svg.contains("Monte Carlo mean ± 1σ"));
     assert!(svg.contains("layers[0].extinction_coefficient"));
 }
+
+#[test]
+fn a_zip_sweep_plots_one_series_titled_by_what_varied() {
+    let directory = tempfile::tempdir().unwrap();
+    let spec = directory.path().join("zip.json");
+    let model = std::fs::canonicalize("models/test-sphere-tau20.json").unwrap();
+    std::fs::write(
+        &spec,
+        format!(
+            r#"{{"model": {model:?}, "photons": 300, "combine": "zip", "parameters": [
+                {{"path": "layers[0].extinction_coefficient", "values": [1, 2, 4, 8]}},
+                {{"path": "layers[0].albedo", "values": [1, 0.99, 0.98, 0.97]}}]}}"#,
+            model = model.to_str().unwrap()
+        ),
+    )
+    .unwrap();
+    let figures = directory.path().join("figures");
+    let output = sojourn()
+        .arg("sweep")
+        .arg(&spec)
+        .args(["--quiet", "--out"])
+        .arg(directory.path().join("out"))
+        .arg("--plot")
+        .arg(&figures)
+        .output()
+        .unwrap();
+    assert!(output.status.success(), "{output:?}");
+    let svg = std::fs::read_to_string(figures.join("sweep-escape-time.svg")).unwrap();
+    assert_eq!(svg.matches("Monte Carlo mean").count(), 1, "one series");
+    // The title (wrapped over two lines if long) names both parameters.
+    assert!(
+        svg.contains("layers[0].albedo") && svg.contains("together)"),
+        "{svg}"
+    );
+}

@@ -126,6 +126,16 @@ impl SweepPanel {
                 }),
             }
         }
+        // Parameters varied together (a zip sweep) give every point its own combination
+        // of the other parameters: those points are one series, not one series each.
+        let together = results.len() > 1 && groups.len() == results.len();
+        if together {
+            let points = groups.drain(..).flat_map(|g| g.points).collect();
+            groups.push(SweepGroup {
+                label: String::new(),
+                points,
+            });
+        }
         for group in &mut groups {
             group.points.sort_by(|a, b| a.x.total_cmp(&b.x));
         }
@@ -139,9 +149,15 @@ impl SweepPanel {
         } else {
             format!("point ({parameter} is not a number)")
         };
+        let varied: Vec<&str> = first.parameters.iter().map(|(n, _)| n.as_str()).collect();
+        let varied = if together {
+            format!("{} (varied together)", varied.join(", "))
+        } else {
+            varied.join(" and ")
+        };
         Some(Self {
             name: "sweep-escape-time".into(),
-            title: format!("Mean escape time over the sweep · {model}"),
+            title: format!("Mean escape time against {varied} · {model}"),
             subtitle: format!(
                 "{} points × {} photons · seed {} · {label}",
                 results.len(),
