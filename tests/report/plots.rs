@@ -534,6 +534,11 @@ fn profile_panels_show_structure_photosphere_and_budget() {
 }
 
 fn resolved_slab_run(photons: u64) -> SmallRun {
+    resolved_slab_run_from(photons, Source::normal_beam())
+}
+
+/// The two-layer test slab with its resolved tallies, lit by `source`.
+fn resolved_slab_run_from(photons: u64, source: Source) -> SmallRun {
     let medium = Medium::slab(
         vec![
             (
@@ -546,7 +551,7 @@ fn resolved_slab_run(photons: u64) -> SmallRun {
             ),
         ],
         1.0,
-        Source::normal_beam(),
+        source,
     )
     .unwrap()
     .with_name("two-layer test slab");
@@ -579,9 +584,10 @@ fn resolved_slab_has_time_absorption_and_angle_panels() {
             "scatterings",
             "time-resolved",
             "absorption-depth",
-            "limb-darkening"
         ]
     );
+    // Lit from outside: no limb-darkening panel (it is the law of light from inside).
+    assert!(LimbDarkeningPanel::for_run(&run.inputs()).is_none());
     // Without --resolve, only the existing panels (checked for the plain slab in
     // run_figures_cover_each_geometry).
 
@@ -649,7 +655,9 @@ fn resolved_slab_has_time_absorption_and_angle_panels() {
     assert!(svg.has_text(&spec.bars.label) && svg.has_text("layer boundary"));
     check_tick_labels(&svg);
 
-    let limb = LimbDarkeningPanel::for_run(&run.inputs()).unwrap();
+    // A plane source inside the slab: its light leaving the top face is limb-darkened.
+    let inside = resolved_slab_run_from(3000, Source::SlabPlane { depth_cm: 1.0 });
+    let limb = LimbDarkeningPanel::for_run(&inside.inputs()).unwrap();
     let spec = limb.spec();
     assert_eq!(
         labels(&spec)[..2],

@@ -34,9 +34,14 @@ pub struct LimbDarkeningPanel {
 const CURVE_POINTS: usize = 101;
 
 impl LimbDarkeningPanel {
-    /// The panel of a run with resolved slab tallies (`None` without them or if no photon
-    /// was reflected).
+    /// The panel of a run with resolved slab tallies and a source inside the slab (`None`
+    /// without them, for a slab lit from outside, or if no photon left through the top).
     pub fn for_run(inputs: &RunInputs) -> Option<Self> {
+        // Limb darkening is the law of light from deep inside; a slab lit from outside
+        // keeps its exit angles in the JSON report only.
+        if inputs.report.analysis.lit_from_outside {
+            return None;
+        }
         let resolved = inputs.report.analysis.resolved.as_ref()?;
         let reflected = inputs.tally.reflected().count();
         if reflected == 0 {
