@@ -378,8 +378,7 @@ impl RunAnalysis {
                 .filter(|s| s.luminosity_erg_s.is_some())
                 .map(|s| s.zones.clone()),
             stop_at,
-            lit_from_outside: is_slab
-                && matches!(medium.source(), Source::Beam { .. } | Source::Diffuse),
+            lit_from_outside: is_slab && medium.source().enters_from_outside(),
             notes,
         }
     }

@@ -5,7 +5,7 @@
 use serde::Serialize;
 
 use crate::diffusion::time_resolved::{Boundary, DiffusionSlab, SlabOptics};
-use crate::medium::{Geometry, Medium, Source};
+use crate::medium::{Geometry, Medium};
 use crate::tally::{ResolvedTally, Tally};
 use crate::transport::crossing::conservative_h;
 
@@ -70,9 +70,7 @@ pub struct SlabDiffusion {
 /// Diffusion theory for a slab illuminated by a beam or diffusely, `None` for spheres,
 /// internal sources, or slabs diffusion theory cannot describe at all.
 pub fn slab_diffusion(medium: &Medium, tally: &Tally) -> Option<SlabDiffusion> {
-    if medium.geometry() != Geometry::Slab
-        || !matches!(medium.source(), Source::Beam { .. } | Source::Diffuse)
-    {
+    if medium.geometry() != Geometry::Slab || !medium.source().enters_from_outside() {
         return None;
     }
     let optics = equivalent_optics(medium);
@@ -226,7 +224,7 @@ pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummar
     };
     let optics = equivalent_optics(medium);
     let entering = 1.0 - tally.specular().weight() / launched;
-    let with_beam = matches!(medium.source(), Source::Beam { .. } | Source::Diffuse);
+    let with_beam = medium.source().enters_from_outside();
     let extrapolated = with_beam
         .then(|| DiffusionSlab::new(optics, Boundary::Extrapolated).ok())
         .flatten();

@@ -52,9 +52,7 @@ pub enum TheorySource {
 
 /// Where diffusion theory puts the source of `medium` (see [`TheorySource`]).
 pub fn theory_source(medium: &Medium) -> TheorySource {
-    if medium.geometry() != Geometry::Slab
-        || !matches!(medium.source(), Source::Beam { .. } | Source::Diffuse)
-    {
+    if medium.geometry() != Geometry::Slab || !medium.source().enters_from_outside() {
         return TheorySource::Modelled;
     }
     let optics = equivalent_optics(medium);

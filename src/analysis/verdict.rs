@@ -191,7 +191,7 @@ impl Regime {
             layers: medium.layers().len(),
             thin_layer,
             lit_from_outside: medium.geometry() == Geometry::Slab
-                && matches!(medium.source(), Source::Beam { .. } | Source::Diffuse),
+                && medium.source().enters_from_outside(),
         }
     }
 

@@ -76,6 +76,13 @@ impl Source {
             polar_angle_deg: 0.0,
         }
     }
+
+    /// Whether the light comes from outside, through a slab's top face (a beam or diffuse
+    /// illumination), rather than from a source inside the medium.
+    #[inline]
+    pub fn enters_from_outside(&self) -> bool {
+        matches!(self, Source::Beam { .. } | Source::Diffuse)
+    }
 }
 
 /// A validated medium. Boundaries are in cm: for a sphere the outer radius of each shell,

@@ -212,7 +212,7 @@ impl DirectWalker {
 
     /// Whether photons start with an isotropic direction (point and plane sources).
     pub(super) fn source_is_isotropic(&self) -> bool {
-        !matches!(self.source, Source::Beam { .. } | Source::Diffuse)
+        !self.source.enters_from_outside()
     }
 
     /// A scattering at the photon's position into a direction drawn from the layer's phase
@@ -363,7 +363,7 @@ impl DirectWalker {
             scatterings: 0.0,
             steps: 0,
         };
-        let entering = matches!(self.source, Source::Beam { .. } | Source::Diffuse);
+        let entering = self.source.enters_from_outside();
         let first = self.layers[0].refractive_index;
         if entering && self.ambient_above != first {
             let reflectance = fresnel_reflectance(incoming.z, self.ambient_above, first);
