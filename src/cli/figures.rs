@@ -15,6 +15,7 @@ use sojourn::report::plots::{
 };
 use sojourn::sweep::{PointResult, Sweep};
 use sojourn::tally::Tally;
+use sojourn::units::LengthUnit;
 
 use super::output::{write_atomically, write_text};
 
@@ -87,13 +88,20 @@ pub fn write_profile_figures(
     Ok(())
 }
 
-/// Draws the figures of a finished `sweep` (`label` names the spec) into `plot_dir`.
+/// Draws the figures of a finished `sweep` (`label` names the spec) and writes them to
+/// `plot_dir` and/or, with `text` (the printed table), into the HTML report at
+/// `report_path`. Does nothing if neither is asked for.
 pub fn write_sweep_figures(
-    plot_dir: &Path,
+    plot_dir: Option<&Path>,
+    report_path: Option<&Path>,
     sweep: &Sweep,
     results: &[PointResult],
     label: &str,
+    text: &str,
 ) -> Result<()> {
+    if plot_dir.is_none() && report_path.is_none() {
+        return Ok(());
+    }
     let points: Vec<StudyPoint> = results
         .iter()
         .map(|result| StudyPoint {
@@ -102,10 +110,28 @@ pub fn write_sweep_figures(
             analysis: &result.analysis,
         })
         .collect();
-    let model = sweep.points().first().map_or("", |p| p.medium().name());
-    let figures =
-        render_all(&sweep_panels(&points, model, label)).context("cannot draw the figures")?;
-    write_svgs(plot_dir, &figures)
+    let first = sweep.points().first().map(|p| p.medium());
+    let model = first.map_or("", |m| m.name());
+    let unit = first.map_or(LengthUnit::Cm, |m| m.display_unit());
+    let figures = render_all(&sweep_panels(&points, model, label, unit))
+        .context("cannot draw the figures")?;
+    if let Some(directory) = plot_dir {
+        write_svgs(directory, &figures)?;
+    }
+    if let Some(path) = report_path {
+        let title = format!("sojourn · sweep {label}");
+        let subtitle = format!(
+            "{} points × {} photons · seed {} · sojourn {}",
+            results.len(),
+            group_digits(sweep.photons()),
+            sweep.seed(),
+            env!("CARGO_PKG_VERSION")
+        );
+        let html = render_html_report(&title, &subtitle, text, &figures);
+        write_text(path, &html)
+            .with_context(|| format!("cannot write the HTML report to {}", path.display()))?;
+    }
+    Ok(())
 }
 
 fn write_svgs(directory: &Path, figures: &[Figure]) -> Result<()> {

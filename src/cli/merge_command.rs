@@ -12,6 +12,7 @@ use sojourn::sweep::PointResult;
 use sojourn::sweep::merge::{ShardFile, SweepShard, merge_sweep_shards, read_shard_file};
 use sojourn::sweep::table::{SweepRow, csv_text, jsonl_text, render_text};
 
+use super::figures::{write_run_figures, write_sweep_figures};
 use super::output::{Output, check_outputs, write_text};
 
 /// Arguments of `sojourn merge`.
@@ -31,6 +32,15 @@ pub struct MergeArgs {
     /// Sweeps: write DIR/sweep.csv and DIR/sweep.jsonl, as an unsplit sweep does.
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
+    /// Write the merged result's figures as SVG files into DIR: a run's figures, or a
+    /// sweep's mean escape time against its first parameter, as the unsplit command's
+    /// `--plot` does.
+    #[arg(long, value_name = "DIR")]
+    plot: Option<PathBuf>,
+    /// Write a single-file HTML report (the printed report or table and the figures) to
+    /// PATH.
+    #[arg(long, value_name = "PATH")]
+    report: Option<PathBuf>,
 }
 
 /// Runs the subcommand.
@@ -45,11 +55,17 @@ pub fn execute(args: MergeArgs) -> Result<()> {
             });
         }
     }
-    if let Some(path) = &args.out {
-        outputs.push(Output::Folder {
-            flag: "--out",
+    if let Some(path) = &args.report {
+        outputs.push(Output::File {
+            flag: "--report",
             path,
+            stdout: true,
         });
+    }
+    for (flag, path) in [("--out", &args.out), ("--plot", &args.plot)] {
+        if let Some(path) = path {
+            outputs.push(Output::Folder { flag, path });
+        }
     }
     check_outputs(&outputs)?;
     let mut runs: Vec<RunShard> = Vec::new();
@@ -85,21 +101,31 @@ fn merge_runs(shards: Vec<RunShard>, args: &MergeArgs) -> Result<()> {
         &merged.config,
         &merged.result,
     );
-    let json_to_stdout = args.json.as_deref() == Some(Path::new("-"));
+    let stdout_taken = [&args.json, &args.report]
+        .iter()
+        .any(|path| path.as_deref() == Some(Path::new("-")));
     if let Some(path) = &args.json {
         let json = serde_json::to_string_pretty(&report)? + "\n";
         write_text(path, &json)?;
     }
-    if !json_to_stdout {
-        write_text(Path::new("-"), &render_run_report(&report))?;
+    let text = render_run_report(&report);
+    if !stdout_taken {
+        write_text(Path::new("-"), &text)?;
     }
-    Ok(())
+    write_run_figures(
+        args.plot.as_deref(),
+        args.report.as_deref(),
+        &merged.medium,
+        &merged.result.tally,
+        &report,
+        &text,
+    )
 }
 
 fn merge_sweeps(shards: Vec<SweepShard>, args: &MergeArgs) -> Result<()> {
     let merged = merge_sweep_shards(shards)?;
     let rows: Vec<SweepRow> = merged.results.iter().map(PointResult::row).collect();
-    let mut to_stdout = false;
+    let mut to_stdout = args.report.as_deref() == Some(Path::new("-"));
     if let Some(path) = &args.json {
         to_stdout |= path == Path::new("-");
         write_text(path, &jsonl_text(&rows))?;
@@ -112,8 +138,17 @@ fn merge_sweeps(shards: Vec<SweepShard>, args: &MergeArgs) -> Result<()> {
         write_text(&dir.join("sweep.csv"), &csv_text(&rows))?;
         write_text(&dir.join("sweep.jsonl"), &jsonl_text(&rows))?;
     }
+    let text = render_text(&merged.results);
     if !to_stdout {
-        write_text(Path::new("-"), &render_text(&merged.results))?;
+        write_text(Path::new("-"), &text)?;
     }
-    Ok(())
+    let label = format!("merged from {} shards", args.files.len());
+    write_sweep_figures(
+        args.plot.as_deref(),
+        args.report.as_deref(),
+        &merged.sweep,
+        &merged.results,
+        &label,
+        &text,
+    )
 }

@@ -34,7 +34,7 @@ pub struct SweepArgs {
     #[arg(long)]
     dry_run: bool,
     /// Write the sweep's figure (mean escape time against the first parameter) as an SVG
-    /// file into DIR (not with --shard: plot after `sojourn merge`).
+    /// file into DIR (not with --shard: `sojourn merge --plot DIR` draws it from the shards).
     #[arg(long, value_name = "DIR", conflicts_with = "shard")]
     plot: Option<PathBuf>,
     /// No progress bar and no status lines on stderr.
@@ -116,10 +116,9 @@ pub fn execute(args: SweepArgs) -> Result<()> {
             csv,
             jsonl,
         } => {
-            write_stdout(&render_text(&results))?;
-            if let Some(directory) = &args.plot {
-                write_sweep_figures(directory, &sweep, &results, &label)?;
-            }
+            let text = render_text(&results);
+            write_stdout(&text)?;
+            write_sweep_figures(args.plot.as_deref(), None, &sweep, &results, &label, &text)?;
             if !args.quiet {
                 eprintln!("sojourn: wrote {} and {}", csv.display(), jsonl.display());
             }

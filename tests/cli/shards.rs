@@ -65,6 +65,40 @@ fn merge_prints_the_text_report_by_default() {
 }
 
 #[test]
+fn merged_run_shards_draw_the_unsplit_runs_figures() {
+    let directory = tempfile::tempdir().unwrap();
+    let whole = directory.path().join("whole");
+    let mut args = vec!["run", MODEL];
+    args.extend(RUN);
+    args.extend(["--plot", s(&whole)]);
+    succeed(&args);
+    let a = shard_file(&directory, 1, 2, &[]);
+    let b = shard_file(&directory, 2, 2, &[]);
+    let merged = directory.path().join("merged");
+    let report = directory.path().join("merged.html");
+    succeed(&[
+        "merge",
+        &a,
+        &b,
+        "--plot",
+        s(&merged),
+        "--report",
+        s(&report),
+    ]);
+    let mut names: Vec<String> = std::fs::read_dir(&whole)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    assert!(!names.is_empty());
+    for name in &names {
+        let read = |dir: &std::path::Path| std::fs::read_to_string(dir.join(name)).unwrap();
+        assert_eq!(read(&merged), read(&whole), "{name}");
+    }
+    assert!(std::fs::read_to_string(&report).unwrap().contains("<svg"));
+}
+
+#[test]
 fn merge_refuses_shards_of_different_runs_with_the_reason() {
     let directory = tempfile::tempdir().unwrap();
     let one = shard_file(&directory, 1, 2, &[]);

@@ -186,6 +186,60 @@ fn merged_sweep_shards_equal_the_unsplit_sweep_for_1_2_and_5_shards() {
 }
 
 #[test]
+fn sweep_shards_merge_and_plot() {
+    let directory = tempfile::tempdir().unwrap();
+    let spec = write_spec(directory.path(), SIX_POINT_SPEC);
+    let whole_plot = directory.path().join("whole-plot");
+    succeed(&[
+        "sweep",
+        s(&spec),
+        "--out",
+        s(&directory.path().join("whole")),
+        "--plot",
+        s(&whole_plot),
+        "--quiet",
+    ]);
+    let out = directory.path().join("shards");
+    for k in 1..=2 {
+        succeed(&[
+            "sweep",
+            s(&spec),
+            "--out",
+            s(&out),
+            "--shard",
+            &format!("{k}/2"),
+            "--quiet",
+        ]);
+    }
+    let plot = directory.path().join("merged-plot");
+    let report = directory.path().join("merged.html");
+    let table = succeed(&[
+        "merge",
+        s(&out.join("shard-1-of-2.json")),
+        s(&out.join("shard-2-of-2.json")),
+        "--plot",
+        s(&plot),
+        "--report",
+        s(&report),
+    ]);
+    // The figure of the merged shards is the unsplit sweep's figure; only the subtitle's
+    // label differs (the spec file against "merged from 2 shards").
+    let merged_svg = read(&plot.join("sweep-escape-time.svg"));
+    let whole_svg = read(&whole_plot.join("sweep-escape-time.svg"));
+    assert_eq!(
+        merged_svg.replace("merged from 2 shards", "LABEL"),
+        whole_svg.replace(s(&spec), "LABEL")
+    );
+    assert!(merged_svg.contains("layers[1].extinction_coefficient (1/cm)"));
+    let html = read(&report);
+    assert!(html.contains("<svg"), "the report embeds the figure");
+    assert!(
+        html.contains(table.lines().next().unwrap().trim()),
+        "and the table"
+    );
+}
+
+#[test]
 fn merge_refuses_shards_of_different_sweeps() {
     let directory = tempfile::tempdir().unwrap();
     let spec = write_spec(directory.path(), SIX_POINT_SPEC);

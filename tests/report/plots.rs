@@ -23,6 +23,7 @@ use sojourn::report::{ProfileReport, RunReport};
 use sojourn::simulation::{RunConfig, RunResult, run};
 use sojourn::sweep::{PointResult, Sweep};
 use sojourn::transport::PhaseFunction;
+use sojourn::units::LengthUnit;
 
 use super::svg::{self, Svg, label_width};
 use crate::support::{layer, uniform_sphere};
@@ -693,9 +694,9 @@ fn sweep_panel_draws_means_with_errors_and_both_estimates() {
     }
     let results = sweep.run();
     let points = study_points(&results);
-    let panels = sweep_panels(&points, "", "in code");
+    let panels = sweep_panels(&points, "", "in code", LengthUnit::Cm);
     assert_eq!(panels.len(), 1);
-    let panel = SweepPanel::from_points(&points, "", "in code").unwrap();
+    let panel = SweepPanel::from_points(&points, "", "in code", LengthUnit::Cm).unwrap();
     let spec = panel.spec();
     assert_eq!(spec.x_axis.scale, Scale::Log, "τ spans 1.5 decades");
     assert_eq!(spec.x_axis.label, "optical radius");
@@ -722,7 +723,8 @@ fn sweep_panel_draws_means_with_errors_and_both_estimates() {
         }
     }
     let results = sweep.run();
-    let panel = SweepPanel::from_points(&study_points(&results), "", "grid").unwrap();
+    let panel =
+        SweepPanel::from_points(&study_points(&results), "", "grid", LengthUnit::Cm).unwrap();
     assert_eq!(panel.groups.len(), 2);
     let spec = panel.spec();
     assert_eq!(spec.x_axis.scale, Scale::Linear);
@@ -744,7 +746,8 @@ fn sweep_panel_draws_no_diffusion_line_through_absorbing_points() {
         .point([("albedo", 0.9)], absorbing(0.9))
         .point([("albedo", 1.0)], absorbing(1.0));
     let results = sweep.run();
-    let panel = SweepPanel::from_points(&study_points(&results), "", "albedo").unwrap();
+    let panel =
+        SweepPanel::from_points(&study_points(&results), "", "albedo", LengthUnit::Cm).unwrap();
     let spec = panel.spec();
     let line = |label: &str| {
         spec.series
@@ -756,4 +759,35 @@ fn sweep_panel_draws_no_diffusion_line_through_absorbing_points() {
     assert_eq!(line("rule of thumb"), 1);
     assert_eq!(line("Monte Carlo"), 2);
     assert!(spec.notes.iter().any(|n| n.contains("the medium absorbs")));
+}
+
+#[test]
+fn sweep_axis_names_the_unit_of_the_swept_field() {
+    let sweep = Sweep::new(100, 9)
+        .point(
+            [("layers[0].extinction_coefficient", 2.0)],
+            uniform_sphere(2.0),
+        )
+        .point(
+            [("layers[0].extinction_coefficient", 4.0)],
+            uniform_sphere(4.0),
+        );
+    let results = sweep.run();
+    let points = study_points(&results);
+    let in_mm = SweepPanel::from_points(&points, "", "units", LengthUnit::Mm).unwrap();
+    assert_eq!(in_mm.parameter, "layers[0].extinction_coefficient (1/mm)");
+    let sweep = Sweep::new(100, 9)
+        .point([("layers[1].thickness", 2.0)], uniform_sphere(2.0))
+        .point([("layers[1].thickness", 4.0)], uniform_sphere(4.0));
+    let results = sweep.run();
+    let points = study_points(&results);
+    let in_r_sun = SweepPanel::from_points(&points, "", "units", LengthUnit::SolarRadius).unwrap();
+    assert_eq!(in_r_sun.parameter, "layers[1].thickness (R_sun)");
+    let sweep = Sweep::new(100, 9)
+        .point([("layers[0].albedo", 0.9)], uniform_sphere(2.0))
+        .point([("layers[0].albedo", 1.0)], uniform_sphere(2.0));
+    let results = sweep.run();
+    let points = study_points(&results);
+    let plain = SweepPanel::from_points(&points, "", "units", LengthUnit::Mm).unwrap();
+    assert_eq!(plain.parameter, "layers[0].albedo", "an albedo has no unit");
 }

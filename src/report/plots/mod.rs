@@ -138,14 +138,15 @@ pub fn profile_panels(medium: &Medium, report: &ProfileReport) -> Vec<Box<dyn Pa
 }
 
 /// The panels of a finished sweep: the mean escape time against the first parameter.
-/// `model` is the model's name, `label` names the spec.
+/// `model` is the model's name, `label` names the spec, `unit` is the model's length unit.
 pub fn sweep_panels(
     points: &[sweep_escape_time::StudyPoint],
     model: &str,
     label: &str,
+    unit: crate::units::LengthUnit,
 ) -> Vec<Box<dyn Panel>> {
     let mut panels: Vec<Box<dyn Panel>> = Vec::new();
-    if let Some(panel) = sweep_escape_time::SweepPanel::from_points(points, model, label) {
+    if let Some(panel) = sweep_escape_time::SweepPanel::from_points(points, model, label, unit) {
         panels.push(Box::new(panel));
     }
     panels

@@ -18,6 +18,7 @@ use super::spec::{Axis, ChartSpec, Series};
 use super::style::{Colour, Dash, LineStyle, MarkerShape, SeriesStyle};
 use super::{Figure, Panel};
 use crate::analysis::RunAnalysis;
+use crate::units::LengthUnit;
 
 /// One point of a parameter study as the figure takes it (a `sweep::PointResult` lends
 /// its fields).
@@ -70,7 +71,8 @@ pub struct SweepPanel {
     pub title: String,
     /// Subtitle.
     pub subtitle: String,
-    /// Label of the x axis (the parameter's path or name, or `point`).
+    /// Label of the x axis: the parameter's path or name with its unit (e.g.
+    /// `layers[0].extinction_coefficient (1/mm)`), or `point`.
     pub parameter: String,
     /// The groups of points, in order of first appearance.
     pub groups: Vec<SweepGroup>,
@@ -87,10 +89,36 @@ fn value_text(value: &Value) -> String {
     }
 }
 
+/// The unit of a model-file field reached by a sweep's JSON path, judged by the path's last
+/// field name (`layers[2].thickness` → the model's length unit, `…_coefficient` → its
+/// inverse, `opacity` → cm²/g, …); `None` for dimensionless fields (albedo, g, indices)
+/// and for names that are not model-file fields.
+pub fn parameter_unit(path: &str, unit: LengthUnit) -> Option<String> {
+    let last = path.rsplit('.').next().unwrap_or(path);
+    let field = last.split('[').next().unwrap_or(last);
+    match field {
+        "outer_radius" | "thickness" | "radius" | "depth" => Some(unit.symbol().to_string()),
+        "extinction_coefficient" | "scattering_coefficient" | "absorption_coefficient" => {
+            Some(format!("1/{}", unit.symbol()))
+        }
+        "opacity" => Some("cm²/g".into()),
+        "density" => Some("g/cm³".into()),
+        "temperature" => Some("K".into()),
+        "polar_angle_deg" => Some("degrees".into()),
+        _ => None,
+    }
+}
+
 impl SweepPanel {
     /// The panel of a finished sweep (`None` without points or parameters). `model` is the
-    /// model's name (shown in the title), `label` names the spec (shown in the subtitle).
-    pub fn from_points(results: &[StudyPoint], model: &str, label: &str) -> Option<Self> {
+    /// model's name (shown in the title), `label` names the spec (shown in the subtitle),
+    /// `unit` is the model's length unit (for the x axis's unit, [`parameter_unit`]).
+    pub fn from_points(
+        results: &[StudyPoint],
+        model: &str,
+        label: &str,
+        unit: LengthUnit,
+    ) -> Option<Self> {
         let first = results.first()?;
         let (parameter, _) = first.parameters.first()?;
         let numeric = results
@@ -145,7 +173,10 @@ impl SweepPanel {
             model
         };
         let parameter = if numeric {
-            parameter.clone()
+            match parameter_unit(parameter, unit) {
+                Some(symbol) => format!("{parameter} ({symbol})"),
+                None => parameter.clone(),
+            }
         } else {
             format!("point ({parameter} is not a number)")
         };
