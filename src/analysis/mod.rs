@@ -46,7 +46,7 @@ pub mod theory;
 pub mod verdict;
 
 pub use comparison::{Comparison, OutcomeComparison};
-pub use decay_fit::{DecayFit, fit_late_decay};
+pub use decay_fit::{DecayFit, MIN_TAIL_PHOTONS, fit_late_decay};
 pub use escape_ks::{EscapeKs, escape_time_ks};
 pub use late_decay::{LateDecay, late_decay};
 pub use profile::ProfileAnalysis;

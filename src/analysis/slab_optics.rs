@@ -295,11 +295,13 @@ pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummar
         transmittance_per_s: per_second(&transmitted_by_time),
         reflectance_decay: fit_late_decay(
             &resolved.reflected_by_time().counts()[..bins],
+            resolved.reflected_by_time().counts()[bins],
             &diffusion_reflectance,
             layout.time_bin_s,
         ),
         transmittance_decay: fit_late_decay(
             &resolved.transmitted_by_time().counts()[..bins],
+            resolved.transmitted_by_time().counts()[bins],
             &diffusion_transmittance,
             layout.time_bin_s,
         ),

@@ -3,7 +3,7 @@
 use std::fmt::Write;
 
 use super::run_document::RunReport;
-use crate::analysis::{DecayFit, TimeSummary};
+use crate::analysis::{DecayFit, MIN_TAIL_PHOTONS, TimeSummary};
 use crate::medium::Geometry;
 use crate::units::{format_duration, format_significant};
 
@@ -381,15 +381,29 @@ pub fn render_run_report(report: &RunReport) -> String {
         );
         let rate = |fit: &Option<DecayFit>| match fit {
             Some(fit) => format!(
-                "{} ± {} /ns over {} – {} (diffusion, same window: {} /ns)",
+                "{} ± {} /ns after {} ({} photons; {})",
                 format_significant(fit.rate_per_s * 1e-9, 4),
                 format_significant(fit.stderr_per_s * 1e-9, 2),
                 format_duration(fit.from_s),
-                format_duration(fit.to_s),
-                fit.diffusion_rate_per_s
-                    .map_or_else(|| "-".to_string(), |r| format_significant(r * 1e-9, 4))
+                fit.photons,
+                match (
+                    fit.diffusion_rate_per_s,
+                    report.analysis.diffusion.decay_rate_per_s
+                ) {
+                    (Some(r), _) => format!(
+                        "diffusion, same window: {} /ns",
+                        format_significant(r * 1e-9, 4)
+                    ),
+                    (None, Some(r)) => format!(
+                        "diffusion solver's λ₁: {} /ns",
+                        format_significant(r * 1e-9, 4)
+                    ),
+                    (None, None) => "no diffusion rate".to_string(),
+                }
             ),
-            None => "- (too few late counts)".to_string(),
+            None => {
+                format!("- (fewer than {MIN_TAIL_PHOTONS} photons after the single-mode start)")
+            }
         };
         let _ = writeln!(
             out,

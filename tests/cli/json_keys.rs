@@ -14,6 +14,13 @@ use super::scale_support::{s, succeed};
 
 /// Keys added since the recorded lists, each documented in the README.
 const ADDED: &[&str] = &[
+    "resolved.reflectance_decay.photons",
+    "resolved.transmittance_decay.diffusion_rate_per_s",
+    "resolved.transmittance_decay.from_s",
+    "resolved.transmittance_decay.photons",
+    "resolved.transmittance_decay.rate_per_s",
+    "resolved.transmittance_decay.stderr_per_s",
+    "resolved.transmittance_decay.to_s",
     "convective_base_radius_cm",
     "diffusion.convective_crossing_time_s",
     "diffusion.energy_content_time_s",
