@@ -216,6 +216,28 @@ impl PathLedger {
     }
 }
 
+impl crate::tally::PhotonResidence for PathLedger {
+    fn cells(&self) -> usize {
+        PathLedger::cells(self)
+    }
+
+    fn declared_layers(&self) -> usize {
+        PathLedger::declared_layers(self)
+    }
+
+    fn touched_cells(&self) -> &[usize] {
+        PathLedger::touched_cells(self)
+    }
+
+    fn time_in_cell(&self, cell: usize) -> f64 {
+        PathLedger::time_in_cell(self, cell)
+    }
+
+    fn add_paths_by_layer_cm(&self, out: &mut [f64]) {
+        PathLedger::add_paths_by_layer_cm(self, out)
+    }
+}
+
 /// Where a walker books residence; [`NoLedger`] books nothing and compiles away.
 pub(crate) trait Ledger {
     /// Followed flights: `time_s` in `cell`, and `interactions` there.
