@@ -49,7 +49,9 @@ pub struct ResidenceBudget {
     pub photons: String,
     /// Monte Carlo mean time of those photons, s (the sum over the cells).
     pub mean_time_s: Option<Estimate>,
-    /// Steady diffusion mean exit time, s (the sum over the cells of `diffusion_time_s`).
+    /// Steady diffusion: the sum over the cells of `diffusion_time_s`, s (the mean exit
+    /// time of a point source; for sources on a slab's face, the residence of the source
+    /// placed as [`crate::diffusion::estimate`] places it).
     pub diffusion_mean_time_s: f64,
     /// Monte Carlo radius (sphere) or depth (slab) inside which half the time is spent,
     /// cm, with its approximate error (module docs).
@@ -134,7 +136,7 @@ impl ResidenceBudget {
                 Some(*sum)
             })
             .collect();
-        let diffusion_total = estimate.mean_time_s;
+        let diffusion_total: f64 = estimate.layer_residence_s.iter().sum();
         let diffusion_half_time_cm = half_point(&cells, &diffusion_cumulative, sphere);
         let half_time_cm = mean_time_s.and_then(|total| {
             let cumulative: Vec<f64> = cells
