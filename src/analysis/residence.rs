@@ -209,7 +209,7 @@ impl ResidenceBudget {
 /// last value: linear in volume inside a sphere's shell, in depth inside a slab's layer.
 fn half_point(cells: &[CellBudget], cumulative: &[f64], sphere: bool) -> Option<f64> {
     let total = *cumulative.last()?;
-    if !(total > 0.0) {
+    if total.is_nan() || total <= 0.0 {
         return None;
     }
     let target = 0.5 * total;

@@ -4,9 +4,12 @@
 use std::fmt::Write;
 
 use super::run_document::RunReport;
-use crate::analysis::{PathEstimate, ResidenceBudget};
+use crate::analysis::{LayerPath, PathEstimate, ResidenceBudget};
 use crate::medium::Geometry;
 use crate::units::format_significant;
+
+/// One column of the path table: its heading and the outcome it shows.
+type PathColumn = (&'static str, fn(&LayerPath) -> &Option<PathEstimate>);
 
 /// Cells listed one per row up to this many; more are grouped into radial bins.
 const MAX_CELL_ROWS: usize = 12;
@@ -187,10 +190,7 @@ pub(super) fn write_path_by_layer(out: &mut String, report: &RunReport) {
             None => "-".into(),
         }
     };
-    let columns: Vec<(
-        &str,
-        fn(&crate::analysis::LayerPath) -> &Option<PathEstimate>,
-    )> = if slab {
+    let columns: Vec<PathColumn> = if slab {
         vec![
             (if lit { "reflected" } else { "top face" }, |p| &p.reflected),
             (if lit { "transmitted" } else { "bottom face" }, |p| {
