@@ -24,8 +24,9 @@ use crate::simulation::{RunConfig, RunResult, run_with_progress};
 use crate::tally::{Tally, TallyError};
 
 /// Version of the checkpoint layout. Format 2: tallies with weights, histograms keyed on
-/// the bits of the value, checked as they are read.
-pub const CHECKPOINT_FORMAT: u32 = 2;
+/// the bits of the value, checked as they are read. Format 3: tallies
+/// with residence by cell and path by layer.
+pub const CHECKPOINT_FORMAT: u32 = 3;
 
 /// What a checkpoint belongs to: resuming requires every field to match.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]

@@ -30,8 +30,9 @@ use crate::transport::Acceleration;
 use crate::transport::WalkLimits;
 
 /// Version of the shard-file layout; merge refuses other versions. Format 2: tallies with
-/// weights, histograms keyed on the bits of the value, checked as they are read.
-pub const SHARD_FORMAT: u32 = 2;
+/// weights, histograms keyed on the bits of the value, checked as they are read. Format 3: tallies
+/// with residence by cell and path by layer.
+pub const SHARD_FORMAT: u32 = 3;
 
 /// Part K of N (1 ≤ K ≤ N) of a run or a sweep.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]

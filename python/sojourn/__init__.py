@@ -168,6 +168,26 @@ class RunResult:
             "absorbed_per_cm": absorbed,
         }
 
+    def path_by_layer(self) -> Dict[str, np.ndarray]:
+        """Mean path length in each declared layer per outcome (the report's
+        ``path_by_layer``), as arrays over the layers: ``layer``, ``thickness_cm``, and for
+        each outcome ``escaped``, ``reflected``, ``transmitted``, ``absorbed`` the arrays
+        ``{outcome}_mean_cm``, ``{outcome}_stderr_cm`` and ``{outcome}_pathlength_factor``
+        (NaN where the outcome does not apply or no photon ended that way)."""
+        rows = self._report["path_by_layer"]
+        out: Dict[str, np.ndarray] = {
+            "layer": np.array([row["layer"] for row in rows], dtype=np.int64),
+            "thickness_cm": np.array([row["thickness_cm"] for row in rows], dtype=np.float64),
+        }
+        for outcome in ("escaped", "reflected", "transmitted", "absorbed"):
+            for key in ("mean_cm", "stderr_cm", "pathlength_factor"):
+                values = [
+                    np.nan if row[outcome] is None or row[outcome][key] is None else row[outcome][key]
+                    for row in rows
+                ]
+                out[f"{outcome}_{key}"] = np.array(values, dtype=np.float64)
+        return out
+
     def __repr__(self) -> str:
         report = self._report
         mean = report["escape_time"]["mean_s"]

@@ -197,3 +197,19 @@ def test_the_run_refuses_what_the_sweep_spec_refuses_in_the_same_words() -> None
 def test_an_unknown_keyword_is_a_type_error() -> None:
     with pytest.raises(TypeError, match="unexpected keyword argument 'photon'"):
         sojourn.run(EMBER, photon=10)  # type: ignore[call-arg]
+
+
+def test_path_by_layer_comes_as_arrays_per_outcome() -> None:
+    # The two-layer tissue phantom: a path per layer for each face, the pathlength factor
+    # path / thickness, and null (NaN) for the sphere-only outcome.
+    result = sojourn.run("models/tissue-phantom-two-layer.json", photons=2000, seed=2)
+    paths = result.path_by_layer()
+    report = result.to_dict()["path_by_layer"]
+    assert list(paths["layer"]) == [row["layer"] for row in report]
+    assert np.all(np.isnan(paths["escaped_mean_cm"]))
+    for i, row in enumerate(report):
+        reflected = row["reflected"]
+        assert paths["reflected_mean_cm"][i] == reflected["mean_cm"]
+        assert paths["reflected_pathlength_factor"][i] == pytest.approx(
+            reflected["mean_cm"] / row["thickness_cm"], rel=1e-12
+        )

@@ -38,6 +38,7 @@ pub mod decay_fit;
 pub mod escape_ks;
 pub mod late_decay;
 pub mod profile;
+pub mod residence;
 pub mod resolved_layout;
 pub mod run;
 pub mod slab_optics;
@@ -50,6 +51,7 @@ pub use decay_fit::{DecayFit, MIN_TAIL_PHOTONS, fit_late_decay};
 pub use escape_ks::{EscapeKs, escape_time_ks};
 pub use late_decay::{LateDecay, late_decay};
 pub use profile::ProfileAnalysis;
+pub use residence::{LayerPath, PathEstimate, ResidenceBudget};
 pub use resolved_layout::resolved_layout;
 pub use run::{
     DistributionSummary, OutcomeFractions, OutcomeStderr, RunAnalysis, TimeSummary, WalkSummary,

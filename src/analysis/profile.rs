@@ -5,10 +5,12 @@
 //! temperature, opacity, mean free path l, optical depth from the surface, and the diffusion
 //! time from the centre, T = (1/c) ∫₀^R r / l_tr(r) dr (Krapivsky, Redner & Ben-Naim 2010,
 //! problem 2.21; docs/references.md),
-//! with each shell's part (1/c) ∫_shell r / l_tr dr and its share of T: the *time budget*.
-//! That share says how much each shell's opacity adds to the mean exit time (∂T/∂σ_tr(r) =
-//! r/c); where the radiation *resides* meanwhile is the Green's-function residence time of
-//! [`crate::diffusion::estimate`], given beside it as `residence_share`. Both sum to T.
+//! with each shell's part (1/c) ∫_shell r / l_tr dr and its share of T (`time_share`):
+//! how much each shell's opacity adds to the mean exit time (∂T/∂σ_tr(r) = r/c), the
+//! *accrual*. Where the radiation *resides* meanwhile is the Green's-function residence
+//! time of [`crate::diffusion::estimate`] (`residence_share`): that is the *time budget*,
+//! the quantity a run's Monte Carlo residence tally measures on the same shells, so
+//! `sojourn profile` and `sojourn run` report one budget. Both sum to T.
 
 use serde::Serialize;
 
@@ -113,18 +115,26 @@ pub struct ProfileDiffusion {
     pub convective_crossing_time_s: Option<f64>,
 }
 
-/// Where the diffusion time accrues: radii inside which given fractions of
-/// (1/c) ∫ r / l_tr dr have accrued, cm.
+/// Where the radiation spends the mean exit time from the centre (steady diffusion's
+/// residence, the same budget a run tallies by Monte Carlo), and where the diffusion time
+/// accrues, (1/c) ∫ r / l_tr dr: radii inside which given fractions lie, cm.
 #[derive(Debug, Clone, Serialize)]
 pub struct TimeBudget {
-    /// 10 % of the time accrues inside this radius, cm.
+    /// 10 % of the time is spent inside this radius, cm.
     pub radius_10_percent_cm: f64,
     /// 50 %, cm.
     pub radius_50_percent_cm: f64,
     /// 90 %, cm.
     pub radius_90_percent_cm: f64,
-    /// The shell holding the largest share (index into `shells`).
+    /// The shell holding the largest residence share (index into `shells`).
     pub largest_shell: usize,
+    /// 10 % of (1/c) ∫ r / l_tr dr accrues inside this radius, cm (the opacity that adds
+    /// to the time, not where the time is spent).
+    pub accrual_radius_10_percent_cm: f64,
+    /// 50 % of it, cm.
+    pub accrual_radius_50_percent_cm: f64,
+    /// 90 % of it, cm.
+    pub accrual_radius_90_percent_cm: f64,
 }
 
 /// The representation of the model's tabulated profiles.
@@ -185,6 +195,22 @@ pub struct ProfileAnalysis {
     pub shells: Vec<ShellRow>,
     /// One-line caveats.
     pub notes: Vec<String>,
+}
+
+/// Radius inside which `fraction` of the residence time is spent, from the shells'
+/// residence shares (linear in volume inside a shell, as the run's budget interpolates).
+fn residence_radius(shells: &[ShellRow], fraction: f64) -> f64 {
+    let mut before = 0.0;
+    for shell in shells {
+        let after = before + shell.residence_share;
+        if after >= fraction && shell.residence_share > 0.0 {
+            let part = ((fraction - before) / shell.residence_share).clamp(0.0, 1.0);
+            let (a, b) = (shell.inner_radius_cm, shell.radius_cm);
+            return (a.powi(3) + part * (b.powi(3) - a.powi(3))).cbrt();
+        }
+        before = after;
+    }
+    shells.last().map_or(0.0, |s| s.radius_cm)
 }
 
 /// Radius inside which `fraction` of the total accrues, from cumulative values at shell
@@ -315,13 +341,16 @@ impl ProfileAnalysis {
         let largest_shell = shells
             .iter()
             .enumerate()
-            .max_by(|x, y| x.1.time_s.total_cmp(&y.1.time_s))
+            .max_by(|x, y| x.1.residence_share.total_cmp(&y.1.residence_share))
             .map_or(0, |(k, _)| k);
         let time_budget = TimeBudget {
-            radius_10_percent_cm: accrual_radius(&shells, total_time, 0.1),
-            radius_50_percent_cm: accrual_radius(&shells, total_time, 0.5),
-            radius_90_percent_cm: accrual_radius(&shells, total_time, 0.9),
+            radius_10_percent_cm: residence_radius(&shells, 0.1),
+            radius_50_percent_cm: residence_radius(&shells, 0.5),
+            radius_90_percent_cm: residence_radius(&shells, 0.9),
             largest_shell,
+            accrual_radius_10_percent_cm: accrual_radius(&shells, total_time, 0.1),
+            accrual_radius_50_percent_cm: accrual_radius(&shells, total_time, 0.5),
+            accrual_radius_90_percent_cm: accrual_radius(&shells, total_time, 0.9),
         };
 
         let profile = (!profiles.is_empty()).then(|| ProfileRepresentation {
@@ -488,9 +517,10 @@ mod tests {
         assert!((report.diffusion.mean_time_s / expected - 1.0).abs() < 1e-12);
         assert!((report.shells[0].time_share - 12.5 / 14.375).abs() < 1e-12);
         assert!((report.shells[1].cumulative_time_s / expected - 1.0).abs() < 1e-12);
-        assert_eq!(report.time_budget.largest_shell, 0);
         // 50 % of 14.375 = 7.1875 accrues inside r with 100 r²/2 = 7.1875.
-        assert!((report.time_budget.radius_50_percent_cm - (0.14375f64).sqrt()).abs() < 1e-12);
+        assert!(
+            (report.time_budget.accrual_radius_50_percent_cm - (0.14375f64).sqrt()).abs() < 1e-12
+        );
         assert_eq!(report.central_density_g_cm3, None);
         assert!(report.profile.is_none());
         let residence: f64 = report.shells.iter().map(|s| s.residence_share).sum();

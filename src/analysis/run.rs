@@ -4,6 +4,7 @@
 //! model's label and the wall-clock time and renders it; its JSON keys are documented in
 //! the README.
 
+use super::residence::{LayerPath, ResidenceBudget, path_by_layer};
 use serde::Serialize;
 
 use crate::analysis::stellar::StellarAnalysis;
@@ -249,6 +250,11 @@ pub struct RunAnalysis {
     /// for spheres and for sources inside a slab. Text only.
     #[serde(skip)]
     pub lit_from_outside: bool,
+    /// Where the photons that left spent their time, cell by cell, beside steady diffusion
+    /// (null if the tally keeps no residence).
+    pub residence_budget: Option<ResidenceBudget>,
+    /// Mean path length in each declared layer per outcome, cm.
+    pub path_by_layer: Vec<LayerPath>,
     /// One-line caveats for the reader.
     pub notes: Vec<String>,
 }
@@ -379,6 +385,8 @@ impl RunAnalysis {
                 .map(|s| s.zones.clone()),
             stop_at,
             lit_from_outside: is_slab && medium.source().enters_from_outside(),
+            residence_budget: ResidenceBudget::new(medium, tally),
+            path_by_layer: path_by_layer(medium, tally),
             notes,
         }
     }

@@ -5,6 +5,7 @@
 //! The figures and the HTML report need the `plots` feature (on by default).
 
 #[cfg(feature = "plots")]
+mod budget_text;
 pub mod html;
 #[cfg(feature = "plots")]
 pub mod plots;

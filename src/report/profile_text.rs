@@ -31,7 +31,6 @@ struct Bin {
 /// Splits (0, R] into `rows` equal radius bins and sums the time accrued in each (within a
 /// shell of constant σ the accrual grows as r², so partial shells are exact).
 fn bins(report: &ProfileReport, rows: usize) -> Vec<Bin> {
-    let total = report.analysis.diffusion.mean_time_s;
     let radius = report.analysis.radius_cm;
     let mut out = Vec::with_capacity(rows);
     let mut cumulative = 0.0;
@@ -53,13 +52,13 @@ fn bins(report: &ProfileReport, rows: usize) -> Vec<Bin> {
             }
             let a = shell.inner_radius_cm.max(r0);
             let b = shell.radius_cm.min(r1);
-            if b > a && shell.mean_free_path_cm.is_some() {
-                // σ_tr = σ for the isotropic shells of a profile; use the shell's own share.
-                let full = shell.radius_cm.powi(2) - shell.inner_radius_cm.powi(2);
-                time += shell.time_s * (b * b - a * a) / full;
+            if b > a {
+                // The shell's residence share, split by volume (as the run's budget).
+                let full = shell.radius_cm.powi(3) - shell.inner_radius_cm.powi(3);
+                time += shell.residence_share * (b.powi(3) - a.powi(3)) / full;
             }
         }
-        let share = if total > 0.0 { time / total } else { 0.0 };
+        let share = time;
         cumulative += share;
         out.push(Bin {
             inner_cm: r0,
@@ -244,13 +243,25 @@ pub fn render_profile_report(report: &ProfileReport, rows: usize) -> String {
     write_stellar_times(&mut out, report, &length);
     let b = &report.analysis.time_budget;
     let radius = report.analysis.radius_cm;
-    let _ = writeln!(out, "Time budget: where (1/c)∫ r/l dr accrues");
+    let _ = writeln!(
+        out,
+        "Time budget: where the radiation spends its time (steady diffusion from the centre; \
+         `sojourn run --plot` adds the Monte Carlo on the same shells)"
+    );
     let _ = writeln!(
         out,
         "  10 % inside r = {:.3} R, half inside {:.3} R, 90 % inside {:.3} R",
         b.radius_10_percent_cm / radius,
         b.radius_50_percent_cm / radius,
         b.radius_90_percent_cm / radius
+    );
+    let _ = writeln!(
+        out,
+        "  (the opacity that sets the time, (1/c)∫ r/l dr, accrues 10 % inside {:.3} R, half \
+         inside {:.3} R, 90 % inside {:.3} R)",
+        b.accrual_radius_10_percent_cm / radius,
+        b.accrual_radius_50_percent_cm / radius,
+        b.accrual_radius_90_percent_cm / radius
     );
     let _ = writeln!(
         out,

@@ -366,6 +366,8 @@ pub fn render_run_report(report: &RunReport) -> String {
         }
         let _ = writeln!(out);
     }
+    super::budget_text::write_residence_budget(&mut out, report);
+    super::budget_text::write_path_by_layer(&mut out, report);
     write_comparison_rows(&mut out, report);
     let _ = writeln!(out, "  verdict: {}", c.verdict.reason);
     for note in &c.notes {

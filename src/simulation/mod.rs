@@ -16,7 +16,7 @@ use crate::medium::Medium;
 use crate::tally::Tally;
 use crate::tally::{PhotonRecord, ResolvedLayout};
 use crate::transport::rng::photon_rng;
-use crate::transport::{AcceleratedWalker, Acceleration, DirectWalker, WalkLimits};
+use crate::transport::{AcceleratedWalker, Acceleration, DirectWalker, PathLedger, WalkLimits};
 
 /// How photons are walked.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
@@ -78,10 +78,14 @@ impl Walker {
         }
     }
 
-    fn walk(&self, rng: &mut crate::transport::rng::PhotonRng) -> PhotonRecord {
+    fn walk_with_ledger(
+        &self,
+        rng: &mut crate::transport::rng::PhotonRng,
+        ledger: &mut PathLedger,
+    ) -> PhotonRecord {
         match self {
-            Walker::Direct(walker) => walker.walk(rng),
-            Walker::Accelerated(walker) => walker.walk(rng),
+            Walker::Direct(walker) => walker.walk_with_ledger(rng, ledger),
+            Walker::Accelerated(walker) => walker.walk_with_ledger(rng, ledger),
         }
     }
 }
@@ -172,13 +176,20 @@ pub fn run_with_progress(
         let part = (start..stop)
             .into_par_iter()
             .fold(
-                || Tally::with_resolved(config.resolved),
-                |mut tally, photon| {
+                || {
+                    (
+                        Tally::with_resolved(config.resolved),
+                        PathLedger::for_medium(medium),
+                    )
+                },
+                |(mut tally, mut ledger), photon| {
                     let mut rng = photon_rng(config.seed, config.stream, photon);
-                    tally.record(&walker.walk(&mut rng));
-                    tally
+                    let record = walker.walk_with_ledger(&mut rng, &mut ledger);
+                    tally.record_with_residence(&record, &ledger);
+                    (tally, ledger)
                 },
             )
+            .map(|(tally, _)| tally)
             .reduce(
                 || Tally::with_resolved(config.resolved),
                 |mut a, b| {

@@ -31,6 +31,7 @@ mod exact_sum;
 mod histogram;
 mod moments;
 mod path_stats;
+mod residence;
 mod resolved;
 mod weight;
 
@@ -40,6 +41,7 @@ pub use exact_sum::ExactSum;
 pub use histogram::{HistogramBin, LogHistogram, Regrouped, fine_bin_floor};
 pub use moments::Moments;
 pub use path_stats::PathStats;
+pub use residence::{OutcomeResidence, PhotonResidence, ResidenceTally, ScoreSums};
 pub use resolved::{BinSeries, ResolvedLayout, ResolvedTally};
 pub use weight::{WEIGHT_FRACTION_BITS, Weight, WeightSum};
 
@@ -127,6 +129,9 @@ pub struct Tally {
     paths: Box<[PathStats; 6]>,
     walk: WalkCounters,
     resolved: Option<Box<ResolvedTally>>,
+    /// Residence by cell and path by layer, per outcome (once a photon is recorded with
+    /// its ledger, [`Tally::record_with_residence`]).
+    residence: Option<Box<ResidenceTally>>,
 }
 
 /// Names of the outcomes, in the order of a tally's outcome array.
@@ -187,6 +192,56 @@ impl Tally {
         }
     }
 
+    /// Counts one photon with its residence by cell and path by layer (from the walker's
+    /// ledger). A tally keeps residence sums once the first photon comes with them; every
+    /// photon of a run must then come with them.
+    ///
+    /// # Panics
+    /// As [`Tally::record`], or if the residence has other cells or layers than earlier
+    /// photons'.
+    pub fn record_with_residence(
+        &mut self,
+        record: &PhotonRecord,
+        residence: &dyn PhotonResidence,
+    ) {
+        self.record(record);
+        let weight = Weight::new(record.weight).expect("checked by record");
+        self.residence
+            .get_or_insert_with(|| {
+                Box::new(ResidenceTally::new(
+                    residence.cells(),
+                    residence.declared_layers(),
+                ))
+            })
+            .record(record.outcome, weight, residence);
+    }
+
+    /// Residence by cell and path by layer, if this tally keeps them.
+    pub fn residence(&self) -> Option<&ResidenceTally> {
+        self.residence.as_deref()
+    }
+
+    /// Mean time that photons ending with `outcome` spent in cell `cell`, s, with its
+    /// standard error (`None` without residence sums or such photons).
+    pub fn mean_time_in_cell(&self, outcome: Outcome, cell: usize) -> Option<Estimate> {
+        self.residence()?
+            .mean_time_in_cell(outcome, self.stats(outcome), cell)
+    }
+
+    /// Mean time that photons ending with `outcome` spent in cells 0 to `cell` (inside its
+    /// outer radius, or above its bottom face), s, with its standard error.
+    pub fn mean_time_through_cell(&self, outcome: Outcome, cell: usize) -> Option<Estimate> {
+        self.residence()?
+            .mean_time_through_cell(outcome, self.stats(outcome), cell)
+    }
+
+    /// Mean path length in declared layer `layer` of the photons ending with `outcome`,
+    /// cm, with its standard error (`None` without residence sums or such photons).
+    pub fn mean_path_in_layer(&self, outcome: Outcome, layer: usize) -> Option<Estimate> {
+        self.residence()?
+            .mean_path_in_layer(outcome, self.stats(outcome), layer)
+    }
+
     fn stats_mut(&mut self, outcome: Outcome) -> &mut PathStats {
         &mut self.paths[outcome_index(outcome)]
     }
@@ -243,16 +298,26 @@ impl Tally {
             }
             _ => {}
         }
+        match (&mut self.residence, &other.residence) {
+            (Some(mine), Some(theirs)) => mine.merge(theirs),
+            (None, Some(theirs)) => self.residence = Some(theirs.clone()),
+            _ => {}
+        }
     }
 
-    /// Whether `other` keeps resolved counts on the same layout, or neither keeps any (safe
-    /// to merge).
+    /// Whether `other` keeps resolved counts on the same layout, or neither keeps any, and
+    /// residence sums on the same cells (safe to merge).
     pub fn compatible(&self, other: &Tally) -> bool {
-        match (&self.resolved, &other.resolved) {
+        let resolved = match (&self.resolved, &other.resolved) {
             (Some(a), Some(b)) => a.compatible(b),
             (None, None) => true,
             _ => false,
-        }
+        };
+        let residence = match (&self.residence, &other.residence) {
+            (Some(a), Some(b)) => a.compatible(b),
+            _ => true,
+        };
+        resolved && residence
     }
 
     /// Photons launched.
@@ -404,6 +469,10 @@ impl Tally {
             }
             tally.resolved = Some(Box::new(resolved));
             tally.check_resolved()?;
+        }
+        if let Some(residence) = repr.residence {
+            residence.check(tally.paths.each_ref().map(PathStats::count))?;
+            tally.residence = Some(Box::new(residence));
         }
         if tally.weighted {
             tally.make_weighted();
@@ -577,6 +646,8 @@ struct TallyRepr {
     walk: WalkRepr,
     #[serde(default)]
     resolved: Option<ResolvedRepr>,
+    #[serde(default)]
+    residence: Option<ResidenceTally>,
 }
 
 /// Serialised form of a [`Tally`], as written.
@@ -593,6 +664,8 @@ struct TallyOut<'a> {
     walk: &'a WalkCounters,
     #[serde(skip_serializing_if = "Option::is_none")]
     resolved: Option<&'a ResolvedTally>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    residence: Option<&'a ResidenceTally>,
 }
 
 impl Serialize for Tally {
@@ -608,6 +681,7 @@ impl Serialize for Tally {
             censored: self.censored(),
             walk: &self.walk,
             resolved: self.resolved.as_deref(),
+            residence: self.residence.as_deref(),
         }
         .serialize(serializer)
     }

@@ -20,6 +20,7 @@ use rand::{Rng, RngExt};
 use super::direct::{DirectWalker, JumpSites, Photon, Stop, WalkLimits};
 use super::direction;
 use super::jump_spheres::{JumpOutcome, LocalJumps, LocalSettings};
+use super::ledger::{Ledger, NoLedger, PathLedger};
 use super::radial_chain::{ChainSettings, RadialChain};
 use crate::medium::{Geometry, Medium, MediumError, Quantity};
 use crate::tally::{Outcome, PhotonRecord};
@@ -191,6 +192,27 @@ impl AcceleratedWalker {
 
     /// Follows one photon from the source until it leaves, is absorbed or hits the step cap.
     pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
+        self.walk_booking(rng, &mut NoLedger)
+    }
+
+    /// [`Self::walk`], also booking the photon's time and interactions by cell in `ledger`
+    /// (cleared first; made by [`PathLedger::for_medium`] for the same medium). Inside a
+    /// jump the ledger gets the expected split of the jump's time over the cells
+    /// ([`super::ledger`]). The photon and its record are the same as without the ledger.
+    pub fn walk_with_ledger<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        ledger: &mut PathLedger,
+    ) -> PhotonRecord {
+        ledger.clear();
+        self.walk_booking(rng, ledger)
+    }
+
+    fn walk_booking<R: Rng + ?Sized, L: Ledger>(
+        &self,
+        rng: &mut R,
+        ledger: &mut L,
+    ) -> PhotonRecord {
         match &self.jumps {
             Jumps::Radial(chain) => self.walk_with(
                 &Radial {
@@ -198,12 +220,18 @@ impl AcceleratedWalker {
                     boundaries_cm: &self.boundaries_cm,
                 },
                 rng,
+                ledger,
             ),
-            Jumps::Local(local) => self.walk_with(local, rng),
+            Jumps::Local(local) => self.walk_with(local, rng, ledger),
         }
     }
 
-    fn walk_with<J: Jumper, R: Rng + ?Sized>(&self, jumper: &J, rng: &mut R) -> PhotonRecord {
+    fn walk_with<J: Jumper, R: Rng + ?Sized, L: Ledger>(
+        &self,
+        jumper: &J,
+        rng: &mut R,
+        ledger: &mut L,
+    ) -> PhotonRecord {
         let (mut photon, reflected_at_entry) = self.direct.launch(rng);
         if reflected_at_entry {
             return photon.record(Outcome::Specular, 0.0, 0.0, 0.0);
@@ -219,7 +247,7 @@ impl AcceleratedWalker {
                 if photon.steps >= max_steps {
                     break Outcome::Censored;
                 }
-                match jumper.jump(&mut photon, incoming.as_ref(), rng) {
+                match jumper.jump(&mut photon, incoming.as_ref(), rng, ledger) {
                     Some(done) => {
                         photon.steps += 1;
                         jumps += 1.0;
@@ -232,7 +260,7 @@ impl AcceleratedWalker {
                     None => {}
                 }
             }
-            match self.direct.follow(&mut photon, rng, jumper) {
+            match self.direct.follow(&mut photon, rng, jumper, ledger) {
                 Stop::Ended(outcome) => break outcome,
                 Stop::JumpSite => site = Some(Some(photon.direction)),
             }
@@ -246,11 +274,13 @@ impl AcceleratedWalker {
 trait Jumper: JumpSites {
     /// One jump from the photon's position (a scattering site reached with direction
     /// `incoming`, or an isotropic source), or `None` if none applies there after all.
-    fn jump<R: Rng + ?Sized>(
+    /// Books the jump's expected residence by cell in `ledger`.
+    fn jump<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<JumpOutcome>;
 }
 
@@ -262,13 +292,14 @@ impl JumpSites for LocalJumps {
 }
 
 impl Jumper for LocalJumps {
-    fn jump<R: Rng + ?Sized>(
+    fn jump<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<JumpOutcome> {
-        LocalJumps::jump(self, photon, incoming, rng)
+        LocalJumps::jump(self, photon, incoming, rng, ledger)
     }
 }
 
@@ -286,11 +317,12 @@ impl JumpSites for Radial<'_> {
 }
 
 impl Jumper for Radial<'_> {
-    fn jump<R: Rng + ?Sized>(
+    fn jump<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<JumpOutcome> {
         let transition = self
             .chain
@@ -301,9 +333,12 @@ impl Jumper for Radial<'_> {
             if rng.random::<f64>() >= (-hazard).exp() {
                 // Absorbed: when, given that it happened during the passage (the hazard
                 // taken as uniform in time); the photon ends where the passage started.
-                let fraction = -(-rng.random::<f64>() * (-hazard).exp_m1()).ln_1p() / hazard;
+                let fraction =
+                    super::jump_spheres::fraction_before_absorption(rng.random(), hazard);
                 photon.time_s += fraction * passage.time_s;
                 photon.scatterings += fraction * passage.scatterings;
+                transition.book(fraction * passage.time_s, ledger);
+                ledger.book(photon.layer, 0.0, 1.0);
                 return Some(JumpOutcome {
                     elapsed_s: fraction * passage.time_s,
                     absorbed: true,
@@ -312,6 +347,7 @@ impl Jumper for Radial<'_> {
         }
         photon.time_s += passage.time_s;
         photon.scatterings += passage.scatterings;
+        transition.book(passage.time_s, ledger);
         // A uniformly random point of the exit sphere, crossing it outward or inward.
         let normal = direction::isotropic(rng);
         let radius = transition.exit_radius_cm;

@@ -21,6 +21,7 @@ use rand_distr::Exp1;
 use super::direction;
 use super::fresnel::{fresnel_reflectance, refract_across_z};
 use super::geometry::{Exit, plane_exit};
+use super::ledger::{Ledger, NoLedger, PathLedger};
 use super::phase::PhaseFunction;
 use crate::medium::{EmissionSampler, Geometry, Medium, Source};
 use crate::tally::{Outcome, PhotonRecord};
@@ -193,11 +194,31 @@ impl DirectWalker {
 
     /// Follows one photon from the source until it leaves, is absorbed or hits the step cap.
     pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
+        self.walk_booking(rng, &mut NoLedger)
+    }
+
+    /// [`Self::walk`], also booking the photon's time and interactions by cell in `ledger`
+    /// (cleared first; made by [`PathLedger::for_medium`] for the same medium). The photon
+    /// and its record are the same as without the ledger.
+    pub fn walk_with_ledger<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        ledger: &mut PathLedger,
+    ) -> PhotonRecord {
+        ledger.clear();
+        self.walk_booking(rng, ledger)
+    }
+
+    fn walk_booking<R: Rng + ?Sized, L: Ledger>(
+        &self,
+        rng: &mut R,
+        ledger: &mut L,
+    ) -> PhotonRecord {
         let (mut photon, reflected_at_entry) = self.launch(rng);
         let outcome = if reflected_at_entry {
             Outcome::Specular
         } else {
-            match self.follow(&mut photon, rng, &NoJumps) {
+            match self.follow(&mut photon, rng, &NoJumps, ledger) {
                 Stop::Ended(outcome) => outcome,
                 Stop::JumpSite => unreachable!("the direct walk has no jump sites"),
             }
@@ -232,24 +253,27 @@ impl DirectWalker {
     /// and returns when the walk ends or, after an interaction that is a scattering, where
     /// `jumps` allows a jump (before the scattering direction is drawn).
     #[inline(always)]
-    pub(super) fn follow<R: Rng + ?Sized, J: JumpSites>(
+    pub(super) fn follow<R: Rng + ?Sized, J: JumpSites, L: Ledger>(
         &self,
         photon: &mut Photon,
         rng: &mut R,
         jumps: &J,
+        ledger: &mut L,
     ) -> Stop {
         let mut interaction_pending = false;
         loop {
             let run = match self.layers[photon.layer].phase {
                 PhaseFunction::Isotropic => {
-                    self.in_layer::<R, J, true>(photon, interaction_pending, rng, jumps)
+                    self.in_layer::<R, J, L, true>(photon, interaction_pending, rng, jumps, ledger)
                 }
-                _ => self.in_layer::<R, J, false>(photon, interaction_pending, rng, jumps),
+                _ => {
+                    self.in_layer::<R, J, L, false>(photon, interaction_pending, rng, jumps, ledger)
+                }
             };
             match run {
                 InLayer::Stop(stop) => return stop,
                 InLayer::Leaves(tau) => {
-                    if let Some(outcome) = self.cross(photon, tau, rng) {
+                    if let Some(outcome) = self.cross(photon, tau, rng, ledger) {
                         return Stop::Ended(outcome);
                     }
                     interaction_pending = true;
@@ -261,14 +285,16 @@ impl DirectWalker {
     /// The loop over flights that end inside the photon's current layer, with the photon in
     /// local variables. Starts with the pending interaction, if any, then alternates flight
     /// and interaction. Returns at the first flight that leaves the layer (the photon not
-    /// yet moved), at the end of the walk, or at a jump site.
+    /// yet moved), at the end of the walk, or at a jump site. The time and interactions of
+    /// the stay are booked in `ledger` once, at the end.
     #[inline(always)]
-    fn in_layer<R: Rng + ?Sized, J: JumpSites, const ISOTROPIC: bool>(
+    fn in_layer<R: Rng + ?Sized, J: JumpSites, L: Ledger, const ISOTROPIC: bool>(
         &self,
         photon: &mut Photon,
         mut interaction_pending: bool,
         rng: &mut R,
         jumps: &J,
+        ledger: &mut L,
     ) -> InLayer {
         let layer = &self.layers[photon.layer];
         let index = photon.layer;
@@ -283,9 +309,12 @@ impl DirectWalker {
         let mut time_s = photon.time_s;
         let mut scatterings = photon.scatterings;
         let mut steps = photon.steps;
+        let mut stay_s = 0.0;
+        let mut absorbed = 0.0;
         let stop = loop {
             if interaction_pending {
                 if absorbing && rng.random::<f64>() >= albedo {
+                    absorbed = 1.0;
                     break InLayer::Stop(Stop::Ended(Outcome::Absorbed));
                 }
                 scatterings += 1.0;
@@ -317,8 +346,11 @@ impl DirectWalker {
                 break InLayer::Leaves(tau);
             }
             p = end;
-            time_s += s * slowness;
+            let flight_s = s * slowness;
+            time_s += flight_s;
+            stay_s += flight_s;
         };
+        ledger.book(index, stay_s, scatterings - photon.scatterings + absorbed);
         photon.position = p;
         photon.direction = u;
         photon.time_s = time_s;
@@ -405,15 +437,16 @@ impl DirectWalker {
     /// The rest of a flight of optical depth `tau` that leaves the photon's layer: spends
     /// it across layers with exact distances. Returns the outcome if the photon leaves the
     /// medium (or can never interact), `None` at an interaction point.
-    fn cross<R: Rng + ?Sized>(
+    fn cross<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         tau: f64,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<Outcome> {
         match self.geometry {
-            Geometry::Sphere => self.cross_shells(photon, tau),
-            Geometry::Slab => self.cross_planes(photon, tau, rng),
+            Geometry::Sphere => self.cross_shells(photon, tau, ledger),
+            Geometry::Slab => self.cross_planes(photon, tau, rng, ledger),
         }
     }
 
@@ -422,7 +455,12 @@ impl DirectWalker {
     /// r² = h² + t²: the distance to a shell boundary of radius ρ is √(ρ² − h²) − t outward,
     /// −t − √(ρ² − h²) inward. The walk advances the scalar t across shells and moves the
     /// photon once, at the end.
-    fn cross_shells(&self, photon: &mut Photon, mut tau: f64) -> Option<Outcome> {
+    fn cross_shells<L: Ledger>(
+        &self,
+        photon: &mut Photon,
+        mut tau: f64,
+        ledger: &mut L,
+    ) -> Option<Outcome> {
         let start = photon.position;
         let u = photon.direction;
         let b = start.dot(&u);
@@ -444,12 +482,14 @@ impl DirectWalker {
                 let s = tau * layer.mean_free_path_cm;
                 travelled += s;
                 photon.time_s += s * layer.slowness_s_cm;
+                ledger.book(layer_index, s * layer.slowness_s_cm, 0.0);
                 break None;
             }
             tau -= tau_to_exit;
             travelled += distance;
             along += distance;
             photon.time_s += distance * layer.slowness_s_cm;
+            ledger.book(layer_index, distance * layer.slowness_s_cm, 0.0);
             if inward {
                 layer_index -= 1;
             } else if layer_index + 1 == self.layers.len() {
@@ -465,11 +505,12 @@ impl DirectWalker {
 
     /// [`Self::cross`] in a slab, with Fresnel reflection and Snell refraction at index
     /// steps.
-    fn cross_planes<R: Rng + ?Sized>(
+    fn cross_planes<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         mut tau: f64,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<Outcome> {
         loop {
             let layer = &self.layers[photon.layer];
@@ -484,6 +525,7 @@ impl DirectWalker {
                 let s = tau * layer.mean_free_path_cm;
                 photon.position += s * photon.direction;
                 photon.time_s += s * layer.slowness_s_cm;
+                ledger.book(photon.layer, s * layer.slowness_s_cm, 0.0);
                 return None;
             }
             if !distance.is_finite() {
@@ -493,6 +535,7 @@ impl DirectWalker {
             tau -= tau_to_exit;
             photon.position += distance * photon.direction;
             photon.time_s += distance * layer.slowness_s_cm;
+            ledger.book(photon.layer, distance * layer.slowness_s_cm, 0.0);
             if self.index_mismatch && self.reflects(photon, exit, rng) {
                 continue;
             }
@@ -551,13 +594,19 @@ mod tests {
         let walker = nearly_clear_sphere();
         // From (0, 0.5, 3) straight down: through the core, out at z = −√(16 − 0.25).
         let mut p = photon(Vector3::new(0.0, 0.5, 3.0), Vector3::new(0.0, 0.0, -1.0), 1);
-        assert_eq!(walker.cross_shells(&mut p, 1.0), Some(Outcome::Escaped));
+        assert_eq!(
+            walker.cross_shells(&mut p, 1.0, &mut NoLedger),
+            Some(Outcome::Escaped)
+        );
         let chord = 3.0 + 15.75f64.sqrt();
         assert!((p.time_s * SPEED_OF_LIGHT_CM_S / chord - 1.0).abs() < 1e-14);
         assert!((p.position.z + 15.75f64.sqrt()).abs() < 1e-12);
         // A ray that misses the core: from (0, 0, 3) along −x, out at x = −√7.
         let mut p = photon(Vector3::new(0.0, 0.0, 3.0), Vector3::new(-1.0, 0.0, 0.0), 1);
-        assert_eq!(walker.cross_shells(&mut p, 1.0), Some(Outcome::Escaped));
+        assert_eq!(
+            walker.cross_shells(&mut p, 1.0, &mut NoLedger),
+            Some(Outcome::Escaped)
+        );
         assert!((p.time_s * SPEED_OF_LIGHT_CM_S / 7f64.sqrt() - 1.0).abs() < 1e-14);
     }
 
@@ -567,7 +616,7 @@ mod tests {
         // Down from z = 3: 2 cm in the envelope (τ = 4e-9), then into the core (1e-9/cm):
         // τ = 5e-9 ends 1 cm further, at the centre.
         let mut p = photon(Vector3::new(0.0, 0.0, 3.0), Vector3::new(0.0, 0.0, -1.0), 1);
-        assert_eq!(walker.cross_shells(&mut p, 5e-9), None);
+        assert_eq!(walker.cross_shells(&mut p, 5e-9, &mut NoLedger), None);
         assert_eq!(p.layer, 0);
         assert!(p.position.z.abs() < 1e-6, "{}", p.position.z);
     }

@@ -323,7 +323,7 @@ fn merge_refuses_tampered_tallies_with_the_reason() {
     refuse(
         "old.json",
         &|v| v["shard"]["format"] = serde_json::json!(1),
-        &["shard format 1", "reads format 2 only", "rerun it"],
+        &["shard format 1", "reads format 3 only", "rerun it"],
     );
 }
 

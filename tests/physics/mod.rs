@@ -14,6 +14,7 @@ mod profile_media;
 mod profile_monte_carlo;
 mod quantiles;
 mod reproducibility;
+mod residence;
 mod slab_optics;
 mod slab_reflectance;
 mod sphere_diffusion;

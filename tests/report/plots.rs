@@ -526,7 +526,7 @@ fn profile_panels_show_structure_photosphere_and_budget() {
     // The accrual curve ends at 100 % and passes the report's half-time radius at 50 %.
     let accrual = &budget.accrual;
     assert!((accrual.last().unwrap().1 - 1.0).abs() < 1e-12);
-    let half = report.analysis.time_budget.radius_50_percent_cm;
+    let half = report.analysis.time_budget.accrual_radius_50_percent_cm;
     let below = accrual.iter().rfind(|(r, _)| *r <= half).unwrap();
     let above = accrual.iter().find(|(r, _)| *r > half).unwrap();
     assert!(below.1 <= 0.5 + 1e-12 && above.1 >= 0.5 - 1e-12);

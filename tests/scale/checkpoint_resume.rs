@@ -120,7 +120,7 @@ fn a_damaged_or_older_checkpoint_is_refused_with_the_field() {
     assert!(
         error
             .to_string()
-            .contains("checkpoint format 1, but this sojourn reads format 2 only"),
+            .contains("checkpoint format 1, but this sojourn reads format 3 only"),
         "{error}"
     );
 }

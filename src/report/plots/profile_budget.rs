@@ -77,9 +77,9 @@ impl ProfileTimeBudgetPanel {
             budget,
             accrual,
             accrual_radii_cm: [
-                t.radius_10_percent_cm,
-                t.radius_50_percent_cm,
-                t.radius_90_percent_cm,
+                t.accrual_radius_10_percent_cm,
+                t.accrual_radius_50_percent_cm,
+                t.accrual_radius_90_percent_cm,
             ],
         })
     }
@@ -101,7 +101,7 @@ impl ProfileTimeBudgetPanel {
             ),
         );
         spec.notes
-            .retain(|note| !note.starts_with("Monte Carlo residence"));
+            .retain(|note| !note.starts_with("no Monte Carlo here"));
         let [r10, r50, r90] = self.accrual_radii_cm;
         spec.notes.push(format!(
             "T accrues 10 % inside r = {}, half inside {}, 90 % inside {}",

@@ -9,6 +9,10 @@
 //! rises faster, the walk is slowed by more than the optical depth alone says (by the
 //! growing volume of outer shells and the source's position).
 //!
+//! A run adds the Monte Carlo residence of the escaped photons on the same cells
+//! ([`crate::analysis::ResidenceBudget`]): the cumulative share with 1σ error bars, and
+//! both half-time radii in a note.
+//!
 //! [`DiffusionEstimate::layer_residence_s`]: crate::diffusion::DiffusionEstimate::layer_residence_s
 
 use super::display_unit::DisplayUnit;
@@ -53,7 +57,15 @@ pub struct TimeBudgetPanel {
     pub optical_depth_share: Vec<(f64, f64)>,
     /// The model's layers, innermost first.
     pub layers: Vec<LayerShare>,
+    /// Monte Carlo: `(radius cm, share of the escaped photons' mean time spent inside it,
+    /// its 1σ error)` at cell edges (empty without a run).
+    pub monte_carlo: Vec<(f64, f64, f64)>,
+    /// Half-time radii, cm: Monte Carlo `(value, 1σ)` and diffusion, when known.
+    pub half_time_cm: (Option<(f64, f64)>, Option<f64>),
 }
+
+/// Monte Carlo points drawn at most (cell edges thinned evenly beyond it).
+const MAX_MONTE_CARLO_POINTS: usize = 40;
 
 /// Thin shells in all for the fine curve (at least one per layer).
 const FINE_SHELLS: usize = 600;
@@ -107,16 +119,37 @@ impl TimeBudgetPanel {
             time_share,
             optical_depth_share: optical_depth_share(medium),
             layers,
+            monte_carlo: Vec::new(),
+            half_time_cm: (None, None),
         })
     }
 
-    /// The time-budget panel of a run (spheres only).
+    /// The time-budget panel of a run (spheres only): diffusion with the Monte Carlo
+    /// residence of the run beside it.
     pub fn for_run(inputs: &RunInputs) -> Option<Self> {
-        Self::for_sphere(
+        let mut panel = Self::for_sphere(
             inputs.medium,
-            inputs.title("Where diffusion spends its time"),
+            inputs.title("Where the time is spent"),
             inputs.subtitle(),
-        )
+        )?;
+        if let Some(budget) = &inputs.report.analysis.residence_budget {
+            let shares = budget.monte_carlo_shares();
+            let stride = shares.len().div_ceil(MAX_MONTE_CARLO_POINTS).max(1);
+            panel.monte_carlo = std::iter::once((0.0, 0.0, 0.0))
+                .chain(
+                    shares
+                        .iter()
+                        .enumerate()
+                        .filter(|(k, _)| (k + 1) % stride == 0 || k + 1 == shares.len())
+                        .map(|(_, (r, e))| (*r, e.value, e.stderr)),
+                )
+                .collect();
+            panel.half_time_cm = (
+                budget.half_time_cm.map(|e| (e.value, e.stderr)),
+                budget.diffusion_half_time_cm,
+            );
+        }
+        Some(panel)
     }
 
     /// The chart this panel draws.
@@ -185,7 +218,29 @@ impl TimeBudgetPanel {
                 shares.join(" · ")
             ));
         }
-        notes.push("Monte Carlo residence per shell is not tallied yet".into());
+        if self.monte_carlo.len() > 1 {
+            series.push(
+                Series::new(
+                    "Monte Carlo: share of the escaped photons' mean time spent inside r (± 1σ)",
+                    self.monte_carlo
+                        .iter()
+                        .map(|&(r, s, _)| (unit.show(r), s))
+                        .collect(),
+                    SeriesStyle::points(Colour::Teal, MarkerShape::Circle),
+                )
+                .with_y_errors(self.monte_carlo.iter().map(|&(_, _, e)| e).collect()),
+            );
+            if let (Some((mc, error)), Some(theory)) = self.half_time_cm {
+                notes.push(format!(
+                    "half the time inside r = {} ± {} (Monte Carlo), {} (diffusion)",
+                    unit.format(mc),
+                    unit.format(error),
+                    unit.format(theory)
+                ));
+            }
+        } else {
+            notes.push("no Monte Carlo here: `sojourn run --plot` adds its residence".into());
+        }
         ChartSpec {
             title: self.title.clone(),
             subtitle: self.subtitle.clone(),
@@ -209,7 +264,8 @@ impl Panel for TimeBudgetPanel {
             title: self.title.clone(),
             caption: "Cumulative share of the steady-diffusion mean exit time spent inside \
                       radius r (surface at the boundary), against the share of optical depth; \
-                      squares are the model's own layer boundaries."
+                      squares are the model's own layer boundaries; circles with 1σ bars the \
+                      Monte Carlo residence of the run's escaped photons on the same cells."
                 .into(),
             svg: super::line_chart(&self.spec())?,
         })
