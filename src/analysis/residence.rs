@@ -21,7 +21,7 @@
 use serde::Serialize;
 
 use crate::diffusion;
-use crate::medium::{Geometry, Medium};
+use crate::medium::{Geometry, Medium, Source};
 use crate::tally::{Estimate, Outcome, Tally};
 use crate::transport::ledger::declared_layer_of_cells;
 
@@ -49,6 +49,9 @@ pub struct ResidenceBudget {
     pub photons: String,
     /// Monte Carlo mean time of those photons, s (the sum over the cells).
     pub mean_time_s: Option<Estimate>,
+    /// Where steady diffusion starts its photons: "the run's source", or "the centre" for
+    /// an energy-generation source (whose photons start where the energy is released).
+    pub diffusion_source: String,
     /// Steady diffusion: the sum over the cells of `diffusion_time_s`, s (the mean exit
     /// time of a point source; for sources on a slab's face, the residence of the source
     /// placed as [`crate::diffusion::estimate`] places it).
@@ -164,6 +167,11 @@ impl ResidenceBudget {
         Some(Self {
             photons: photons.into(),
             mean_time_s,
+            diffusion_source: if medium.source() == Source::EnergyGeneration {
+                "the centre".into()
+            } else {
+                "the run's source".into()
+            },
             diffusion_mean_time_s: diffusion_total,
             half_time_cm,
             diffusion_half_time_cm,

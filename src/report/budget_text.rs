@@ -143,9 +143,10 @@ pub(super) fn write_residence_budget(out: &mut String, report: &RunReport) {
     }
     let _ = writeln!(
         out,
-        "  mean time {} s (Monte Carlo), {} s (diffusion, surface at the boundary)",
+        "  mean time {} s (Monte Carlo), {} s (diffusion from {}, surface at the boundary)",
         format_significant(total.value, 5),
-        format_significant(budget.diffusion_mean_time_s, 5)
+        format_significant(budget.diffusion_mean_time_s, 5),
+        budget.diffusion_source
     );
     let _ = writeln!(out);
 }

@@ -4,8 +4,8 @@
 //! of a sphere's optical structure (`sojourn profile`), with its text and CSV renderings.
 //! The figures and the HTML report need the `plots` feature (on by default).
 
-#[cfg(feature = "plots")]
 mod budget_text;
+#[cfg(feature = "plots")]
 pub mod html;
 #[cfg(feature = "plots")]
 pub mod plots;

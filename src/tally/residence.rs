@@ -38,31 +38,52 @@ pub trait PhotonResidence {
     fn add_paths_by_layer_cm(&self, out: &mut [f64]);
 }
 
-/// Σwx, Σw²x and Σw²x² of one quantity over the photons of one outcome.
+/// Σwx, Σw²x and Σw²x² of one quantity over the photons of one outcome. While every
+/// weight is 1, Σw²x equals Σwx and is not stored (`w2_x` absent), which saves a third of
+/// the additions of analog runs.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct ScoreSums {
     w_x: ExactSum,
-    w2_x: ExactSum,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    w2_x: Option<ExactSum>,
     w2_x2: ExactSum,
 }
 
 impl ScoreSums {
     fn add(&mut self, x: f64, w: f64) {
-        let wx = w * x;
-        self.w_x.add(wx);
         if w == 1.0 {
-            self.w2_x.add(x);
+            self.w_x.add(x);
+            if let Some(w2_x) = &mut self.w2_x {
+                w2_x.add(x);
+            }
             self.w2_x2.add(x * x);
         } else {
-            self.w2_x.add(w * wx);
+            let wx = w * x;
+            self.w2_x
+                .get_or_insert_with(|| self.w_x.clone())
+                .add(w * wx);
+            self.w_x.add(wx);
             self.w2_x2.add(wx * wx);
         }
     }
 
+    /// Σw²x (equal to Σwx while every weight is 1).
+    fn w2_x(&self) -> &ExactSum {
+        self.w2_x.as_ref().unwrap_or(&self.w_x)
+    }
+
     fn merge(&mut self, other: &ScoreSums) {
+        match (&mut self.w2_x, &other.w2_x) {
+            (Some(mine), theirs) => mine.merge(theirs.as_ref().unwrap_or(&other.w_x)),
+            (None, Some(theirs)) => {
+                let mut w2_x = self.w_x.clone();
+                w2_x.merge(theirs);
+                self.w2_x = Some(w2_x);
+            }
+            (None, None) => {}
+        }
         self.w_x.merge(&other.w_x);
-        self.w2_x.merge(&other.w2_x);
         self.w2_x2.merge(&other.w2_x2);
     }
 
@@ -75,7 +96,7 @@ impl ScoreSums {
         let m = self.w_x.value() / weight;
         let n = count as f64;
         let spread =
-            (self.w2_x2.value() - 2.0 * m * self.w2_x.value() + m * m * weight_squared).max(0.0);
+            (self.w2_x2.value() - 2.0 * m * self.w2_x().value() + m * m * weight_squared).max(0.0);
         let stderr = if count > 1 {
             (n / (n - 1.0) * spread).sqrt() / weight
         } else {
@@ -85,7 +106,7 @@ impl ScoreSums {
     }
 
     fn check(&self) -> Result<(), &'static str> {
-        let (a, b, c) = (self.w_x.value(), self.w2_x.value(), self.w2_x2.value());
+        let (a, b, c) = (self.w_x.value(), self.w2_x().value(), self.w2_x2.value());
         if !(a.is_finite() && b.is_finite() && c.is_finite()) {
             return Err("a sum that is not finite");
         }

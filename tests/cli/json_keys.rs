@@ -122,6 +122,7 @@ const ADDED: &[&str] = &[
     "residence_budget.cells[].time_s.value",
     "residence_budget.diffusion_half_time_cm",
     "residence_budget.diffusion_mean_time_s",
+    "residence_budget.diffusion_source",
     "residence_budget.half_time_cm",
     "residence_budget.half_time_cm.stderr",
     "residence_budget.half_time_cm.value",

@@ -274,6 +274,25 @@ fn layered_sphere_marks_diffusion_means_and_has_a_time_budget() {
         .count();
     assert_eq!(squares, budget.layers.len() + 2);
     check_tick_labels(&svg);
+    // The run's Monte Carlo residence on the same cells, with 1σ bars, and no note that
+    // it is missing.
+    let monte_carlo = spec
+        .series
+        .iter()
+        .find(|s| s.label.starts_with("Monte Carlo: share"))
+        .expect("a Monte Carlo series");
+    assert_eq!(
+        monte_carlo.y_errors.as_ref().map(Vec::len),
+        Some(monte_carlo.points.len())
+    );
+    assert_eq!(monte_carlo.points.len(), budget.layers.len() + 1);
+    assert!((monte_carlo.points.last().unwrap().1 - 1.0).abs() < 1e-12);
+    assert!(
+        spec.notes
+            .iter()
+            .any(|n| n.starts_with("half the time inside"))
+    );
+    assert!(!spec.notes.iter().any(|n| n.contains("not tallied")));
 }
 
 #[test]

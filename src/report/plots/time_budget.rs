@@ -133,16 +133,24 @@ impl TimeBudgetPanel {
             inputs.subtitle(),
         )?;
         if let Some(budget) = &inputs.report.analysis.residence_budget {
+            // Cell edges spread evenly in radius: the first edge at or beyond each of
+            // MAX_MONTE_CARLO_POINTS equally spaced radii.
             let shares = budget.monte_carlo_shares();
-            let stride = shares.len().div_ceil(MAX_MONTE_CARLO_POINTS).max(1);
-            panel.monte_carlo = std::iter::once((0.0, 0.0, 0.0))
-                .chain(
+            let outer = shares.last().map_or(0.0, |(r, _)| *r);
+            let mut picked: Vec<usize> = (1..=MAX_MONTE_CARLO_POINTS)
+                .filter_map(|j| {
+                    let radius = outer * j as f64 / MAX_MONTE_CARLO_POINTS as f64;
                     shares
                         .iter()
-                        .enumerate()
-                        .filter(|(k, _)| (k + 1) % stride == 0 || k + 1 == shares.len())
-                        .map(|(_, (r, e))| (*r, e.value, e.stderr)),
-                )
+                        .position(|(r, _)| *r >= radius * (1.0 - 1e-12))
+                })
+                .collect();
+            picked.dedup();
+            panel.monte_carlo = std::iter::once((0.0, 0.0, 0.0))
+                .chain(picked.iter().map(|&k| {
+                    let (r, e) = shares[k];
+                    (r, e.value, e.stderr)
+                }))
                 .collect();
             panel.half_time_cm = (
                 budget.half_time_cm.map(|e| (e.value, e.stderr)),
