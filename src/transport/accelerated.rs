@@ -17,12 +17,13 @@
 use nalgebra::Vector3;
 use rand::{Rng, RngExt};
 
-use super::direct::{DirectWalker, JumpSites, Photon, Stop, WalkLimits};
+use super::absorption::Absorption;
+use super::direct::{DepositSite, DirectWalker, JumpSites, Photon, Stop, WalkLimits};
 use super::direction;
-use super::jump_spheres::{JumpOutcome, LocalJumps, LocalSettings};
+use super::jump_spheres::{JumpOutcome, LocalJumps, LocalSettings, PassageCapture};
 use super::radial_chain::{ChainSettings, RadialChain};
 use crate::medium::{Geometry, Medium, MediumError, Quantity};
-use crate::tally::{Outcome, PhotonRecord};
+use crate::tally::{AbsorbedAlongPath, Outcome, PhotonRecord};
 
 /// Parameters of the accelerated walk, always valid: γ and ε are finite and positive. The
 /// fields are private; [`Acceleration::new`] checks them, and so does deserialisation (a
@@ -189,25 +190,57 @@ impl AcceleratedWalker {
         }
     }
 
-    /// Follows one photon from the source until it leaves, is absorbed or hits the step cap.
-    pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
-        match &self.jumps {
-            Jumps::Radial(chain) => self.walk_with(
-                &Radial {
-                    chain,
-                    boundaries_cm: &self.boundaries_cm,
-                },
-                rng,
-            ),
-            Jumps::Local(local) => self.walk_with(local, rng),
-        }
+    /// The same walker with absorption simulated as `absorption` (in the direct steps and
+    /// in the jumps); weighted photons list their single deposits if `keep_deposits`.
+    pub fn with_absorption(mut self, absorption: Absorption, keep_deposits: bool) -> Self {
+        self.direct = self.direct.with_absorption(absorption, keep_deposits);
+        self
     }
 
-    fn walk_with<J: Jumper, R: Rng + ?Sized>(&self, jumper: &J, rng: &mut R) -> PhotonRecord {
+    /// Follows one photon from the source until it leaves, is absorbed or hits the step cap.
+    /// For weighted walks, what the photon left in the medium is dropped: use
+    /// [`AcceleratedWalker::walk_weighted`].
+    pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
+        self.walk_weighted(rng, &mut AbsorbedAlongPath::default())
+    }
+
+    /// Follows one photon, putting what it left in the medium (weighted walks; nothing for
+    /// analog ones) into `absorbed`, which is cleared first (its memory is reused).
+    pub fn walk_weighted<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        absorbed: &mut AbsorbedAlongPath,
+    ) -> PhotonRecord {
         let (mut photon, reflected_at_entry) = self.direct.launch(rng);
-        if reflected_at_entry {
-            return photon.record(Outcome::Specular, 0.0, 0.0, 0.0);
-        }
+        absorbed.clear();
+        std::mem::swap(&mut photon.absorbed, absorbed);
+        let record = if reflected_at_entry {
+            photon.record(Outcome::Specular, 0.0, 0.0, 0.0)
+        } else {
+            match &self.jumps {
+                Jumps::Radial(chain) => self.walk_with(
+                    &Radial {
+                        chain,
+                        boundaries_cm: &self.boundaries_cm,
+                    },
+                    &mut photon,
+                    rng,
+                ),
+                Jumps::Local(local) => self.walk_with(local, &mut photon, rng),
+            }
+        };
+        std::mem::swap(&mut photon.absorbed, absorbed);
+        record
+    }
+
+    fn walk_with<J: Jumper, R: Rng + ?Sized>(
+        &self,
+        jumper: &J,
+        photon: &mut Photon,
+        rng: &mut R,
+    ) -> PhotonRecord {
+        let weighted = self.direct.weighted();
+        let keep_deposits = self.direct.keep_deposits();
         let max_steps = self.direct.limits().max_steps;
         let (mut jumps, mut jump_time_s) = (0.0, 0.0);
         // An isotropic source is a jump site without an incoming direction.
@@ -219,7 +252,13 @@ impl AcceleratedWalker {
                 if photon.steps >= max_steps {
                     break Outcome::Censored;
                 }
-                match jumper.jump(&mut photon, incoming.as_ref(), rng) {
+                let start = DepositSite {
+                    time_s: photon.time_s,
+                    scatterings: photon.scatterings,
+                    layer: photon.layer,
+                    depth_cm: photon.position.z,
+                };
+                match jumper.jump(photon, incoming.as_ref(), weighted, rng) {
                     Some(done) => {
                         photon.steps += 1;
                         jumps += 1.0;
@@ -227,12 +266,27 @@ impl AcceleratedWalker {
                         if done.absorbed {
                             break Outcome::Absorbed;
                         }
+                        if let Some(capture) = done.capture {
+                            // Weighted: the passage's survival e^(−h) applied to the
+                            // weight, the loss left where the passage started, at its mean
+                            // time given absorption during the passage.
+                            let site = DepositSite {
+                                time_s: start.time_s + capture.mean_fraction * done.elapsed_s,
+                                scatterings: start.scatterings
+                                    + capture.mean_fraction
+                                        * (photon.scatterings - start.scatterings),
+                                ..start
+                            };
+                            if !photon.capture(capture.survival, site, keep_deposits, rng) {
+                                break Outcome::Absorbed;
+                            }
+                        }
                     }
-                    None if incoming.is_some() => self.direct.scatter(&mut photon, rng),
+                    None if incoming.is_some() => self.direct.scatter(photon, rng),
                     None => {}
                 }
             }
-            match self.direct.follow(&mut photon, rng, jumper) {
+            match self.direct.follow(photon, rng, jumper) {
                 Stop::Ended(outcome) => break outcome,
                 Stop::JumpSite => site = Some(Some(photon.direction)),
             }
@@ -246,10 +300,13 @@ impl AcceleratedWalker {
 trait Jumper: JumpSites {
     /// One jump from the photon's position (a scattering site reached with direction
     /// `incoming`, or an isotropic source), or `None` if none applies there after all.
+    /// `weighted`: absorption during the jump as a survival factor
+    /// ([`JumpOutcome::capture`]) instead of an analog end.
     fn jump<R: Rng + ?Sized>(
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
+        weighted: bool,
         rng: &mut R,
     ) -> Option<JumpOutcome>;
 }
@@ -266,9 +323,10 @@ impl Jumper for LocalJumps {
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
+        weighted: bool,
         rng: &mut R,
     ) -> Option<JumpOutcome> {
-        LocalJumps::jump(self, photon, incoming, rng)
+        LocalJumps::jump(self, photon, incoming, weighted, rng)
     }
 }
 
@@ -290,13 +348,16 @@ impl Jumper for Radial<'_> {
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
+        weighted: bool,
         rng: &mut R,
     ) -> Option<JumpOutcome> {
         let transition = self
             .chain
             .transition(&photon.position, photon.layer, incoming, rng)?;
         let passage = transition.passage;
-        if passage.absorption_hazard > 0.0 {
+        let capture = (weighted && passage.absorption_hazard > 0.0)
+            .then(|| PassageCapture::of_hazard(passage.absorption_hazard));
+        if !weighted && passage.absorption_hazard > 0.0 {
             let hazard = passage.absorption_hazard;
             if rng.random::<f64>() >= (-hazard).exp() {
                 // Absorbed: when, given that it happened during the passage (the hazard
@@ -307,6 +368,7 @@ impl Jumper for Radial<'_> {
                 return Some(JumpOutcome {
                     elapsed_s: fraction * passage.time_s,
                     absorbed: true,
+                    capture: None,
                 });
             }
         }
@@ -326,6 +388,7 @@ impl Jumper for Radial<'_> {
         Some(JumpOutcome {
             elapsed_s: passage.time_s,
             absorbed: false,
+            capture,
         })
     }
 }
