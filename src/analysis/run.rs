@@ -418,9 +418,7 @@ impl WalkSummary {
 /// The report's line on how absorption was simulated.
 fn absorption_note(absorption: Absorption, tally: &Tally) -> String {
     match absorption {
-        Absorption::Analog => {
-            "absorption is analog: an absorbed photon ends its walk".to_string()
-        }
+        Absorption::Analog => "absorption is analog: an absorbed photon ends its walk".to_string(),
         Absorption::Weighted => format!(
             "absorption is weighted (implicit capture): at each interaction a photon scatters \
              and its weight is multiplied by the albedo; Russian roulette below weight {:e} \

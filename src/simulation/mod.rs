@@ -15,8 +15,8 @@ use rayon::prelude::*;
 use crate::medium::Medium;
 use crate::tally::Tally;
 use crate::tally::{AbsorbedAlongPath, PhotonRecord, ResolvedLayout};
-use crate::transport::rng::photon_rng;
 pub use crate::transport::Absorption;
+use crate::transport::rng::photon_rng;
 use crate::transport::{AcceleratedWalker, Acceleration, DirectWalker, WalkLimits};
 
 /// How photons are walked.

@@ -293,9 +293,8 @@ impl Tally {
         }
         if let Some(resolved) = &mut self.resolved {
             for deposit in &path.deposits {
-                let weight = Weight::new(deposit.weight).unwrap_or_else(|| {
-                    panic!("deposit {} outside [0, 1]", deposit.weight)
-                });
+                let weight = Weight::new(deposit.weight)
+                    .unwrap_or_else(|| panic!("deposit {} outside [0, 1]", deposit.weight));
                 resolved.deposit(deposit.layer, deposit.depth_cm, weight);
             }
         }

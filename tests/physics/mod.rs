@@ -18,3 +18,4 @@ mod slab_optics;
 mod slab_reflectance;
 mod sphere_diffusion;
 mod stellar_structure;
+mod weighted_absorption;
