@@ -43,7 +43,7 @@ use serde_json::Value;
 use crate::analysis::RunAnalysis;
 use crate::medium::Medium;
 use crate::shard::Shard;
-use crate::simulation::{Method, RunConfig, RunResult, run_with_progress};
+use crate::simulation::{Absorption, Method, RunConfig, RunResult, run_with_progress};
 use crate::transport::WalkLimits;
 
 /// One point of a sweep: its parameter values and its medium.
@@ -77,6 +77,7 @@ pub struct Sweep {
     seed: u64,
     max_steps: u64,
     method: Method,
+    absorption: Absorption,
     label: String,
     points: Vec<SweepPoint>,
 }
@@ -89,6 +90,7 @@ impl Sweep {
             seed,
             max_steps: WalkLimits::default().max_steps,
             method: Method::default(),
+            absorption: Absorption::default(),
             label: "<built in code>".to_string(),
             points: Vec::new(),
         }
@@ -104,6 +106,17 @@ impl Sweep {
     pub fn method(mut self, method: Method) -> Self {
         self.method = method;
         self
+    }
+
+    /// Sets the absorption treatment (default analog; see [`Absorption`]).
+    pub fn absorption(mut self, absorption: Absorption) -> Self {
+        self.absorption = absorption;
+        self
+    }
+
+    /// The absorption treatment.
+    pub fn absorption_mode(&self) -> Absorption {
+        self.absorption
     }
 
     /// Sets the model label (the spec file, or what the points were built from), shown in
@@ -165,6 +178,7 @@ impl Sweep {
                 max_steps: self.max_steps,
             },
             method: self.method,
+            absorption: self.absorption,
             ..RunConfig::default()
         }
     }

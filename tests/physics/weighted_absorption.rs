@@ -183,8 +183,20 @@ fn absorbing_sphere_weighted_agrees_with_analog() {
         let analog = walk(&medium, 400_000, seed, method, Absorption::Analog);
         let weighted = walk(&medium, 40_000, seed + 1, method, Absorption::Weighted);
         let what = format!("sphere τ = 20, ω = 0.9, {}", method.name());
-        same_fraction(&what, &analog, analog.escaped(), &weighted, weighted.escaped());
-        same_fraction(&what, &analog, analog.absorbed(), &weighted, weighted.absorbed());
+        same_fraction(
+            &what,
+            &analog,
+            analog.escaped(),
+            &weighted,
+            weighted.escaped(),
+        );
+        same_fraction(
+            &what,
+            &analog,
+            analog.absorbed(),
+            &weighted,
+            weighted.absorbed(),
+        );
         same_times(&what, analog.escaped(), weighted.escaped());
     }
 }
