@@ -21,6 +21,7 @@ use super::absorption::Absorption;
 use super::direct::{DepositSite, DirectWalker, JumpSites, Photon, Stop, WalkLimits};
 use super::direction;
 use super::jump_spheres::{JumpOutcome, LocalJumps, LocalSettings, PassageCapture};
+use super::ledger::{Ledger, NoLedger, PathLedger};
 use super::radial_chain::{ChainSettings, RadialChain};
 use crate::medium::{Geometry, Medium, MediumError, Quantity};
 use crate::tally::{AbsorbedAlongPath, Outcome, PhotonRecord};
@@ -201,7 +202,20 @@ impl AcceleratedWalker {
     /// For weighted walks, what the photon left in the medium is dropped: use
     /// [`AcceleratedWalker::walk_weighted`].
     pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
-        self.walk_weighted(rng, &mut AbsorbedAlongPath::default())
+        self.walk_booking(rng, &mut AbsorbedAlongPath::default(), &mut NoLedger)
+    }
+
+    /// [`Self::walk`], also booking the photon's time and interactions by cell in `ledger`
+    /// (cleared first; made by [`PathLedger::for_medium`] for the same medium). Inside a
+    /// jump the ledger gets the expected split of the jump's time over the cells
+    /// ([`super::ledger`]). The photon and its record are the same as without the ledger.
+    pub fn walk_with_ledger<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        ledger: &mut PathLedger,
+    ) -> PhotonRecord {
+        ledger.clear();
+        self.walk_booking(rng, &mut AbsorbedAlongPath::default(), ledger)
     }
 
     /// Follows one photon, putting what it left in the medium (weighted walks; nothing for
@@ -210,6 +224,15 @@ impl AcceleratedWalker {
         &self,
         rng: &mut R,
         absorbed: &mut AbsorbedAlongPath,
+    ) -> PhotonRecord {
+        self.walk_booking(rng, absorbed, &mut NoLedger)
+    }
+
+    fn walk_booking<R: Rng + ?Sized, L: Ledger>(
+        &self,
+        rng: &mut R,
+        absorbed: &mut AbsorbedAlongPath,
+        ledger: &mut L,
     ) -> PhotonRecord {
         let (mut photon, reflected_at_entry) = self.direct.launch(rng);
         absorbed.clear();
@@ -225,19 +248,21 @@ impl AcceleratedWalker {
                     },
                     &mut photon,
                     rng,
+                    ledger,
                 ),
-                Jumps::Local(local) => self.walk_with(local, &mut photon, rng),
+                Jumps::Local(local) => self.walk_with(local, &mut photon, rng, ledger),
             }
         };
         std::mem::swap(&mut photon.absorbed, absorbed);
         record
     }
 
-    fn walk_with<J: Jumper, R: Rng + ?Sized>(
+    fn walk_with<J: Jumper, R: Rng + ?Sized, L: Ledger>(
         &self,
         jumper: &J,
         photon: &mut Photon,
         rng: &mut R,
+        ledger: &mut L,
     ) -> PhotonRecord {
         let weighted = self.direct.weighted();
         let keep_deposits = self.direct.keep_deposits();
@@ -258,7 +283,7 @@ impl AcceleratedWalker {
                     layer: photon.layer,
                     depth_cm: photon.position.z,
                 };
-                match jumper.jump(photon, incoming.as_ref(), weighted, rng) {
+                match jumper.jump(photon, incoming.as_ref(), weighted, rng, ledger) {
                     Some(done) => {
                         photon.steps += 1;
                         jumps += 1.0;
@@ -286,7 +311,7 @@ impl AcceleratedWalker {
                     None => {}
                 }
             }
-            match self.direct.follow(photon, rng, jumper) {
+            match self.direct.follow(photon, rng, jumper, ledger) {
                 Stop::Ended(outcome) => break outcome,
                 Stop::JumpSite => site = Some(Some(photon.direction)),
             }
@@ -301,13 +326,15 @@ trait Jumper: JumpSites {
     /// One jump from the photon's position (a scattering site reached with direction
     /// `incoming`, or an isotropic source), or `None` if none applies there after all.
     /// `weighted`: absorption during the jump as a survival factor
-    /// ([`JumpOutcome::capture`]) instead of an analog end.
-    fn jump<R: Rng + ?Sized>(
+    /// ([`JumpOutcome::capture`]) instead of an analog end. Books the jump's expected
+    /// residence by cell in `ledger`.
+    fn jump<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
         weighted: bool,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<JumpOutcome>;
 }
 
@@ -319,14 +346,15 @@ impl JumpSites for LocalJumps {
 }
 
 impl Jumper for LocalJumps {
-    fn jump<R: Rng + ?Sized>(
+    fn jump<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
         weighted: bool,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<JumpOutcome> {
-        LocalJumps::jump(self, photon, incoming, weighted, rng)
+        LocalJumps::jump(self, photon, incoming, weighted, rng, ledger)
     }
 }
 
@@ -344,12 +372,13 @@ impl JumpSites for Radial<'_> {
 }
 
 impl Jumper for Radial<'_> {
-    fn jump<R: Rng + ?Sized>(
+    fn jump<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
         weighted: bool,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<JumpOutcome> {
         let transition = self
             .chain
@@ -362,9 +391,12 @@ impl Jumper for Radial<'_> {
             if rng.random::<f64>() >= (-hazard).exp() {
                 // Absorbed: when, given that it happened during the passage (the hazard
                 // taken as uniform in time); the photon ends where the passage started.
-                let fraction = -(-rng.random::<f64>() * (-hazard).exp_m1()).ln_1p() / hazard;
+                let fraction =
+                    super::jump_spheres::fraction_before_absorption(rng.random(), hazard);
                 photon.time_s += fraction * passage.time_s;
                 photon.scatterings += fraction * passage.scatterings;
+                transition.book(fraction * passage.time_s, ledger);
+                ledger.book(photon.layer, 0.0, 1.0);
                 return Some(JumpOutcome {
                     elapsed_s: fraction * passage.time_s,
                     absorbed: true,
@@ -374,6 +406,7 @@ impl Jumper for Radial<'_> {
         }
         photon.time_s += passage.time_s;
         photon.scatterings += passage.scatterings;
+        transition.book(passage.time_s, ledger);
         // A uniformly random point of the exit sphere, crossing it outward or inward.
         let normal = direction::isotropic(rng);
         let radius = transition.exit_radius_cm;

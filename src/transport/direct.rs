@@ -22,6 +22,7 @@ use super::absorption::{Absorption, ROULETTE_THRESHOLD, roulette};
 use super::direction;
 use super::fresnel::{fresnel_reflectance, refract_across_z};
 use super::geometry::{Exit, plane_exit};
+use super::ledger::{Ledger, NoLedger, PathLedger};
 use super::phase::PhaseFunction;
 use crate::medium::{EmissionSampler, Geometry, Medium, Source};
 use crate::tally::{AbsorbedAlongPath, Deposit, Outcome, PhotonRecord};
@@ -264,7 +265,19 @@ impl DirectWalker {
     /// For weighted walks, what the photon left in the medium is dropped: use
     /// [`DirectWalker::walk_weighted`].
     pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
-        self.walk_weighted(rng, &mut AbsorbedAlongPath::default())
+        self.walk_booking(rng, &mut AbsorbedAlongPath::default(), &mut NoLedger)
+    }
+
+    /// [`Self::walk`], also booking the photon's time and interactions by cell in `ledger`
+    /// (cleared first; made by [`PathLedger::for_medium`] for the same medium). The photon
+    /// and its record are the same as without the ledger.
+    pub fn walk_with_ledger<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        ledger: &mut PathLedger,
+    ) -> PhotonRecord {
+        ledger.clear();
+        self.walk_booking(rng, &mut AbsorbedAlongPath::default(), ledger)
     }
 
     /// Follows one photon, putting what it left in the medium (weighted walks; nothing for
@@ -274,13 +287,22 @@ impl DirectWalker {
         rng: &mut R,
         absorbed: &mut AbsorbedAlongPath,
     ) -> PhotonRecord {
+        self.walk_booking(rng, absorbed, &mut NoLedger)
+    }
+
+    fn walk_booking<R: Rng + ?Sized, L: Ledger>(
+        &self,
+        rng: &mut R,
+        absorbed: &mut AbsorbedAlongPath,
+        ledger: &mut L,
+    ) -> PhotonRecord {
         let (mut photon, reflected_at_entry) = self.launch(rng);
         absorbed.clear();
         std::mem::swap(&mut photon.absorbed, absorbed);
         let outcome = if reflected_at_entry {
             Outcome::Specular
         } else {
-            match self.follow(&mut photon, rng, &NoJumps) {
+            match self.follow(&mut photon, rng, &NoJumps, ledger) {
                 Stop::Ended(outcome) => outcome,
                 Stop::JumpSite => unreachable!("the direct walk has no jump sites"),
             }
@@ -316,33 +338,35 @@ impl DirectWalker {
     /// and returns when the walk ends or, after an interaction that is a scattering, where
     /// `jumps` allows a jump (before the scattering direction is drawn).
     #[inline(always)]
-    pub(super) fn follow<R: Rng + ?Sized, J: JumpSites>(
+    pub(super) fn follow<R: Rng + ?Sized, J: JumpSites, L: Ledger>(
         &self,
         photon: &mut Photon,
         rng: &mut R,
         jumps: &J,
+        ledger: &mut L,
     ) -> Stop {
         let mut interaction_pending = false;
         loop {
             let isotropic = self.layers[photon.layer].phase == PhaseFunction::Isotropic;
+            let pending = interaction_pending;
             let run = match (isotropic, self.weighted()) {
                 (true, false) => {
-                    self.in_layer::<R, J, true, false>(photon, interaction_pending, rng, jumps)
+                    self.in_layer::<R, J, L, true, false>(photon, pending, rng, jumps, ledger)
                 }
                 (false, false) => {
-                    self.in_layer::<R, J, false, false>(photon, interaction_pending, rng, jumps)
+                    self.in_layer::<R, J, L, false, false>(photon, pending, rng, jumps, ledger)
                 }
                 (true, true) => {
-                    self.in_layer::<R, J, true, true>(photon, interaction_pending, rng, jumps)
+                    self.in_layer::<R, J, L, true, true>(photon, pending, rng, jumps, ledger)
                 }
                 (false, true) => {
-                    self.in_layer::<R, J, false, true>(photon, interaction_pending, rng, jumps)
+                    self.in_layer::<R, J, L, false, true>(photon, pending, rng, jumps, ledger)
                 }
             };
             match run {
                 InLayer::Stop(stop) => return stop,
                 InLayer::Leaves(tau) => {
-                    if let Some(outcome) = self.cross(photon, tau, rng) {
+                    if let Some(outcome) = self.cross(photon, tau, rng, ledger) {
                         return Stop::Ended(outcome);
                     }
                     interaction_pending = true;
@@ -354,15 +378,23 @@ impl DirectWalker {
     /// The loop over flights that end inside the photon's current layer, with the photon in
     /// local variables. Starts with the pending interaction, if any, then alternates flight
     /// and interaction. Returns at the first flight that leaves the layer (the photon not
-    /// yet moved), at the end of the walk, or at a jump site. `WEIGHTED`: implicit capture
+    /// yet moved), at the end of the walk, or at a jump site. The time and interactions of
+    /// the stay are booked in `ledger` once, at the end. `WEIGHTED`: implicit capture
     /// instead of analog absorption.
     #[inline(always)]
-    fn in_layer<R: Rng + ?Sized, J: JumpSites, const ISOTROPIC: bool, const WEIGHTED: bool>(
+    fn in_layer<
+        R: Rng + ?Sized,
+        J: JumpSites,
+        L: Ledger,
+        const ISOTROPIC: bool,
+        const WEIGHTED: bool,
+    >(
         &self,
         photon: &mut Photon,
         mut interaction_pending: bool,
         rng: &mut R,
         jumps: &J,
+        ledger: &mut L,
     ) -> InLayer {
         let layer = &self.layers[photon.layer];
         let index = photon.layer;
@@ -377,6 +409,8 @@ impl DirectWalker {
         let mut time_s = photon.time_s;
         let mut scatterings = photon.scatterings;
         let mut steps = photon.steps;
+        let mut stay_s = 0.0;
+        let mut absorbed = 0.0;
         let stop = loop {
             if interaction_pending {
                 if WEIGHTED {
@@ -388,10 +422,12 @@ impl DirectWalker {
                             depth_cm: p.z,
                         };
                         if !photon.capture(albedo, site, self.keep_deposits, rng) {
+                            absorbed = 1.0;
                             break InLayer::Stop(Stop::Ended(Outcome::Absorbed));
                         }
                     }
                 } else if absorbing && rng.random::<f64>() >= albedo {
+                    absorbed = 1.0;
                     break InLayer::Stop(Stop::Ended(Outcome::Absorbed));
                 }
                 scatterings += 1.0;
@@ -423,8 +459,11 @@ impl DirectWalker {
                 break InLayer::Leaves(tau);
             }
             p = end;
-            time_s += s * slowness;
+            let flight_s = s * slowness;
+            time_s += flight_s;
+            stay_s += flight_s;
         };
+        ledger.book(index, stay_s, scatterings - photon.scatterings + absorbed);
         photon.position = p;
         photon.direction = u;
         photon.time_s = time_s;
@@ -513,15 +552,16 @@ impl DirectWalker {
     /// The rest of a flight of optical depth `tau` that leaves the photon's layer: spends
     /// it across layers with exact distances. Returns the outcome if the photon leaves the
     /// medium (or can never interact), `None` at an interaction point.
-    fn cross<R: Rng + ?Sized>(
+    fn cross<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         tau: f64,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<Outcome> {
         match self.geometry {
-            Geometry::Sphere => self.cross_shells(photon, tau),
-            Geometry::Slab => self.cross_planes(photon, tau, rng),
+            Geometry::Sphere => self.cross_shells(photon, tau, ledger),
+            Geometry::Slab => self.cross_planes(photon, tau, rng, ledger),
         }
     }
 
@@ -530,7 +570,12 @@ impl DirectWalker {
     /// r² = h² + t²: the distance to a shell boundary of radius ρ is √(ρ² − h²) − t outward,
     /// −t − √(ρ² − h²) inward. The walk advances the scalar t across shells and moves the
     /// photon once, at the end.
-    fn cross_shells(&self, photon: &mut Photon, mut tau: f64) -> Option<Outcome> {
+    fn cross_shells<L: Ledger>(
+        &self,
+        photon: &mut Photon,
+        mut tau: f64,
+        ledger: &mut L,
+    ) -> Option<Outcome> {
         let start = photon.position;
         let u = photon.direction;
         let b = start.dot(&u);
@@ -552,12 +597,14 @@ impl DirectWalker {
                 let s = tau * layer.mean_free_path_cm;
                 travelled += s;
                 photon.time_s += s * layer.slowness_s_cm;
+                ledger.book(layer_index, s * layer.slowness_s_cm, 0.0);
                 break None;
             }
             tau -= tau_to_exit;
             travelled += distance;
             along += distance;
             photon.time_s += distance * layer.slowness_s_cm;
+            ledger.book(layer_index, distance * layer.slowness_s_cm, 0.0);
             if inward {
                 layer_index -= 1;
             } else if layer_index + 1 == self.layers.len() {
@@ -573,11 +620,12 @@ impl DirectWalker {
 
     /// [`Self::cross`] in a slab, with Fresnel reflection and Snell refraction at index
     /// steps.
-    fn cross_planes<R: Rng + ?Sized>(
+    fn cross_planes<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         mut tau: f64,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<Outcome> {
         loop {
             let layer = &self.layers[photon.layer];
@@ -592,6 +640,7 @@ impl DirectWalker {
                 let s = tau * layer.mean_free_path_cm;
                 photon.position += s * photon.direction;
                 photon.time_s += s * layer.slowness_s_cm;
+                ledger.book(photon.layer, s * layer.slowness_s_cm, 0.0);
                 return None;
             }
             if !distance.is_finite() {
@@ -601,6 +650,7 @@ impl DirectWalker {
             tau -= tau_to_exit;
             photon.position += distance * photon.direction;
             photon.time_s += distance * layer.slowness_s_cm;
+            ledger.book(photon.layer, distance * layer.slowness_s_cm, 0.0);
             if self.index_mismatch && self.reflects(photon, exit, rng) {
                 continue;
             }
@@ -661,13 +711,19 @@ mod tests {
         let walker = nearly_clear_sphere();
         // From (0, 0.5, 3) straight down: through the core, out at z = −√(16 − 0.25).
         let mut p = photon(Vector3::new(0.0, 0.5, 3.0), Vector3::new(0.0, 0.0, -1.0), 1);
-        assert_eq!(walker.cross_shells(&mut p, 1.0), Some(Outcome::Escaped));
+        assert_eq!(
+            walker.cross_shells(&mut p, 1.0, &mut NoLedger),
+            Some(Outcome::Escaped)
+        );
         let chord = 3.0 + 15.75f64.sqrt();
         assert!((p.time_s * SPEED_OF_LIGHT_CM_S / chord - 1.0).abs() < 1e-14);
         assert!((p.position.z + 15.75f64.sqrt()).abs() < 1e-12);
         // A ray that misses the core: from (0, 0, 3) along −x, out at x = −√7.
         let mut p = photon(Vector3::new(0.0, 0.0, 3.0), Vector3::new(-1.0, 0.0, 0.0), 1);
-        assert_eq!(walker.cross_shells(&mut p, 1.0), Some(Outcome::Escaped));
+        assert_eq!(
+            walker.cross_shells(&mut p, 1.0, &mut NoLedger),
+            Some(Outcome::Escaped)
+        );
         assert!((p.time_s * SPEED_OF_LIGHT_CM_S / 7f64.sqrt() - 1.0).abs() < 1e-14);
     }
 
@@ -677,7 +733,7 @@ mod tests {
         // Down from z = 3: 2 cm in the envelope (τ = 4e-9), then into the core (1e-9/cm):
         // τ = 5e-9 ends 1 cm further, at the centre.
         let mut p = photon(Vector3::new(0.0, 0.0, 3.0), Vector3::new(0.0, 0.0, -1.0), 1);
-        assert_eq!(walker.cross_shells(&mut p, 5e-9), None);
+        assert_eq!(walker.cross_shells(&mut p, 5e-9, &mut NoLedger), None);
         assert_eq!(p.layer, 0);
         assert!(p.position.z.abs() < 1e-6, "{}", p.position.z);
     }

@@ -29,6 +29,7 @@ use std::sync::Arc;
 use super::crossing::{CrossingLaw, laws_of};
 use super::direct::Photon;
 use super::direction;
+use super::ledger::Ledger;
 use crate::diffusion::first_passage;
 use crate::medium::{Geometry, Medium};
 use crate::units::SPEED_OF_LIGHT_CM_S;
@@ -195,13 +196,15 @@ impl LocalJumps {
     }
 
     /// One jump from the photon's position (a scattering site reached with direction
-    /// `incoming`, or an isotropic source), if one applies there.
-    pub(super) fn jump<R: Rng + ?Sized>(
+    /// `incoming`, or an isotropic source), if one applies there. Its time goes to `ledger`
+    /// split over the cells the jump sphere covers ([`Self::book_jump`]).
+    pub(super) fn jump<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
         weighted: bool,
         rng: &mut R,
+        ledger: &mut L,
     ) -> Option<JumpOutcome> {
         let (radius_cm, coordinate) = self.jump_radius(&photon.position, photon.layer)?;
         let region = &self.regions[photon.layer];
@@ -221,10 +224,12 @@ impl LocalJumps {
             let hazard = region.absorption_rate * elapsed_s;
             if rng.random::<f64>() >= (-hazard).exp() {
                 // Absorbed: when, given that it happened during the jump.
-                let fraction = -(-rng.random::<f64>() * (-hazard).exp_m1()).ln_1p() / hazard;
+                let fraction = fraction_before_absorption(rng.random::<f64>(), hazard);
                 let time = fraction * elapsed_s;
                 photon.time_s += time;
                 photon.scatterings += region.scattering_rate * time;
+                self.book_jump(photon.layer, coordinate, radius_cm, time, ledger);
+                ledger.book(photon.layer, 0.0, 1.0);
                 return Some(JumpOutcome {
                     elapsed_s: time,
                     absorbed: true,
@@ -246,6 +251,7 @@ impl LocalJumps {
         } else {
             direction::isotropic(rng)
         };
+        self.book_jump(photon.layer, coordinate, radius_cm, elapsed_s, ledger);
         photon.position += radius_cm * normal;
         photon.layer = self.locate(self.coordinate(&photon.position));
         photon.time_s += elapsed_s;
@@ -258,11 +264,63 @@ impl LocalJumps {
         })
     }
 
+    /// Books `time_s` of a jump from depth `centre_cm` in a sphere of radius `radius_cm`
+    /// over the slab's cells: diffusion from the centre of a ball of radius R spends time
+    /// with density ∝ 1/ρ − 1/R (the Green's function of the ball; Redner 2001, *A Guide to
+    /// First-Passage Processes*, ch. 6), which puts the share 3(R − |h|)²/(2R³) dh at
+    /// height h (docs/references.md, Residence 1). A sphere's jump (not used by the walker)
+    /// books everything in the starting cell.
+    fn book_jump<L: Ledger>(
+        &self,
+        cell: usize,
+        centre_cm: f64,
+        radius_cm: f64,
+        time_s: f64,
+        ledger: &mut L,
+    ) {
+        if self.geometry != Geometry::Slab || radius_cm <= 0.0 {
+            ledger.book_diffusing(cell, time_s);
+            return;
+        }
+        let below = |height_cm: f64| ball_height_share((height_cm - centre_cm) / radius_cm);
+        let first = self.locate(centre_cm - radius_cm);
+        let last = self.locate(centre_cm + radius_cm);
+        for index in first..=last {
+            let top = if index == 0 {
+                f64::NEG_INFINITY
+            } else {
+                self.boundaries_cm[index - 1]
+            };
+            let share = below(self.boundaries_cm[index]) - below(top);
+            if share > 0.0 {
+                ledger.book_diffusing(index, share * time_s);
+            }
+        }
+    }
+
     /// Index of the layer holding radius or depth `coordinate`.
     fn locate(&self, coordinate: f64) -> usize {
         self.boundaries_cm
             .partition_point(|&b| b <= coordinate)
             .min(self.boundaries_cm.len() - 1)
+    }
+}
+
+/// Where in a jump of absorption hazard `hazard` (> 0) an absorption that happened during
+/// it took place, as a fraction of the jump's time, from a uniform number `u`: the
+/// exponential law truncated to [0, 1], inverted, x = −ln(1 − u (1 − e^(−h)))/h.
+pub(super) fn fraction_before_absorption(u: f64, hazard: f64) -> f64 {
+    (-(u * (-hazard).exp_m1()).ln_1p() / hazard).clamp(0.0, 1.0)
+}
+
+/// Share of a ball's residence time (diffusion from its centre) below height u R:
+/// (1 + u)³/2 for u ≤ 0, 1 − (1 − u)³/2 above (clamped to [0, 1]).
+fn ball_height_share(u: f64) -> f64 {
+    let u = u.clamp(-1.0, 1.0);
+    if u <= 0.0 {
+        0.5 * (1.0 + u).powi(3)
+    } else {
+        1.0 - 0.5 * (1.0 - u).powi(3)
     }
 }
 
@@ -358,6 +416,46 @@ fn jump_regions(medium: &Medium, epsilon: f64) -> Vec<JumpRegion> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn absorption_fractions_follow_the_truncated_exponential() {
+        // CDF (1 − e^(−hx))/(1 − e^(−h)) on [0, 1]: the inverse at u gives back u.
+        for hazard in [1e-6, 0.3, 2.0, 40.0] {
+            for u in [0.0, 0.1, 0.5, 0.9, 1.0] {
+                let x = fraction_before_absorption(u, hazard);
+                assert!((0.0..=1.0).contains(&x), "h = {hazard}, u = {u}: {x}");
+                let cdf = (-hazard * x).exp_m1() / (-hazard).exp_m1();
+                assert!((cdf - u).abs() < 1e-9, "h = {hazard}, u = {u}: {cdf}");
+            }
+        }
+    }
+
+    #[test]
+    fn ball_height_share_integrates_the_green_function() {
+        // Midpoint rule over the ball of the residence density 1/ρ − 1/R (R = 1) at heights
+        // below u, against the closed form.
+        let n = 120;
+        let h = 2.0 / n as f64;
+        let mut by_height = vec![0.0; n];
+        for i in 0..n {
+            for j in 0..n {
+                for (k, slice) in by_height.iter_mut().enumerate() {
+                    let p = [i, j, k].map(|c| -1.0 + (c as f64 + 0.5) * h);
+                    let rho = (p[0] * p[0] + p[1] * p[1] + p[2] * p[2]).sqrt();
+                    if rho < 1.0 {
+                        *slice += 1.0 / rho - 1.0;
+                    }
+                }
+            }
+        }
+        let total: f64 = by_height.iter().sum();
+        let mut below = 0.0;
+        for (k, part) in by_height.iter().enumerate() {
+            below += part / total;
+            let u = -1.0 + (k + 1) as f64 * h;
+            assert!((below - ball_height_share(u)).abs() < 5e-3, "u = {u}");
+        }
+    }
 
     #[test]
     fn tilted_directions_have_mean_cosine_k_over_three() {

@@ -57,6 +57,16 @@ pub(super) struct Transition<'a> {
     pub(super) exit_law: &'a CrossingLaw,
     /// The passage itself (side, time, scatterings, absorption hazard).
     pub(super) passage: Passage,
+    /// The cell whose tables gave it.
+    cell: &'a PassageCell,
+}
+
+impl Transition<'_> {
+    /// Books `time_s` of the passage (all of it, or the part before an absorption) in
+    /// `ledger`, split over the shells by its expected residence.
+    pub(super) fn book<L: super::ledger::Ledger>(&self, time_s: f64, ledger: &mut L) {
+        self.cell.book(&self.passage, time_s, ledger);
+    }
 }
 
 /// A run of shells where radial passages apply.
@@ -185,6 +195,7 @@ fn shells(medium: &Medium) -> Vec<Shell> {
                     },
                     scattering_rate: speed * layer.scattering_per_cm(),
                     absorption_rate: speed * layer.absorption_per_cm(),
+                    shell: index,
                 },
             }
         })
@@ -335,6 +346,7 @@ impl RadialChain {
             exit_radius_cm,
             exit_law: &self.laws[self.law_of_layer[from]],
             passage,
+            cell,
         })
     }
 }

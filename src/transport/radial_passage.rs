@@ -29,10 +29,18 @@
 //!
 //! Between grid points the start radius is interpolated linearly: exit probability, the
 //! two quantiles of the same uniform number, and the rates.
+//!
+//! **Residence by shell.** The expected time spent in shell s before exiting through σ is
+//! E[T_s; σ] = Σ_j G_ij m_j^(s) h_σ(j), with G = K⁻¹ the chain's Green's function (the
+//! expected occupation of grid point j per unit mass, from start i; one tridiagonal solve
+//! per start) and m_j^(s) the part of grid point j's mass ∫ φ_j r² dr that lies in shell s.
+//! Summed over s it is the mean E[T; σ] above. A passage of time t books
+//! t · E[T_s; σ] / E[T; σ] in shell s ([`super::ledger`]).
 
 use rand::{Rng, RngExt};
 
-use super::radial_profile::{IntervalIntegrals, Piece, clip, interval_integrals};
+use super::ledger::Ledger;
+use super::radial_profile::{IntervalIntegrals, Piece, clip, interval_integrals, interval_parts};
 use super::tridiagonal::symmetric_tridiagonal_eigen;
 use crate::diffusion::first_passage;
 
@@ -67,6 +75,10 @@ pub(super) struct Passage {
     pub(super) scatterings: f64,
     /// Expected absorptions during it (the hazard: survival is e^(−hazard)).
     pub(super) absorption_hazard: f64,
+    /// Part of `time_s` spent first in the central ball below the first start radius, s.
+    lead_time_s: f64,
+    /// The start radii (indices) interpolated between, and the weight of the upper one.
+    between: (usize, usize, f64),
 }
 
 /// The tabulated first-passage laws of one cell.
@@ -96,6 +108,16 @@ pub(super) struct PassageCell {
     centre_diffusion: Option<f64>,
     /// Centre cells: scattering and absorption rates in that ball, 1/s.
     centre_rates: (f64, f64),
+    /// First shell (cell of the medium) the passage can visit.
+    first_shell: usize,
+    /// Number of shells from `first_shell` on that it can visit.
+    shell_count: usize,
+    /// Per side, `[start * shell_count + s]`: E[T_s; side] / E[T; side], the share of the
+    /// passage's time spent in shell `first_shell + s`.
+    time_share: [Vec<f64>; 2],
+    /// Centre cells: each shell's share of the time in the central ball (diffusion from
+    /// its centre, uniform D: share 3x² − 2x³ inside x = r / r₀).
+    ball_share: Vec<(usize, f64)>,
 }
 
 impl PassageCell {
@@ -180,6 +202,8 @@ impl PassageCell {
         let (c0, c1) = spec.start;
         let starts: Vec<usize> = (1..n).filter(|&j| grid[j] >= c0 && grid[j] <= c1).collect();
         assert!(starts.len() >= 2, "the start cell needs grid points");
+        let (first_shell, shell_count, time_share) =
+            shell_shares(spec, &grid, &conductance, &outward, &starts);
         let mut rows: Vec<Vec<f64>> = starts
             .iter()
             .map(|&j| {
@@ -295,6 +319,21 @@ impl PassageCell {
             }
         }
         let centre_piece = spec.pieces.first().filter(|_| centre);
+        let ball_share = if centre {
+            let radius = grid[starts[0]];
+            clip(&spec.pieces, 0.0, radius)
+                .iter()
+                .map(|p| {
+                    let below = |r: f64| {
+                        let x = r / radius;
+                        x * x * (3.0 - 2.0 * x)
+                    };
+                    (p.shell, below(p.upper_cm) - below(p.lower_cm))
+                })
+                .collect()
+        } else {
+            Vec::new()
+        };
         Some(Self {
             inner_exit_cm: spec.inner_exit.map(|(radius, _)| radius),
             outer_exit_cm: spec.outer_exit.0,
@@ -310,7 +349,39 @@ impl PassageCell {
             centre_diffusion: centre_piece.map(|p| p.diffusion),
             centre_rates: centre_piece
                 .map_or((0.0, 0.0), |p| (p.scattering_rate, p.absorption_rate)),
+            first_shell,
+            shell_count,
+            time_share,
+            ball_share,
         })
+    }
+
+    /// Books `time_s` of `passage` (its whole time, or the part before an absorption) in
+    /// `ledger`, split over the shells by the expected shares of its start and side.
+    pub(super) fn book<L: Ledger>(&self, passage: &Passage, time_s: f64, ledger: &mut L) {
+        let scale = if passage.time_s > 0.0 {
+            time_s / passage.time_s
+        } else {
+            0.0
+        };
+        let lead = scale * passage.lead_time_s;
+        if lead > 0.0 {
+            for &(shell, share) in &self.ball_share {
+                ledger.book_diffusing(shell, share * lead);
+            }
+        }
+        let rest = time_s - lead;
+        let (lower, upper, w) = passage.between;
+        let shares = &self.time_share[passage.outward as usize];
+        let count = self.shell_count;
+        let below = &shares[lower * count..(lower + 1) * count];
+        let above = &shares[upper * count..(upper + 1) * count];
+        for (s, (a, b)) in below.iter().zip(above).enumerate() {
+            let share = a + w * (b - a);
+            if share > 0.0 {
+                ledger.book_diffusing(self.first_shell + s, share * rest);
+            }
+        }
     }
 
     /// The inner exit radius (None at the centre) and the outer one, cm.
@@ -386,6 +457,8 @@ impl PassageCell {
             time_s: 0.0,
             scatterings: 0.0,
             absorption_hazard: 0.0,
+            lead_time_s: 0.0,
+            between: (0, 0, 0.0),
         };
         let first = self.start_cm[0];
         let radius = if radius_cm < first {
@@ -430,8 +503,125 @@ impl PassageCell {
             time_s: lead.time_s + time_s,
             scatterings: lead.scatterings + time_s * scatter,
             absorption_hazard: lead.absorption_hazard + time_s * absorb,
+            lead_time_s: lead.time_s,
+            between: (lower, upper, w),
         }
     }
+}
+
+/// The shells a cell's passages can visit (first, count) and, per side and start grid
+/// point, each shell's share of the expected passage time (module docs, *Residence by
+/// shell*). `conductance[i]` joins grid points i and i + 1 (0 for the central ball),
+/// `outward[j]` is the outer exit probability from grid point j.
+fn shell_shares(
+    spec: &CellSpec,
+    grid: &[f64],
+    conductance: &[f64],
+    outward: &[f64],
+    starts: &[usize],
+) -> (usize, usize, [Vec<f64>; 2]) {
+    let centre = spec.inner_exit.is_none();
+    let n = grid.len() - 1;
+    let unknowns = n - 1;
+    let first_shell = spec.pieces.iter().map(|p| p.shell).min().unwrap_or(0);
+    let last_shell = spec.pieces.iter().map(|p| p.shell).max().unwrap_or(0);
+    let count = last_shell - first_shell + 1;
+    // Each interval's parts by shell: (shell, volume, share of the upper grid point).
+    let parts: Vec<Vec<(usize, f64, f64)>> = (0..n)
+        .map(|i| {
+            if centre && i == 0 {
+                clip(&spec.pieces, 0.0, grid[1])
+                    .iter()
+                    .map(|p| {
+                        let v = super::radial_profile::volume(p.lower_cm, p.upper_cm);
+                        (p.shell, v, v)
+                    })
+                    .collect()
+            } else {
+                interval_parts(&spec.pieces, grid[i], grid[i + 1])
+            }
+        })
+        .collect();
+    // The mass of unknown u (grid point u + 1) by shell.
+    let node_mass = |u: usize| {
+        let j = u + 1;
+        parts[j - 1]
+            .iter()
+            .map(|&(shell, _, upper)| (shell, upper))
+            .chain(
+                parts[j]
+                    .iter()
+                    .map(|&(shell, volume, upper)| (shell, volume - upper)),
+            )
+    };
+    // K: diagonal and the entries joining unknowns u and u + 1.
+    let diagonal: Vec<f64> = (0..unknowns)
+        .map(|u| {
+            let j = u + 1;
+            let below = if centre && j == 1 {
+                0.0
+            } else {
+                conductance[j - 1]
+            };
+            below + conductance[j]
+        })
+        .collect();
+    let off: Vec<f64> = (0..unknowns.saturating_sub(1))
+        .map(|u| -conductance[u + 1])
+        .collect();
+    let mut shares = [
+        vec![0.0; starts.len() * count],
+        vec![0.0; starts.len() * count],
+    ];
+    for (index, &j) in starts.iter().enumerate() {
+        let mut unit = vec![0.0; unknowns];
+        unit[j - 1] = 1.0;
+        let green = solve_tridiagonal(&diagonal, &off, &unit);
+        for (side, share) in shares.iter_mut().enumerate() {
+            let row = &mut share[index * count..(index + 1) * count];
+            for (u, g) in green.iter().enumerate() {
+                let h = if side == 1 {
+                    outward[u + 1]
+                } else {
+                    1.0 - outward[u + 1]
+                };
+                let weight = g * h;
+                if weight <= 0.0 {
+                    continue;
+                }
+                for (shell, mass) in node_mass(u) {
+                    row[shell - first_shell] += weight * mass.max(0.0);
+                }
+            }
+            let total: f64 = row.iter().sum();
+            if total > 0.0 && total.is_finite() {
+                row.iter_mut().for_each(|x| *x /= total);
+            } else {
+                row.iter_mut().for_each(|x| *x = 0.0);
+            }
+        }
+    }
+    (first_shell, count, shares)
+}
+
+/// Solves the symmetric tridiagonal system with `diagonal` and `off` (entry u joins u and
+/// u + 1) for `rhs` (Thomas algorithm; the matrix is a positive definite conductance
+/// matrix, so no pivoting is needed).
+fn solve_tridiagonal(diagonal: &[f64], off: &[f64], rhs: &[f64]) -> Vec<f64> {
+    let n = diagonal.len();
+    let mut c = vec![0.0; n];
+    let mut d = vec![0.0; n];
+    for i in 0..n {
+        let lower = if i > 0 { off[i - 1] } else { 0.0 };
+        let pivot = diagonal[i] - if i > 0 { lower * c[i - 1] } else { 0.0 };
+        c[i] = if i + 1 < n { off[i] / pivot } else { 0.0 };
+        d[i] = (rhs[i] - if i > 0 { lower * d[i - 1] } else { 0.0 }) / pivot;
+    }
+    let mut x = d;
+    for i in (0..n.saturating_sub(1)).rev() {
+        x[i] -= c[i] * x[i + 1];
+    }
+    x
 }
 
 /// Grid points from the inner end (0 at the centre, else the extrapolated inner exit) to
@@ -506,6 +696,7 @@ mod tests {
             diffusion,
             scattering_rate: 3.0,
             absorption_rate: 0.0,
+            shell: 0,
         }
     }
 

@@ -22,6 +22,9 @@ pub(super) struct Piece {
     pub(super) scattering_rate: f64,
     /// Absorptions per second, v σ_a.
     pub(super) absorption_rate: f64,
+    /// Index of the medium's cell (shell) this piece belongs to (the extrapolation pieces
+    /// beyond a passage's exits count as the shell next to the exit).
+    pub(super) shell: usize,
 }
 
 impl Piece {
@@ -102,6 +105,28 @@ pub(super) fn interval_integrals(pieces: &[Piece], x: f64, y: f64) -> IntervalIn
     }
 }
 
+/// The unweighted volume integrals of `[x, y]` (x > 0) split by shell: for each clipped
+/// part, its shell, ∫ r² dr and the part of it a hat function in s gives to the upper end
+/// (as in [`IntervalIntegrals::upper_share`]). The parts add up to `interval_integrals`.
+pub(super) fn interval_parts(pieces: &[Piece], x: f64, y: f64) -> Vec<(usize, f64, f64)> {
+    let parts = clip(pieces, x, y);
+    let total_scale: f64 = parts
+        .iter()
+        .map(|part| part.scale(part.lower_cm, part.upper_cm))
+        .sum();
+    let mut scale = 0.0;
+    parts
+        .iter()
+        .map(|part| {
+            let (p, q) = (part.lower_cm, part.upper_cm);
+            let v = volume(p, q);
+            let m = scale * v + scale_moment(p, q) / part.diffusion;
+            scale += part.scale(p, q);
+            (part.shell, v, m / total_scale)
+        })
+        .collect()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -113,6 +138,7 @@ mod tests {
             diffusion,
             scattering_rate: 2.0,
             absorption_rate: 0.5,
+            shell: 0,
         }
     }
 
