@@ -30,6 +30,7 @@
 
 pub mod json_path;
 pub mod merge;
+pub mod rescale;
 pub mod runner;
 pub mod spec;
 pub mod table;
@@ -210,6 +211,7 @@ impl Sweep {
             parameters: point.parameters.clone(),
             analysis: RunAnalysis::new(&point.medium, &config, &result.tally),
             elapsed_s: result.elapsed_s,
+            reweighted: false,
         }
     }
 
@@ -240,6 +242,9 @@ pub struct PointResult {
     pub analysis: RunAnalysis,
     /// Wall-clock time of the point's photons, s (summed over shards after a merge).
     pub elapsed_s: f64,
+    /// Whether the point's photons were rescaled from the walk of another point
+    /// ([`rescale`]), not walked.
+    pub reweighted: bool,
 }
 
 impl PointResult {

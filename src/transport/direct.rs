@@ -290,6 +290,18 @@ impl DirectWalker {
         self.walk_booking(rng, absorbed, &mut NoLedger)
     }
 
+    /// [`Self::walk_weighted`] and [`Self::walk_with_ledger`] at once (`ledger` cleared
+    /// first): what absorption rescaling needs of one photon.
+    pub fn walk_weighted_with_ledger<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        absorbed: &mut AbsorbedAlongPath,
+        ledger: &mut PathLedger,
+    ) -> PhotonRecord {
+        ledger.clear();
+        self.walk_booking(rng, absorbed, ledger)
+    }
+
     fn walk_booking<R: Rng + ?Sized, L: Ledger>(
         &self,
         rng: &mut R,

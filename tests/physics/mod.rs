@@ -1,6 +1,7 @@
 //! Checks of the physics against exact results and published values
 //! (docs/references.md).
 
+mod absorption_rescaling;
 mod accelerated;
 mod comparison;
 mod convective_zones;
