@@ -32,7 +32,7 @@ use rayon::prelude::*;
 use thiserror::Error;
 
 use crate::medium::Medium;
-use crate::simulation::{Method, RunConfig, run};
+use crate::simulation::{RunConfig, run};
 use crate::tally::{AbsorbedAlongPath, ExactSum, Outcome, Tally};
 use crate::transport::DirectWalker;
 use crate::transport::PathLedger;
@@ -315,10 +315,10 @@ pub struct RescaledRun {
 
 /// Runs `config.photons` photons once through the least absorbing of `media` with the
 /// direct walker and rescales them to every medium (see the module docs), walking on its
-/// own any point whose weights collapse. Point i's own walk, and the shared walk of the
-/// walk point, use random stream i (as the points of a sweep do); `config.stream` and
-/// `config.method` are not used, the seed, photon range, step cap and absorption
-/// treatment are.
+/// own any point whose weights collapse (with `config.method`). Point i's own walk, and
+/// the shared walk of the walk point, use random stream i (as the points of a sweep do);
+/// `config.stream` is not used, the seed, photon range, step cap and absorption treatment
+/// are.
 ///
 /// # Errors
 /// [`RescaleError`] before any photon is walked, when the media differ in more than
@@ -403,14 +403,12 @@ pub fn run_rescaled(media: &[Medium], config: &RunConfig) -> Result<RescaledRun,
         .enumerate()
         .map(|(point, tally)| {
             let effective = tally.effective_photons();
-            if point != walk && (!rescale[point] || effective < ESS_FRACTION * left_walk as f64)
-            {
+            if point != walk && (!rescale[point] || effective < ESS_FRACTION * left_walk as f64) {
                 walked_alone.push(point);
                 let own = run(
                     &media[point],
                     &RunConfig {
                         stream: point as u64,
-                        method: Method::Direct,
                         ..config.clone()
                     },
                 )

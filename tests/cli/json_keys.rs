@@ -77,6 +77,9 @@ const ADDED: &[&str] = &[
     "comparison.outcomes[].stderr",
     "comparison.outcomes[].diffusion",
     "comparison.verdict.tolerance",
+    // Weighted photons and absorption rescaling.
+    "absorption_mode",
+    "reweighted",
 ];
 
 /// Key paths of `value`: `a.b` for object keys, `a[]` for the elements of an array (the
