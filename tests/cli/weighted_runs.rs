@@ -158,3 +158,24 @@ fn a_rescaled_sweep_with_a_bad_path_fails_before_any_walk() {
     let error = fail(&["sweep", s(&spec), "--out", s(&out), "--quiet"]);
     assert_mentions(&error, &["albedo"]);
 }
+
+#[test]
+fn a_sweep_spec_takes_the_absorption_treatment() {
+    let directory = tempfile::tempdir().unwrap();
+    let spec = write_spec(
+        directory.path(),
+        r#"{ "model": "model.json", "photons": 400, "seed": 3, "absorption": "weighted",
+             "parameters": [ { "path": "layers[1].extinction_coefficient", "values": [2, 3] } ] }"#,
+    );
+    let out = directory.path().join("out");
+    succeed(&["sweep", s(&spec), "--out", s(&out), "--quiet"]);
+    let table = std::fs::read_to_string(out.join("sweep.jsonl")).unwrap();
+    assert!(table.lines().all(|l| json(l)["absorption_mode"] == "weighted"));
+    let spec = write_spec(
+        directory.path(),
+        r#"{ "model": "model.json", "absorption": "implicit",
+             "parameters": [ { "path": "layers[1].albedo", "values": [0.9] } ] }"#,
+    );
+    let error = fail(&["sweep", s(&spec), "--out", s(&directory.path().join("bad"))]);
+    assert_mentions(&error, &["absorption", "implicit", "weighted"]);
+}
