@@ -4,8 +4,10 @@
 //!
 //! Two studies: the albedo of a sphere of optical radius 20 (ω from 0.5 to 1), where the
 //! weights collapse below ω ≈ 0.97 and those points are walked on their own (the count is
-//! printed), and the absorption coefficient of a 1 cm slab (μs = 10 /cm, g = 0.7, μa from 0
-//! to 1.9 /cm), where every point is rescaled.
+//! printed), the absorption coefficient of a 1 cm slab (μs = 10 /cm, g = 0.7, μa from 0
+//! to 1.9 /cm), where every point is rescaled but each walk is short, and the same for a
+//! 30 cm slab with weak absorption (μa from 0 to 0.0095 /cm, a tenth of the photons), where
+//! walks are long.
 //!
 //! Run with `cargo run --release --example rescaling_cost [-- PHOTONS]`.
 
@@ -21,11 +23,11 @@ fn sphere(albedo: f64) -> Medium {
     Medium::sphere(vec![(1.0, layer)], Source::centre()).expect("valid")
 }
 
-fn slab(mu_a: f64) -> Medium {
+fn slab(thickness_cm: f64, mu_a: f64) -> Medium {
     let mu_s = 10.0;
     let phase = PhaseFunction::henyey_greenstein(0.7).expect("valid g");
     let layer = Layer::new("", mu_s + mu_a, mu_s / (mu_s + mu_a), phase, 1.0).expect("valid");
-    Medium::slab(vec![(1.0, layer)], 1.0, Source::normal_beam()).expect("valid")
+    Medium::slab(vec![(thickness_cm, layer)], 1.0, Source::normal_beam()).expect("valid")
 }
 
 fn study(title: &str, media: &[Medium], photons: u64) {
@@ -94,6 +96,13 @@ fn main() {
         .map(|k| sphere(0.5 + 0.5 * k as f64 / 19.0))
         .collect();
     study("sphere τ = 20, albedo 0.5 … 1", &spheres, photons);
-    let slabs: Vec<Medium> = (0..20).map(|k| slab(0.1 * k as f64)).collect();
+    let slabs: Vec<Medium> = (0..20).map(|k| slab(1.0, 0.1 * k as f64)).collect();
     study("slab 1 cm, μs = 10 /cm, μa 0 … 1.9 /cm", &slabs, photons);
+    // Long walks, narrow absorption range: where one walk is worth many.
+    let thick: Vec<Medium> = (0..20).map(|k| slab(30.0, 0.0005 * k as f64)).collect();
+    study(
+        "slab 30 cm, μs = 10 /cm, μa 0 … 0.0095 /cm",
+        &thick,
+        photons / 10,
+    );
 }

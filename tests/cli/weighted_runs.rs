@@ -170,7 +170,11 @@ fn a_sweep_spec_takes_the_absorption_treatment() {
     let out = directory.path().join("out");
     succeed(&["sweep", s(&spec), "--out", s(&out), "--quiet"]);
     let table = std::fs::read_to_string(out.join("sweep.jsonl")).unwrap();
-    assert!(table.lines().all(|l| json(l)["absorption_mode"] == "weighted"));
+    assert!(
+        table
+            .lines()
+            .all(|l| json(l)["absorption_mode"] == "weighted")
+    );
     let spec = write_spec(
         directory.path(),
         r#"{ "model": "model.json", "absorption": "implicit",
