@@ -341,7 +341,9 @@ pub fn run_rescaled(media: &[Medium], config: &RunConfig) -> Result<RescaledRun,
     let rescale: Vec<bool> = (0..points).map(|p| !pilot[p]).collect();
     let fresh = || vec![Tally::new(); points];
     let end = config.first_photon + config.photons;
-    let batch = (config.photons / 4).clamp(4_096, 1_000_000);
+    // One batch of one job per thread: each job holds a tally per point, whose merges
+    // cost more than short jobs save.
+    let batch = config.photons.max(1);
     let mut tallies = fresh();
     let mut start = config.first_photon;
     let empty = AbsorbedAlongPath::default();
@@ -435,11 +437,12 @@ pub fn run_rescaled(media: &[Medium], config: &RunConfig) -> Result<RescaledRun,
     })
 }
 
-/// Photons of the pilot that decides which points are not worth rescaling.
+/// Most photons of the pilot that decides which points are not worth rescaling (it takes
+/// 5 % of the photons, at least 100, at most this).
 const PILOT_PHOTONS: u64 = 1_000;
 
-/// Per point, whether its Kish effective number of leaving photons over the first
-/// [`PILOT_PHOTONS`] photons of the walk is below [`ESS_FRACTION`] of the pilot photons
+/// Per point, whether its Kish effective number of leaving photons over the first photons
+/// of the walk (5 % of them, between 100 and [`PILOT_PHOTONS`]) is below [`ESS_FRACTION`] of the pilot photons
 /// that left (sums exact and in photon order, so the decision is the same for any thread
 /// count).
 fn pilot_collapse(
@@ -449,7 +452,9 @@ fn pilot_collapse(
     config: &RunConfig,
     stream: u64,
 ) -> Vec<bool> {
-    let photons = config.photons.min(PILOT_PHOTONS);
+    let photons = (config.photons / 20)
+        .clamp(100, PILOT_PHOTONS)
+        .min(config.photons);
     let points = plan.points();
     let mut sums = vec![(ExactSum::new(), ExactSum::new()); points];
     let mut left = 0u64;
