@@ -24,7 +24,7 @@ use crate::fingerprint::{canonical_json, fingerprint};
 use crate::input::{InputError, from_json_value, plain_message, strip_bom};
 use crate::medium::Medium;
 use crate::medium::model_file::{ModelError, model_from_value};
-use crate::simulation::{Method, RunConfig, RunResult};
+use crate::simulation::{Absorption, Method, RunConfig, RunResult};
 use crate::tally::{ResolvedLayout, Tally, TallyError};
 use crate::transport::Acceleration;
 use crate::transport::WalkLimits;
@@ -167,6 +167,9 @@ pub struct RunShardInfo {
     method: String,
     acceleration: Acceleration,
     resolved: Option<ResolvedLayout>,
+    /// Absorption treatment; absent (analog) in the files of earlier versions.
+    #[serde(default, skip_serializing_if = "is_analog")]
+    absorption: Absorption,
     model_hash: String,
     model_file: String,
     model: Value,
@@ -187,6 +190,9 @@ struct RunShardInfoRepr {
     method: String,
     acceleration: Acceleration,
     resolved: Option<ResolvedLayout>,
+    /// Absorption treatment; absent (analog) in the files of earlier versions.
+    #[serde(default, skip_serializing_if = "is_analog")]
+    absorption: Absorption,
     model_hash: String,
     model_file: String,
     model: Value,
@@ -244,6 +250,7 @@ impl TryFrom<RunShardInfoRepr> for RunShardInfo {
             method: repr.method,
             acceleration: repr.acceleration,
             resolved: repr.resolved,
+            absorption: repr.absorption,
             model_hash: repr.model_hash,
             model_file: repr.model_file,
             model: repr.model,
@@ -275,6 +282,7 @@ impl RunShardInfo {
             method: method.to_string(),
             acceleration: config.acceleration,
             resolved: config.resolved,
+            absorption: config.absorption,
             model_hash: fingerprint(&model),
             model_file: model_file.to_string(),
             model,
@@ -623,8 +631,12 @@ pub fn merge_run_shards(mut shards: Vec<RunShard>) -> Result<MergedRun, MergeErr
         same("run", "max_steps", (f, a.max_steps), (o, b.max_steps))?;
         same("run", "method", (f, &a.method), (o, &b.method))?;
         let settings = |info: &RunShardInfo| {
-            serde_json::json!({"acceleration": info.acceleration, "resolved": info.resolved})
-                .to_string()
+            serde_json::json!({
+                "acceleration": info.acceleration,
+                "resolved": info.resolved,
+                "absorption": info.absorption,
+            })
+            .to_string()
         };
         same("run", "walk settings", (f, &settings(a)), (o, &settings(b)))?;
         same(
@@ -672,9 +684,15 @@ pub fn merge_run_shards(mut shards: Vec<RunShard>) -> Result<MergedRun, MergeErr
                 })?,
             acceleration: a.acceleration,
             resolved: a.resolved,
+            absorption: a.absorption,
         },
         result: RunResult { tally, elapsed_s },
     })
+}
+
+/// Whether `absorption` is analog (left out of shard files, as before weighting existed).
+fn is_analog(absorption: &Absorption) -> bool {
+    *absorption == Absorption::Analog
 }
 
 #[cfg(test)]

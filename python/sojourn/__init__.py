@@ -218,8 +218,9 @@ def run(
     result bit for bit; ``threads`` (default: one per core) does not change it.
     ``method`` is ``"direct"`` (every scattering), ``"accelerated"`` (diffusion jumps deep
     inside nearly uniform regions) or ``"auto"`` (the accelerated walker; identical to
-    direct where no jump applies). ``absorption`` is ``"analog"`` (an absorbed photon ends;
-    the only treatment of this version). ``max_steps`` caps the free flights per photon
+    direct where no jump applies). ``absorption`` is ``"analog"`` (an absorbed photon ends)
+    or ``"weighted"`` (implicit capture: each interaction scatters and multiplies the
+    photon's weight by the albedo, with Russian roulette below weight 1e-3). ``max_steps`` caps the free flights per photon
     (censored beyond). ``resolve=True`` (slabs) keeps time-of-flight, depth, angle and
     radial tallies, on ``tof_bins`` time bins of ``tof_bin_ps`` picoseconds (default: 200
     bins over the longer of 4 diffusion mean times and 8 decay times) and ``cosine_bins``

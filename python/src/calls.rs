@@ -22,7 +22,7 @@ use sojourn::medium::model_file::{ModelError, parse_model_value};
 use sojourn::medium::{Geometry, Medium};
 use sojourn::report::{ProfileReport, RunReport};
 use sojourn::shard::Shard;
-use sojourn::simulation::{self, Method, RunConfig, RunResult};
+use sojourn::simulation::{self, Absorption, Method, RunConfig, RunResult};
 use sojourn::sweep::ResolvedSpec;
 use sojourn::sweep::table::jsonl_text;
 use sojourn::tally::{LogHistogram, Tally};
@@ -98,15 +98,6 @@ fn thread_pool(threads: Option<&Bound<'_, PyAny>>) -> PyResult<ThreadPool> {
         .map_err(|error| refused(format!("cannot start the worker threads: {error}")))
 }
 
-/// Refuses every absorption treatment but analog (the only one of this version).
-fn check_absorption(absorption: &str) -> PyResult<()> {
-    match absorption {
-        "analog" => Ok(()),
-        other => Err(refused(format!(
-            "unknown absorption treatment {other:?}: expected analog (an absorbed photon ends its walk)"
-        ))),
-    }
-}
 
 /// Runs `config` on `medium` in chunks of photons, each with the GIL released, checking
 /// for signals between chunks. Chunks start at four photons per thread and are scaled to
@@ -210,7 +201,7 @@ pub fn run(
     let photons = whole_arg("photons", photons, 10_000, 1, u64::MAX)?;
     let seed = whole_arg("seed", seed, 1, 0, u64::MAX)?;
     let method = Method::from_str(method).map_err(refused)?;
-    check_absorption(absorption)?;
+    let absorption = Absorption::from_str(absorption).map_err(refused)?;
     let default_steps = WalkLimits::default().max_steps;
     let max_steps = whole_arg("max_steps", max_steps, default_steps, 1, u64::MAX)?;
     let tof_bins = whole_arg("tof_bins", tof_bins, 200, 1, 100_000)? as usize;
@@ -246,6 +237,7 @@ pub fn run(
         seed,
         limits: WalkLimits { max_steps },
         method,
+        absorption,
         resolved,
         ..RunConfig::default()
     };

@@ -172,7 +172,7 @@ BAD_ARGUMENTS: List[Any] = [
     (dict(threads=0), SojournError, "threads = 0: expected a whole number from 1 to 1024"),
     (dict(max_steps=0), SojournError, "max_steps = 0: expected a whole number >= 1"),
     (dict(method="fast"), SojournError, 'unknown walk method "fast": expected direct, accelerated or auto'),
-    (dict(absorption="weighted"), SojournError, 'unknown absorption treatment "weighted": expected analog'),
+    (dict(absorption="implicit"), SojournError, 'unknown absorption treatment "implicit": expected analog'),
     (dict(resolve=True), SojournError, f"{EMBER}: resolve=True is for slabs; this model is a sphere"),
     (dict(tof_bin_ps=2.0), SojournError, "tof_bin_ps is for resolved runs: add resolve=True"),
     (dict(cosine_bins=0), SojournError, "cosine_bins = 0: expected a whole number from 1 to 10000"),

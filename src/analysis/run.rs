@@ -9,7 +9,7 @@ use serde::Serialize;
 
 use crate::analysis::stellar::StellarAnalysis;
 use crate::medium::{Geometry, Medium, Source};
-use crate::simulation::{Method, RunConfig};
+use crate::simulation::{Absorption, Method, RunConfig};
 use crate::star::zones::Zone;
 use crate::tally::{PathStats, Tally};
 
@@ -208,8 +208,11 @@ pub struct RunAnalysis {
     pub geometry: Geometry,
     /// Walk method.
     pub method: String,
-    /// Absorption treatment ("analog": an absorbed photon ends).
+    /// Absorption treatment ("analog": an absorbed photon ends; "weighted": implicit
+    /// capture with Russian roulette).
     pub absorption: String,
+    /// The same, under the name the weighted-photon reports use ("analog" or "weighted").
+    pub absorption_mode: String,
     /// Photons launched.
     pub photons: u64,
     /// Kish's effective number of photons (Σw)²/Σw² (equal to `photons` for analog runs).
@@ -292,7 +295,7 @@ impl RunAnalysis {
             theory_notes,
             solution.as_ref().ok(),
         );
-        let mut notes = vec!["absorption is analog: an absorbed photon ends its walk".to_string()];
+        let mut notes = vec![absorption_note(config.absorption, tally)];
         if medium.geometry() == Geometry::Sphere {
             notes.push(
                 "in a star a \"photon\" stands for radiant energy that is absorbed and \
@@ -361,7 +364,8 @@ impl RunAnalysis {
         Self {
             geometry: medium.geometry(),
             method: config.method.name().to_string(),
-            absorption: "analog".to_string(),
+            absorption: config.absorption.name().to_string(),
+            absorption_mode: config.absorption.name().to_string(),
             photons: tally.launched(),
             effective_photons: tally.effective_photons(),
             seed: config.seed,
@@ -416,6 +420,22 @@ impl WalkSummary {
             },
             max_steps: config.limits.max_steps,
         }
+    }
+}
+
+/// The report's line on how absorption was simulated.
+fn absorption_note(absorption: Absorption, tally: &Tally) -> String {
+    match absorption {
+        Absorption::Analog => "absorption is analog: an absorbed photon ends its walk".to_string(),
+        Absorption::Weighted => format!(
+            "absorption is weighted (implicit capture): at each interaction a photon scatters \
+             and its weight is multiplied by the albedo; Russian roulette below weight {:e} \
+             (survival {}); the absorbed fraction is 1 minus the weight each photon carried \
+             out; the photons that left are worth {:.0} analog ones (Kish)",
+            crate::transport::ROULETTE_THRESHOLD,
+            crate::transport::ROULETTE_SURVIVAL,
+            tally.effective_photons()
+        ),
     }
 }
 

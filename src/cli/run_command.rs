@@ -13,7 +13,7 @@ use sojourn::medium::model_file::{
 };
 use sojourn::medium::{Geometry, Medium};
 use sojourn::report::{RunReport, render_run_report};
-use sojourn::simulation::{Method, PlanError, RunConfig};
+use sojourn::simulation::{Absorption, Method, PlanError, RunConfig};
 use sojourn::transport::{Acceleration, WalkLimits};
 
 use super::figures::write_run_figures;
@@ -45,6 +45,12 @@ pub struct RunArgs {
     /// `auto` (whichever a cost estimate finds cheaper; the report says which and why).
     #[arg(long, value_enum, default_value_t = MethodArg::Auto)]
     method: MethodArg,
+    /// Absorption: `analog` (an absorbed photon ends its walk) or `weighted` (implicit
+    /// capture: every interaction scatters and multiplies the photon's weight by the
+    /// albedo, Russian roulette below weight 1e-3; less noise on reflectance and
+    /// transmittance of absorbing media).
+    #[arg(long, value_enum, default_value_t = AbsorptionArg::Analog)]
+    absorption: AbsorptionArg,
     /// Accelerated walk: smallest jump, in transport mean free paths (a jump starts at least
     /// GAMMA from where it can end, and never within GAMMA of a surface or interface).
     #[arg(long, default_value_t = Acceleration::default().gamma(), value_parser = positive_number)]
@@ -102,6 +108,22 @@ pub struct RunArgs {
 enum StopAtArg {
     /// The base of the outer convective zone.
     ConvectiveBase,
+}
+
+/// Absorption treatments on the command line.
+#[derive(Debug, Clone, Copy, clap::ValueEnum)]
+enum AbsorptionArg {
+    Analog,
+    Weighted,
+}
+
+impl From<AbsorptionArg> for Absorption {
+    fn from(absorption: AbsorptionArg) -> Self {
+        match absorption {
+            AbsorptionArg::Analog => Absorption::Analog,
+            AbsorptionArg::Weighted => Absorption::Weighted,
+        }
+    }
 }
 
 /// Walk methods on the command line.
@@ -204,6 +226,7 @@ pub fn execute(args: RunArgs) -> Result<()> {
             max_steps: args.max_steps,
         },
         method: args.method.into(),
+        absorption: args.absorption.into(),
         acceleration: Acceleration::new(args.gamma, args.epsilon, !args.no_drift_correction)
             .context("--gamma and --epsilon")?,
         resolved,

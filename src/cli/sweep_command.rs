@@ -93,9 +93,28 @@ pub fn execute(args: SweepArgs) -> Result<()> {
     }
     let pool = pool.build().context("cannot start the worker threads")?;
     let mut runner = SweepRunner::open(&sweep, &spec, &out, args.shard)?;
+    let rescaled = runner.rescalable();
+    if rescaled {
+        let (walked, alone) = pool.install(|| runner.run_rescaled())?;
+        if !args.quiet {
+            eprintln!(
+                "sojourn: the points differ only in absorption: walked point {walked} once and \
+                 rescaled the others (rows say reweighted: true)"
+            );
+        }
+        if !alone.is_empty() {
+            let list: Vec<String> = alone.iter().map(usize::to_string).collect();
+            eprintln!(
+                "sojourn: warning: rescaled weights collapsed at point(s) {} (Kish effective \
+                 photons below {} % of the photons that left the walk); walked those on their own",
+                list.join(", "),
+                sojourn::sweep::rescale::ESS_FRACTION * 100.0
+            );
+        }
+    }
     let pending = runner.pending();
     let total_points = sweep.points().len();
-    if pending.len() < total_points && !args.quiet {
+    if pending.len() < total_points && !args.quiet && !rescaled {
         eprintln!(
             "sojourn: resuming in {}: {} of {total_points} points already done",
             out.display(),

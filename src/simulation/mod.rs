@@ -14,7 +14,8 @@ use rayon::prelude::*;
 
 use crate::medium::Medium;
 use crate::tally::Tally;
-use crate::tally::{PhotonRecord, ResolvedLayout};
+use crate::tally::{AbsorbedAlongPath, PhotonRecord, ResolvedLayout};
+pub use crate::transport::Absorption;
 use crate::transport::rng::photon_rng;
 use crate::transport::{AcceleratedWalker, Acceleration, DirectWalker, PathLedger, WalkLimits};
 
@@ -66,26 +67,28 @@ enum Walker {
 
 impl Walker {
     fn new(medium: &Medium, config: &RunConfig) -> Self {
+        let keep_deposits = config.resolved.is_some();
         match plan(medium, config).method {
-            Method::Accelerated => Walker::Accelerated(AcceleratedWalker::new(
-                medium,
-                config.limits,
-                config.acceleration,
-            )),
-            Method::Direct | Method::Auto => {
-                Walker::Direct(DirectWalker::new(medium, config.limits))
-            }
+            Method::Accelerated => Walker::Accelerated(
+                AcceleratedWalker::new(medium, config.limits, config.acceleration)
+                    .with_absorption(config.absorption, keep_deposits),
+            ),
+            Method::Direct | Method::Auto => Walker::Direct(
+                DirectWalker::new(medium, config.limits)
+                    .with_absorption(config.absorption, keep_deposits),
+            ),
         }
     }
 
-    fn walk_with_ledger(
+    fn walk(
         &self,
         rng: &mut crate::transport::rng::PhotonRng,
+        absorbed: &mut AbsorbedAlongPath,
         ledger: &mut PathLedger,
     ) -> PhotonRecord {
         match self {
-            Walker::Direct(walker) => walker.walk_with_ledger(rng, ledger),
-            Walker::Accelerated(walker) => walker.walk_with_ledger(rng, ledger),
+            Walker::Direct(walker) => walker.walk_weighted_with_ledger(rng, absorbed, ledger),
+            Walker::Accelerated(walker) => walker.walk_weighted_with_ledger(rng, absorbed, ledger),
         }
     }
 }
@@ -110,6 +113,8 @@ pub struct RunConfig {
     pub acceleration: Acceleration,
     /// Resolved slab tallies to keep (time of flight, depth, angle, radius), if any.
     pub resolved: Option<ResolvedLayout>,
+    /// How absorption is simulated (analog by default).
+    pub absorption: Absorption,
 }
 
 impl Default for RunConfig {
@@ -123,6 +128,7 @@ impl Default for RunConfig {
             method: Method::default(),
             acceleration: Acceleration::default(),
             resolved: None,
+            absorption: Absorption::Analog,
         }
     }
 }
@@ -130,15 +136,20 @@ impl Default for RunConfig {
 impl RunConfig {
     /// A canonical description of everything that shapes each photon's walk and tally
     /// besides the photon range and seed: method, acceleration parameters, step cap and
-    /// resolved-tally bins. Runs that differ here must not be merged.
+    /// resolved-tally bins, and the absorption treatment when it is not analog (so that
+    /// analog descriptions are those of earlier versions). Runs that differ here must not
+    /// be merged.
     pub fn walk_description(&self) -> String {
-        serde_json::json!({
+        let mut description = serde_json::json!({
             "method": self.method.name(),
             "acceleration": self.acceleration,
             "max_steps": self.limits.max_steps,
             "resolved": self.resolved,
-        })
-        .to_string()
+        });
+        if self.absorption != Absorption::Analog {
+            description["absorption"] = self.absorption.name().into();
+        }
+        description.to_string()
     }
 }
 
@@ -167,6 +178,7 @@ pub fn run_with_progress(
 ) -> RunResult {
     let started = Instant::now();
     let walker = Walker::new(medium, config);
+    let weighted = config.absorption == Absorption::Weighted;
     let mut tally = Tally::with_resolved(config.resolved);
     let end = config.first_photon + config.photons;
     let batch = (config.photons / 100).clamp(1_000, 1_000_000);
@@ -179,14 +191,18 @@ pub fn run_with_progress(
                 || {
                     (
                         Tally::with_resolved(config.resolved),
-                        PathLedger::for_medium(medium),
+                        (PathLedger::for_medium(medium), AbsorbedAlongPath::default()),
                     )
                 },
-                |(mut tally, mut ledger), photon| {
+                |(mut tally, (mut ledger, mut absorbed)), photon| {
                     let mut rng = photon_rng(config.seed, config.stream, photon);
-                    let record = walker.walk_with_ledger(&mut rng, &mut ledger);
-                    tally.record_with_residence(&record, &ledger);
-                    (tally, ledger)
+                    let record = walker.walk(&mut rng, &mut absorbed, &mut ledger);
+                    if weighted {
+                        tally.record_weighted_with_residence(&record, &absorbed, &ledger);
+                    } else {
+                        tally.record_with_residence(&record, &ledger);
+                    }
+                    (tally, (ledger, absorbed))
                 },
             )
             .map(|(tally, _)| tally)

@@ -30,6 +30,7 @@
 
 pub mod json_path;
 pub mod merge;
+pub mod rescale;
 pub mod runner;
 pub mod spec;
 pub mod table;
@@ -43,7 +44,7 @@ use serde_json::Value;
 use crate::analysis::RunAnalysis;
 use crate::medium::Medium;
 use crate::shard::Shard;
-use crate::simulation::{Method, RunConfig, RunResult, run_with_progress};
+use crate::simulation::{Absorption, Method, RunConfig, RunResult, run_with_progress};
 use crate::transport::WalkLimits;
 
 /// One point of a sweep: its parameter values and its medium.
@@ -77,6 +78,7 @@ pub struct Sweep {
     seed: u64,
     max_steps: u64,
     method: Method,
+    absorption: Absorption,
     label: String,
     points: Vec<SweepPoint>,
 }
@@ -89,6 +91,7 @@ impl Sweep {
             seed,
             max_steps: WalkLimits::default().max_steps,
             method: Method::default(),
+            absorption: Absorption::default(),
             label: "<built in code>".to_string(),
             points: Vec::new(),
         }
@@ -104,6 +107,17 @@ impl Sweep {
     pub fn method(mut self, method: Method) -> Self {
         self.method = method;
         self
+    }
+
+    /// Sets the absorption treatment (default analog; see [`Absorption`]).
+    pub fn absorption(mut self, absorption: Absorption) -> Self {
+        self.absorption = absorption;
+        self
+    }
+
+    /// The absorption treatment.
+    pub fn absorption_mode(&self) -> Absorption {
+        self.absorption
     }
 
     /// Sets the model label (the spec file, or what the points were built from), shown in
@@ -165,6 +179,7 @@ impl Sweep {
                 max_steps: self.max_steps,
             },
             method: self.method,
+            absorption: self.absorption,
             ..RunConfig::default()
         }
     }
@@ -196,6 +211,7 @@ impl Sweep {
             parameters: point.parameters.clone(),
             analysis: RunAnalysis::new(&point.medium, &config, &result.tally),
             elapsed_s: result.elapsed_s,
+            reweighted: false,
         }
     }
 
@@ -226,6 +242,9 @@ pub struct PointResult {
     pub analysis: RunAnalysis,
     /// Wall-clock time of the point's photons, s (summed over shards after a merge).
     pub elapsed_s: f64,
+    /// Whether the point's photons were rescaled from the walk of another point
+    /// ([`rescale`]), not walked.
+    pub reweighted: bool,
 }
 
 impl PointResult {

@@ -20,6 +20,7 @@ use serde_json::Value;
 use thiserror::Error;
 
 use super::merge::{SweepShardFile, SweepShardInfo};
+use super::rescale::{can_rescale, run_rescaled};
 use super::spec::ResolvedSpec;
 use super::table::{SweepRow, csv_text, jsonl_text};
 use super::{PointResult, Sweep};
@@ -28,12 +29,13 @@ use crate::file_format::format_problem;
 use crate::input::{
     InputError, MAX_STATE_BYTES, from_json_value, plain_message, read_text, strip_bom,
 };
+use crate::medium::Medium;
 use crate::shard::{MergeError, Shard, check_tally};
 use crate::simulation::RunResult;
 use crate::tally::Tally;
 
-/// Version of the point-file layout.
-pub const POINT_FORMAT: u32 = 2;
+/// Version of the point-file layout (3: tallies carry residence sums).
+pub const POINT_FORMAT: u32 = 3;
 
 /// A sweep that cannot run, resume or be assembled.
 #[derive(Debug, Error)]
@@ -107,6 +109,13 @@ pub struct PointRecord {
     pub(crate) parameters: Vec<ParameterValue>,
     pub(crate) elapsed_s: f64,
     pub(crate) tally: Tally,
+    /// Whether the tally was rescaled from the walk of another point (absent: walked).
+    #[serde(default, skip_serializing_if = "is_false")]
+    pub(crate) reweighted: bool,
+}
+
+fn is_false(value: &bool) -> bool {
+    !*value
 }
 
 /// A [`PointRecord`] as read, before its checks.
@@ -123,6 +132,8 @@ struct PointRecordRepr {
     parameters: Vec<ParameterValue>,
     elapsed_s: f64,
     tally: Tally,
+    #[serde(default)]
+    reweighted: bool,
 }
 
 impl TryFrom<PointRecordRepr> for PointRecord {
@@ -165,6 +176,7 @@ impl TryFrom<PointRecordRepr> for PointRecord {
             parameters: repr.parameters,
             elapsed_s: repr.elapsed_s,
             tally: repr.tally,
+            reweighted: repr.reweighted,
         })
     }
 }
@@ -358,6 +370,7 @@ impl<'a> SweepRunner<'a> {
             parameters: parameter_values(self.sweep, index),
             elapsed_s,
             tally: result.tally,
+            reweighted: false,
         };
         let path = self.point_path(index);
         let text = serde_json::to_string(&record).expect("a point record serialises");
@@ -368,6 +381,67 @@ impl<'a> SweepRunner<'a> {
         })?;
         self.done[index as usize] = Some(record);
         Ok(elapsed_s)
+    }
+
+    /// Whether [`SweepRunner::run_rescaled`] applies: a whole sweep (no shard) with no
+    /// point done yet, of two or more points that differ only in absorption (see
+    /// [`super::rescale`]).
+    pub fn rescalable(&self) -> bool {
+        let media: Vec<Medium> = self
+            .sweep
+            .points()
+            .iter()
+            .map(|p| p.medium().clone())
+            .collect();
+        !self.bundle && self.done.iter().all(Option::is_none) && can_rescale(&media)
+    }
+
+    /// Walks the least absorbing point once, rescales every other point from it (points
+    /// whose weights collapse are walked on their own) and writes every point file.
+    /// Returns the walked point and the points walked on their own.
+    ///
+    /// # Errors
+    /// [`SweepError::Io`] when a point file cannot be written; [`SweepError::Incomplete`]
+    /// naming every point if the points cannot be rescaled (check
+    /// [`SweepRunner::rescalable`] first).
+    pub fn run_rescaled(&mut self) -> Result<(usize, Vec<usize>), SweepError> {
+        let media: Vec<Medium> = self
+            .sweep
+            .points()
+            .iter()
+            .map(|p| p.medium().clone())
+            .collect();
+        let config = self.sweep.config(0, self.shard);
+        let run = run_rescaled(&media, &config).map_err(|_| SweepError::Incomplete {
+            missing: join(&self.pending()),
+        })?;
+        let share_s = run.elapsed_s / media.len() as f64;
+        for (index, point) in run.points.into_iter().enumerate() {
+            let index = index as u64;
+            let config = self.sweep.config(index, self.shard);
+            let record = PointRecord {
+                format: POINT_FORMAT,
+                spec_hash: self.hash.clone(),
+                point: index,
+                shard: self.shard,
+                seed: config.seed,
+                first_photon: config.first_photon,
+                photons: config.photons,
+                parameters: parameter_values(self.sweep, index),
+                elapsed_s: share_s,
+                tally: point.tally,
+                reweighted: point.reweighted,
+            };
+            let path = self.point_path(index);
+            let text = serde_json::to_string(&record).expect("a point record serialises");
+            write_atomically(&path, text.as_bytes()).map_err(|source| SweepError::Io {
+                path: path.display().to_string(),
+                action: "write",
+                cause: source,
+            })?;
+            self.done[index as usize] = Some(record);
+        }
+        Ok((run.walk_point, run.walked_alone))
     }
 
     /// Once every point is done: for a whole sweep, builds the results and writes
@@ -395,11 +469,23 @@ impl<'a> SweepRunner<'a> {
                 })
         };
         if !self.bundle {
+            let reweighted: Vec<bool> = records.iter().map(|r| r.reweighted).collect();
             let tallies: Vec<(Tally, f64)> = records
                 .into_iter()
                 .map(|r| (r.tally, r.elapsed_s))
                 .collect();
-            let results = results_from_tallies(self.sweep, tallies);
+            let mut results = results_from_tallies(self.sweep, tallies);
+            for (result, reweighted) in results.iter_mut().zip(reweighted) {
+                result.reweighted = reweighted;
+                if reweighted {
+                    result.analysis.absorption_mode = "rescaled".to_string();
+                    result.analysis.notes.push(
+                        "absorption rescaled: the photons of the least absorbing point's walk, \
+                         reweighted to this point's absorption (weighted photons)"
+                            .to_string(),
+                    );
+                }
+            }
             let rows: Vec<SweepRow> = results.iter().map(PointResult::row).collect();
             let csv = write(self.out.join("sweep.csv"), &csv_text(&rows))?;
             let jsonl = write(self.out.join("sweep.jsonl"), &jsonl_text(&rows))?;

@@ -34,7 +34,7 @@ use crate::input::{
     InputError, MAX_SWEEP_POINTS, MAX_TEXT_BYTES, plain_message, read_text, strip_bom,
 };
 use crate::medium::model_file::{ModelError, load_model_value, model_from_value};
-use crate::simulation::Method;
+use crate::simulation::{Absorption, Method};
 use crate::transport::WalkLimits;
 
 /// Version of the resolved-spec layout (part of the spec hash).
@@ -146,6 +146,7 @@ struct SpecFile {
     seed: Option<u64>,
     max_steps: Option<u64>,
     method: Option<Method>,
+    absorption: Option<Absorption>,
     parameters: Vec<ParameterFile>,
     #[serde(default)]
     combine: Combine,
@@ -211,8 +212,16 @@ pub struct ResolvedSpec {
     seed: u64,
     max_steps: u64,
     method: Method,
+    /// Absorption treatment; left out of the JSON when analog, as before it existed.
+    #[serde(default, skip_serializing_if = "is_analog")]
+    absorption: Absorption,
     combine: Combine,
     parameters: Vec<ResolvedParameter>,
+}
+
+/// Whether `absorption` is analog (left out of resolved specs and their hash).
+fn is_analog(absorption: &Absorption) -> bool {
+    *absorption == Absorption::Analog
 }
 
 /// A [`ResolvedSpec`] as read from JSON, before its checks.
@@ -226,6 +235,8 @@ struct ResolvedSpecRepr {
     max_steps: u64,
     #[serde(default)]
     method: Method,
+    #[serde(default)]
+    absorption: Absorption,
     combine: Combine,
     parameters: Vec<ResolvedParameter>,
 }
@@ -244,6 +255,7 @@ impl TryFrom<ResolvedSpecRepr> for ResolvedSpec {
             seed: repr.seed,
             max_steps: repr.max_steps,
             method: repr.method,
+            absorption: repr.absorption,
             combine: repr.combine,
             parameters: repr.parameters,
         };
@@ -347,6 +359,7 @@ impl ResolvedSpec {
             seed: spec.seed.unwrap_or(1),
             max_steps: spec.max_steps.unwrap_or(WalkLimits::default().max_steps),
             method: spec.method.unwrap_or_default(),
+            absorption: spec.absorption.unwrap_or_default(),
             combine: spec.combine,
             parameters,
         };
@@ -509,6 +522,11 @@ impl ResolvedSpec {
         self.method
     }
 
+    /// Absorption treatment (default analog).
+    pub fn absorption(&self) -> Absorption {
+        self.absorption
+    }
+
     /// How parameters combine.
     pub fn combine(&self) -> Combine {
         self.combine
@@ -534,7 +552,7 @@ impl ResolvedSpec {
     /// (base model content, photons, seed, step cap, combination and every value), not of
     /// file names.
     pub fn hash(&self) -> String {
-        fingerprint(&json!({
+        let mut identity = json!({
             "format": SPEC_FORMAT,
             "model": self.model,
             "photons": self.photons,
@@ -543,7 +561,12 @@ impl ResolvedSpec {
             "method": self.method,
             "combine": self.combine,
             "parameters": self.parameters,
-        }))
+        });
+        // Analog sweeps keep the hash they had before the absorption setting existed.
+        if !is_analog(&self.absorption) {
+            identity["absorption"] = json!(self.absorption);
+        }
+        fingerprint(&identity)
     }
 
     /// Number of points (at most [`MAX_SWEEP_POINTS`]).
@@ -596,6 +619,7 @@ impl ResolvedSpec {
         let mut sweep = Sweep::new(self.photons, self.seed)
             .max_steps(self.max_steps)
             .method(self.method)
+            .absorption(self.absorption)
             .model_label(&self.model_file);
         for index in 0..self.point_count() {
             let settings = self.settings(index);

@@ -101,6 +101,18 @@ pub const COLUMNS: &[(&str, &str)] = &[
         "direct_steps_per_photon",
         "free flights per photon (walk cost)",
     ),
+    (
+        "absorption_mode",
+        "analog, weighted (implicit capture, Russian roulette) or rescaled (from another point's walk)",
+    ),
+    (
+        "effective_photons",
+        "Kish's effective number of photons behind the times (photons, for analog points)",
+    ),
+    (
+        "reweighted",
+        "true where the point was rescaled from the walk of the least absorbing point",
+    ),
 ];
 
 /// One row of the sweep table: `(column, value)` pairs in column order.
@@ -154,6 +166,9 @@ impl SweepRow {
             json!(r.comparison.scatterings_ratio),
             json!(r.comparison.ks_distance),
             json!(r.walk.direct_steps_per_photon),
+            json!(r.absorption_mode),
+            json!(r.effective_photons),
+            json!(result.reweighted),
         ];
         debug_assert_eq!(values.len(), COLUMNS.len());
         columns.extend(

@@ -97,6 +97,50 @@ pub struct PhotonRecord {
     pub weight: f64,
 }
 
+/// Weight that a weighted photon left in the medium at one interaction (implicit capture:
+/// (1 − ω)·w), with where, for the resolved absorption tallies.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Deposit {
+    /// Weight left, in [0, 1].
+    pub weight: f64,
+    /// Layer where it was left.
+    pub layer: usize,
+    /// Depth below a slab's top face, cm (the z coordinate; unused for spheres).
+    pub depth_cm: f64,
+}
+
+/// What a weighted photon left in the medium along its walk (implicit capture), beside its
+/// [`PhotonRecord`]. Empty for analog photons.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct AbsorbedAlongPath {
+    /// Σ of the deposited weights.
+    pub weight: f64,
+    /// Σ deposit × time of the deposit, s (the mean time of absorption is this / `weight`).
+    pub weighted_time_s: f64,
+    /// Σ deposit × scatterings so far (the mean is this / `weight`).
+    pub weighted_scatterings: f64,
+    /// The deposits one by one, kept only when resolved tallies ask for them.
+    pub deposits: Vec<Deposit>,
+}
+
+impl AbsorbedAlongPath {
+    /// Nothing deposited yet (the deposit list keeps its memory).
+    pub fn clear(&mut self) {
+        self.weight = 0.0;
+        self.weighted_time_s = 0.0;
+        self.weighted_scatterings = 0.0;
+        self.deposits.clear();
+    }
+
+    /// Adds one deposit of weight `weight` at `time_s` after `scatterings` scatterings.
+    #[inline]
+    pub fn add(&mut self, weight: f64, time_s: f64, scatterings: f64) {
+        self.weight += weight;
+        self.weighted_time_s += weight * time_s;
+        self.weighted_scatterings += weight * scatterings;
+    }
+}
+
 /// An estimate and its 1σ standard error.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Estimate {
@@ -224,22 +268,129 @@ impl Tally {
     /// Mean time that photons ending with `outcome` spent in cell `cell`, s, with its
     /// standard error (`None` without residence sums or such photons).
     pub fn mean_time_in_cell(&self, outcome: Outcome, cell: usize) -> Option<Estimate> {
-        self.residence()?
+        self.residence_of(outcome)?
             .mean_time_in_cell(outcome, self.stats(outcome), cell)
     }
 
     /// Mean time that photons ending with `outcome` spent in cells 0 to `cell` (inside its
     /// outer radius, or above its bottom face), s, with its standard error.
     pub fn mean_time_through_cell(&self, outcome: Outcome, cell: usize) -> Option<Estimate> {
-        self.residence()?
+        self.residence_of(outcome)?
             .mean_time_through_cell(outcome, self.stats(outcome), cell)
     }
 
     /// Mean path length in declared layer `layer` of the photons ending with `outcome`,
     /// cm, with its standard error (`None` without residence sums or such photons).
     pub fn mean_path_in_layer(&self, outcome: Outcome, layer: usize) -> Option<Estimate> {
-        self.residence()?
+        self.residence_of(outcome)?
             .mean_path_in_layer(outcome, self.stats(outcome), layer)
+    }
+
+    /// The residence sums that describe photons ending with `outcome`: none for the
+    /// absorbed share of a weighted tally, whose residence is not tallied (a weighted
+    /// photon's weight is absorbed all along its path, not at one place and time).
+    fn residence_of(&self, outcome: Outcome) -> Option<&ResidenceTally> {
+        if self.weighted && outcome == Outcome::Absorbed {
+            return None;
+        }
+        self.residence()
+    }
+
+    /// [`Tally::record_weighted`] with the photon's residence by cell and path by layer
+    /// (from the walker's ledger), booked to the outcome it left by with its final weight.
+    /// The absorbed share carries no residence ([`Tally::mean_path_in_layer`] and the
+    /// per-cell means give `None` for absorbed photons of a weighted tally).
+    ///
+    /// # Panics
+    /// As [`Tally::record_weighted`] and [`Tally::record_with_residence`].
+    pub fn record_weighted_with_residence(
+        &mut self,
+        record: &PhotonRecord,
+        path: &AbsorbedAlongPath,
+        residence: &dyn PhotonResidence,
+    ) {
+        self.record_weighted(record, path);
+        let cells = (residence.cells(), residence.declared_layers());
+        let sums = self
+            .residence
+            .get_or_insert_with(|| Box::new(ResidenceTally::new(cells.0, cells.1)));
+        if record.outcome != Outcome::Absorbed
+            && let Some(weight) = Weight::new(record.weight).filter(|w| !w.is_zero())
+        {
+            sums.record(record.outcome, weight, residence);
+        }
+    }
+
+    /// Counts one photon walked with implicit capture (weighted absorption).
+    ///
+    /// The photon's final weight w (`record.weight`; 0 for a photon ended by Russian
+    /// roulette, whose outcome is [`Outcome::Absorbed`]) goes to its outcome, and the
+    /// complement 1 − w, exact on the fixed-point grid, to the absorbed photons, with the
+    /// deposit-weighted mean time and scatterings of `path` (the photon's own if it
+    /// deposited nothing). Each photon thus scores exactly 1 in total, the absorbed
+    /// fraction Σ(1 − w)/N is an unbiased estimate of the absorptance (E[w] is the analog
+    /// probability of leaving), and a photon can count in two outcomes. The single
+    /// deposits of `path`, if any, go to the resolved absorption-by-layer and -by-depth
+    /// series. A photon that lost no weight is counted as by [`Tally::record`].
+    ///
+    /// # Panics
+    /// If a weight is not in [0, 1] (a walker bug, not a user input).
+    pub fn record_weighted(&mut self, record: &PhotonRecord, path: &AbsorbedAlongPath) {
+        let ended_absorbed = record.outcome == Outcome::Absorbed;
+        if !ended_absorbed && record.weight == 1.0 && path.deposits.is_empty() {
+            self.record(record);
+            return;
+        }
+        let out = if ended_absorbed {
+            Weight::new(0.0).expect("0 is a weight")
+        } else {
+            Weight::new(record.weight).unwrap_or_else(|| {
+                panic!(
+                    "photon weight {} outside [0, 1]: the walker must keep weights in range",
+                    record.weight
+                )
+            })
+        };
+        if !self.weighted {
+            self.make_weighted();
+        }
+        self.launched += 1;
+        if !ended_absorbed && !out.is_zero() {
+            if let Some(resolved) = &mut self.resolved {
+                resolved.record(record, out);
+            }
+            self.stats_mut(record.outcome)
+                .add(record.time_s, record.scatterings, out);
+            if record.time_s.is_finite() {
+                self.walk.total_time_s.add(record.time_s);
+            }
+        }
+        let share = out.complement();
+        if !share.is_zero() {
+            let (time_s, scatterings) = if path.weight > 0.0 {
+                (
+                    path.weighted_time_s / path.weight,
+                    path.weighted_scatterings / path.weight,
+                )
+            } else {
+                (record.time_s, record.scatterings)
+            };
+            self.stats_mut(Outcome::Absorbed)
+                .add(time_s, scatterings, share);
+            if time_s.is_finite() {
+                self.walk.total_time_s.add(time_s);
+            }
+        }
+        if let Some(resolved) = &mut self.resolved {
+            for deposit in &path.deposits {
+                let weight = Weight::new(deposit.weight)
+                    .unwrap_or_else(|| panic!("deposit {} outside [0, 1]", deposit.weight));
+                resolved.deposit(deposit.layer, deposit.depth_cm, weight);
+            }
+        }
+        self.walk.jumps.add(record.jumps);
+        self.walk.direct_steps.add(record.direct_steps);
+        self.walk.jump_time_s.add(record.jump_time_s);
     }
 
     fn stats_mut(&mut self, outcome: Outcome) -> &mut PathStats {
@@ -330,15 +481,21 @@ impl Tally {
         self.weighted
     }
 
-    /// Kish's effective number of photons over every outcome, (Σw)²/Σw² (the number
-    /// launched for an analog run).
+    /// Kish's effective number of photons, (Σw)²/Σw², over the weights of the photons that
+    /// left the medium or were censored (every outcome but absorption, whose entries are
+    /// the complements of those weights, see [`Tally::record_weighted`]): how many analog
+    /// photons leaving the medium the weighted ones are worth for times and distributions.
+    /// The number launched for an analog run.
     pub fn effective_photons(&self) -> f64 {
         if !self.weighted {
             return self.launched as f64;
         }
         let mut weight = WeightSum::ZERO;
         let mut squared = 0.0;
-        for stats in self.path_stats() {
+        for (index, stats) in self.path_stats().iter().enumerate() {
+            if index == outcome_index(Outcome::Absorbed) {
+                continue;
+            }
             weight.merge(stats.weight_sum());
             squared += stats.weight_squared();
         }
@@ -453,7 +610,15 @@ impl Tally {
             counted = counted.and_then(|c| c.checked_add(stats.count()));
             *slot = stats;
         }
-        if counted != Some(tally.launched) {
+        // A weighted photon counts in its outcome and, for the weight it lost, among the
+        // absorbed ones (see `record_weighted`): between N and 2N entries.
+        let counts_fit = match counted {
+            Some(c) if repr.weighted => {
+                c >= tally.launched && c - tally.launched <= tally.paths[4].count()
+            }
+            other => other == Some(tally.launched),
+        };
+        if !counts_fit {
             return Err(TallyError::mismatch(
                 "launched",
                 "photons launched, against the sum of the outcomes",
@@ -511,7 +676,9 @@ impl Tally {
             }
         }
         let (count, weight) = resolved.absorbed_by_layer_totals();
-        if count > self.absorbed().count() || weight > self.absorbed().weight_sum() {
+        if !resolved.is_weighted()
+            && (count > self.absorbed().count() || weight > self.absorbed().weight_sum())
+        {
             return Err(TallyError::mismatch(
                 "resolved.absorbed_by_layer",
                 "photons in the bins, against the absorbed photons",

@@ -57,6 +57,17 @@ impl Weight {
     pub fn raw(self) -> u64 {
         self.0
     }
+
+    /// 1 − w, exact on the fixed-point grid: a weight and its complement add up to exactly
+    /// one photon.
+    pub fn complement(self) -> Weight {
+        Weight(ONE - self.0)
+    }
+
+    /// Whether this is exactly weight 0.
+    pub fn is_zero(self) -> bool {
+        self.0 == 0
+    }
 }
 
 /// An exact sum of [`Weight`]s (fixed point, 2⁻⁶³ units, in a `u128`).

@@ -17,13 +17,14 @@
 use nalgebra::Vector3;
 use rand::{Rng, RngExt};
 
-use super::direct::{DirectWalker, JumpSites, Photon, Stop, WalkLimits};
+use super::absorption::Absorption;
+use super::direct::{DepositSite, DirectWalker, JumpSites, Photon, Stop, WalkLimits};
 use super::direction;
-use super::jump_spheres::{JumpOutcome, LocalJumps, LocalSettings};
+use super::jump_spheres::{JumpOutcome, LocalJumps, LocalSettings, PassageCapture};
 use super::ledger::{Ledger, NoLedger, PathLedger};
 use super::radial_chain::{ChainSettings, RadialChain};
 use crate::medium::{Geometry, Medium, MediumError, Quantity};
-use crate::tally::{Outcome, PhotonRecord};
+use crate::tally::{AbsorbedAlongPath, Outcome, PhotonRecord};
 
 /// Parameters of the accelerated walk, always valid: γ and ε are finite and positive. The
 /// fields are private; [`Acceleration::new`] checks them, and so does deserialisation (a
@@ -190,9 +191,18 @@ impl AcceleratedWalker {
         }
     }
 
+    /// The same walker with absorption simulated as `absorption` (in the direct steps and
+    /// in the jumps); weighted photons list their single deposits if `keep_deposits`.
+    pub fn with_absorption(mut self, absorption: Absorption, keep_deposits: bool) -> Self {
+        self.direct = self.direct.with_absorption(absorption, keep_deposits);
+        self
+    }
+
     /// Follows one photon from the source until it leaves, is absorbed or hits the step cap.
+    /// For weighted walks, what the photon left in the medium is dropped: use
+    /// [`AcceleratedWalker::walk_weighted`].
     pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
-        self.walk_booking(rng, &mut NoLedger)
+        self.walk_booking(rng, &mut AbsorbedAlongPath::default(), &mut NoLedger)
     }
 
     /// [`Self::walk`], also booking the photon's time and interactions by cell in `ledger`
@@ -205,37 +215,69 @@ impl AcceleratedWalker {
         ledger: &mut PathLedger,
     ) -> PhotonRecord {
         ledger.clear();
-        self.walk_booking(rng, ledger)
+        self.walk_booking(rng, &mut AbsorbedAlongPath::default(), ledger)
+    }
+
+    /// Follows one photon, putting what it left in the medium (weighted walks; nothing for
+    /// analog ones) into `absorbed`, which is cleared first (its memory is reused).
+    pub fn walk_weighted<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        absorbed: &mut AbsorbedAlongPath,
+    ) -> PhotonRecord {
+        self.walk_booking(rng, absorbed, &mut NoLedger)
+    }
+
+    /// [`Self::walk_weighted`] and [`Self::walk_with_ledger`] at once (`ledger` cleared
+    /// first).
+    pub fn walk_weighted_with_ledger<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        absorbed: &mut AbsorbedAlongPath,
+        ledger: &mut PathLedger,
+    ) -> PhotonRecord {
+        ledger.clear();
+        self.walk_booking(rng, absorbed, ledger)
     }
 
     fn walk_booking<R: Rng + ?Sized, L: Ledger>(
         &self,
         rng: &mut R,
+        absorbed: &mut AbsorbedAlongPath,
         ledger: &mut L,
     ) -> PhotonRecord {
-        match &self.jumps {
-            Jumps::Radial(chain) => self.walk_with(
-                &Radial {
-                    chain,
-                    boundaries_cm: &self.boundaries_cm,
-                },
-                rng,
-                ledger,
-            ),
-            Jumps::Local(local) => self.walk_with(local, rng, ledger),
-        }
+        let (mut photon, reflected_at_entry) = self.direct.launch(rng);
+        absorbed.clear();
+        std::mem::swap(&mut photon.absorbed, absorbed);
+        let record = if reflected_at_entry {
+            photon.record(Outcome::Specular, 0.0, 0.0, 0.0)
+        } else {
+            match &self.jumps {
+                Jumps::Radial(chain) => self.walk_with(
+                    &Radial {
+                        chain,
+                        boundaries_cm: &self.boundaries_cm,
+                    },
+                    &mut photon,
+                    rng,
+                    ledger,
+                ),
+                Jumps::Local(local) => self.walk_with(local, &mut photon, rng, ledger),
+            }
+        };
+        std::mem::swap(&mut photon.absorbed, absorbed);
+        record
     }
 
     fn walk_with<J: Jumper, R: Rng + ?Sized, L: Ledger>(
         &self,
         jumper: &J,
+        photon: &mut Photon,
         rng: &mut R,
         ledger: &mut L,
     ) -> PhotonRecord {
-        let (mut photon, reflected_at_entry) = self.direct.launch(rng);
-        if reflected_at_entry {
-            return photon.record(Outcome::Specular, 0.0, 0.0, 0.0);
-        }
+        let weighted = self.direct.weighted();
+        let keep_deposits = self.direct.keep_deposits();
         let max_steps = self.direct.limits().max_steps;
         let (mut jumps, mut jump_time_s) = (0.0, 0.0);
         // An isotropic source is a jump site without an incoming direction.
@@ -247,7 +289,13 @@ impl AcceleratedWalker {
                 if photon.steps >= max_steps {
                     break Outcome::Censored;
                 }
-                match jumper.jump(&mut photon, incoming.as_ref(), rng, ledger) {
+                let start = DepositSite {
+                    time_s: photon.time_s,
+                    scatterings: photon.scatterings,
+                    layer: photon.layer,
+                    depth_cm: photon.position.z,
+                };
+                match jumper.jump(photon, incoming.as_ref(), weighted, rng, ledger) {
                     Some(done) => {
                         photon.steps += 1;
                         jumps += 1.0;
@@ -255,12 +303,27 @@ impl AcceleratedWalker {
                         if done.absorbed {
                             break Outcome::Absorbed;
                         }
+                        if let Some(capture) = done.capture {
+                            // Weighted: the passage's survival e^(−h) applied to the
+                            // weight, the loss left where the passage started, at its mean
+                            // time given absorption during the passage.
+                            let site = DepositSite {
+                                time_s: start.time_s + capture.mean_fraction * done.elapsed_s,
+                                scatterings: start.scatterings
+                                    + capture.mean_fraction
+                                        * (photon.scatterings - start.scatterings),
+                                ..start
+                            };
+                            if !photon.capture(capture.survival, site, keep_deposits, rng) {
+                                break Outcome::Absorbed;
+                            }
+                        }
                     }
-                    None if incoming.is_some() => self.direct.scatter(&mut photon, rng),
+                    None if incoming.is_some() => self.direct.scatter(photon, rng),
                     None => {}
                 }
             }
-            match self.direct.follow(&mut photon, rng, jumper, ledger) {
+            match self.direct.follow(photon, rng, jumper, ledger) {
                 Stop::Ended(outcome) => break outcome,
                 Stop::JumpSite => site = Some(Some(photon.direction)),
             }
@@ -274,11 +337,14 @@ impl AcceleratedWalker {
 trait Jumper: JumpSites {
     /// One jump from the photon's position (a scattering site reached with direction
     /// `incoming`, or an isotropic source), or `None` if none applies there after all.
-    /// Books the jump's expected residence by cell in `ledger`.
+    /// `weighted`: absorption during the jump as a survival factor
+    /// ([`JumpOutcome::capture`]) instead of an analog end. Books the jump's expected
+    /// residence by cell in `ledger`.
     fn jump<R: Rng + ?Sized, L: Ledger>(
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
+        weighted: bool,
         rng: &mut R,
         ledger: &mut L,
     ) -> Option<JumpOutcome>;
@@ -296,10 +362,11 @@ impl Jumper for LocalJumps {
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
+        weighted: bool,
         rng: &mut R,
         ledger: &mut L,
     ) -> Option<JumpOutcome> {
-        LocalJumps::jump(self, photon, incoming, rng, ledger)
+        LocalJumps::jump(self, photon, incoming, weighted, rng, ledger)
     }
 }
 
@@ -321,6 +388,7 @@ impl Jumper for Radial<'_> {
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
+        weighted: bool,
         rng: &mut R,
         ledger: &mut L,
     ) -> Option<JumpOutcome> {
@@ -328,7 +396,9 @@ impl Jumper for Radial<'_> {
             .chain
             .transition(&photon.position, photon.layer, incoming, rng)?;
         let passage = transition.passage;
-        if passage.absorption_hazard > 0.0 {
+        let capture = (weighted && passage.absorption_hazard > 0.0)
+            .then(|| PassageCapture::of_hazard(passage.absorption_hazard));
+        if !weighted && passage.absorption_hazard > 0.0 {
             let hazard = passage.absorption_hazard;
             if rng.random::<f64>() >= (-hazard).exp() {
                 // Absorbed: when, given that it happened during the passage (the hazard
@@ -342,6 +412,7 @@ impl Jumper for Radial<'_> {
                 return Some(JumpOutcome {
                     elapsed_s: fraction * passage.time_s,
                     absorbed: true,
+                    capture: None,
                 });
             }
         }
@@ -362,6 +433,7 @@ impl Jumper for Radial<'_> {
         Some(JumpOutcome {
             elapsed_s: passage.time_s,
             absorbed: false,
+            capture,
         })
     }
 }

@@ -18,13 +18,14 @@ use nalgebra::Vector3;
 use rand::{Rng, RngExt};
 use rand_distr::Exp1;
 
+use super::absorption::{Absorption, ROULETTE_THRESHOLD, roulette};
 use super::direction;
 use super::fresnel::{fresnel_reflectance, refract_across_z};
 use super::geometry::{Exit, plane_exit};
 use super::ledger::{Ledger, NoLedger, PathLedger};
 use super::phase::PhaseFunction;
 use crate::medium::{EmissionSampler, Geometry, Medium, Source};
-use crate::tally::{Outcome, PhotonRecord};
+use crate::tally::{AbsorbedAlongPath, Deposit, Outcome, PhotonRecord};
 use crate::units::SPEED_OF_LIGHT_CM_S;
 
 /// Limits on a single photon's walk.
@@ -75,6 +76,10 @@ pub(super) struct Photon {
     pub(super) scatterings: f64,
     /// Free flights (and jumps) so far, counted against the step cap.
     pub(super) steps: u64,
+    /// Statistical weight, in [0, 1] (1 for analog walks).
+    pub(super) weight: f64,
+    /// Weight left in the medium so far (weighted walks).
+    pub(super) absorbed: AbsorbedAlongPath,
 }
 
 impl Photon {
@@ -96,9 +101,49 @@ impl Photon {
             position_cm: [self.position.x, self.position.y, self.position.z],
             direction: [self.direction.x, self.direction.y, self.direction.z],
             layer: self.layer,
-            weight: 1.0,
+            weight: self.weight,
         }
     }
+
+    /// Implicit capture in a layer of albedo `albedo` at depth `depth_cm` of layer
+    /// `layer`: the weight (1 − ω)·w is left, the photon carries on with ω·w, and Russian
+    /// roulette below the threshold. Returns whether the photon lives on.
+    #[inline(always)]
+    pub(super) fn capture<R: Rng + ?Sized>(
+        &mut self,
+        survival: f64,
+        at: DepositSite,
+        keep_deposits: bool,
+        rng: &mut R,
+    ) -> bool {
+        let lost = (1.0 - survival) * self.weight;
+        self.absorbed.add(lost, at.time_s, at.scatterings);
+        if keep_deposits {
+            self.absorbed.deposits.push(Deposit {
+                weight: lost,
+                layer: at.layer,
+                depth_cm: at.depth_cm,
+            });
+        }
+        self.weight *= survival;
+        if self.weight < ROULETTE_THRESHOLD {
+            self.weight = roulette(self.weight, rng.random());
+        }
+        self.weight > 0.0
+    }
+}
+
+/// Where and when a weighted photon leaves weight in the medium.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct DepositSite {
+    /// Time since launch, s.
+    pub(super) time_s: f64,
+    /// Scatterings before the deposit.
+    pub(super) scatterings: f64,
+    /// Layer index.
+    pub(super) layer: usize,
+    /// Depth (slab) or z coordinate, cm.
+    pub(super) depth_cm: f64,
 }
 
 /// Where a diffusion jump may replace the walk: asked at every scattering site.
@@ -151,6 +196,10 @@ pub struct DirectWalker {
     index_mismatch: bool,
     /// Where an energy-generation source releases photons.
     emission: Option<std::sync::Arc<EmissionSampler>>,
+    /// Analog or weighted absorption.
+    absorption: Absorption,
+    /// Whether weighted photons list their single deposits (for resolved tallies).
+    keep_deposits: bool,
 }
 
 impl DirectWalker {
@@ -189,12 +238,34 @@ impl DirectWalker {
             ambient_below: medium.ambient_below(),
             index_mismatch: geometry == Geometry::Slab && medium.has_index_mismatch(),
             emission: medium.emission().cloned(),
+            absorption: Absorption::Analog,
+            keep_deposits: false,
         }
     }
 
+    /// The same walker with absorption simulated as `absorption`; weighted photons list
+    /// their single deposits if `keep_deposits` (resolved tallies need them).
+    pub fn with_absorption(mut self, absorption: Absorption, keep_deposits: bool) -> Self {
+        self.absorption = absorption;
+        self.keep_deposits = keep_deposits;
+        self
+    }
+
+    /// Whether absorption is weighted (implicit capture).
+    pub(super) fn weighted(&self) -> bool {
+        self.absorption == Absorption::Weighted
+    }
+
+    /// Whether weighted photons list their single deposits.
+    pub(super) fn keep_deposits(&self) -> bool {
+        self.keep_deposits
+    }
+
     /// Follows one photon from the source until it leaves, is absorbed or hits the step cap.
+    /// For weighted walks, what the photon left in the medium is dropped: use
+    /// [`DirectWalker::walk_weighted`].
     pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
-        self.walk_booking(rng, &mut NoLedger)
+        self.walk_booking(rng, &mut AbsorbedAlongPath::default(), &mut NoLedger)
     }
 
     /// [`Self::walk`], also booking the photon's time and interactions by cell in `ledger`
@@ -206,15 +277,40 @@ impl DirectWalker {
         ledger: &mut PathLedger,
     ) -> PhotonRecord {
         ledger.clear();
-        self.walk_booking(rng, ledger)
+        self.walk_booking(rng, &mut AbsorbedAlongPath::default(), ledger)
+    }
+
+    /// Follows one photon, putting what it left in the medium (weighted walks; nothing for
+    /// analog ones) into `absorbed`, which is cleared first (its memory is reused).
+    pub fn walk_weighted<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        absorbed: &mut AbsorbedAlongPath,
+    ) -> PhotonRecord {
+        self.walk_booking(rng, absorbed, &mut NoLedger)
+    }
+
+    /// [`Self::walk_weighted`] and [`Self::walk_with_ledger`] at once (`ledger` cleared
+    /// first): what absorption rescaling needs of one photon.
+    pub fn walk_weighted_with_ledger<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        absorbed: &mut AbsorbedAlongPath,
+        ledger: &mut PathLedger,
+    ) -> PhotonRecord {
+        ledger.clear();
+        self.walk_booking(rng, absorbed, ledger)
     }
 
     fn walk_booking<R: Rng + ?Sized, L: Ledger>(
         &self,
         rng: &mut R,
+        absorbed: &mut AbsorbedAlongPath,
         ledger: &mut L,
     ) -> PhotonRecord {
         let (mut photon, reflected_at_entry) = self.launch(rng);
+        absorbed.clear();
+        std::mem::swap(&mut photon.absorbed, absorbed);
         let outcome = if reflected_at_entry {
             Outcome::Specular
         } else {
@@ -223,6 +319,7 @@ impl DirectWalker {
                 Stop::JumpSite => unreachable!("the direct walk has no jump sites"),
             }
         };
+        std::mem::swap(&mut photon.absorbed, absorbed);
         photon.record(outcome, 0.0, photon.steps as f64, 0.0)
     }
 
@@ -262,12 +359,20 @@ impl DirectWalker {
     ) -> Stop {
         let mut interaction_pending = false;
         loop {
-            let run = match self.layers[photon.layer].phase {
-                PhaseFunction::Isotropic => {
-                    self.in_layer::<R, J, L, true>(photon, interaction_pending, rng, jumps, ledger)
+            let isotropic = self.layers[photon.layer].phase == PhaseFunction::Isotropic;
+            let pending = interaction_pending;
+            let run = match (isotropic, self.weighted()) {
+                (true, false) => {
+                    self.in_layer::<R, J, L, true, false>(photon, pending, rng, jumps, ledger)
                 }
-                _ => {
-                    self.in_layer::<R, J, L, false>(photon, interaction_pending, rng, jumps, ledger)
+                (false, false) => {
+                    self.in_layer::<R, J, L, false, false>(photon, pending, rng, jumps, ledger)
+                }
+                (true, true) => {
+                    self.in_layer::<R, J, L, true, true>(photon, pending, rng, jumps, ledger)
+                }
+                (false, true) => {
+                    self.in_layer::<R, J, L, false, true>(photon, pending, rng, jumps, ledger)
                 }
             };
             match run {
@@ -286,9 +391,16 @@ impl DirectWalker {
     /// local variables. Starts with the pending interaction, if any, then alternates flight
     /// and interaction. Returns at the first flight that leaves the layer (the photon not
     /// yet moved), at the end of the walk, or at a jump site. The time and interactions of
-    /// the stay are booked in `ledger` once, at the end.
+    /// the stay are booked in `ledger` once, at the end. `WEIGHTED`: implicit capture
+    /// instead of analog absorption.
     #[inline(always)]
-    fn in_layer<R: Rng + ?Sized, J: JumpSites, L: Ledger, const ISOTROPIC: bool>(
+    fn in_layer<
+        R: Rng + ?Sized,
+        J: JumpSites,
+        L: Ledger,
+        const ISOTROPIC: bool,
+        const WEIGHTED: bool,
+    >(
         &self,
         photon: &mut Photon,
         mut interaction_pending: bool,
@@ -313,7 +425,20 @@ impl DirectWalker {
         let mut absorbed = 0.0;
         let stop = loop {
             if interaction_pending {
-                if absorbing && rng.random::<f64>() >= albedo {
+                if WEIGHTED {
+                    if absorbing {
+                        let site = DepositSite {
+                            time_s,
+                            scatterings,
+                            layer: index,
+                            depth_cm: p.z,
+                        };
+                        if !photon.capture(albedo, site, self.keep_deposits, rng) {
+                            absorbed = 1.0;
+                            break InLayer::Stop(Stop::Ended(Outcome::Absorbed));
+                        }
+                    }
+                } else if absorbing && rng.random::<f64>() >= albedo {
                     absorbed = 1.0;
                     break InLayer::Stop(Stop::Ended(Outcome::Absorbed));
                 }
@@ -394,6 +519,8 @@ impl DirectWalker {
             time_s: 0.0,
             scatterings: 0.0,
             steps: 0,
+            weight: 1.0,
+            absorbed: AbsorbedAlongPath::default(),
         };
         let entering = self.source.enters_from_outside();
         let first = self.layers[0].refractive_index;
@@ -586,6 +713,8 @@ mod tests {
             time_s: 0.0,
             scatterings: 0.0,
             steps: 0,
+            weight: 1.0,
+            absorbed: AbsorbedAlongPath::default(),
         }
     }
 

@@ -77,8 +77,38 @@ struct JumpRegion {
 pub(super) struct JumpOutcome {
     /// Time the jump took (until absorption, if absorbed), s.
     pub(super) elapsed_s: f64,
-    /// Whether the photon was absorbed during it.
+    /// Whether the photon was absorbed during it (analog walks).
     pub(super) absorbed: bool,
+    /// Weighted walks: the survival factor of the jump and where in it the loss falls on
+    /// average (`None` without absorption).
+    pub(super) capture: Option<PassageCapture>,
+}
+
+/// Implicit capture over a diffusion passage with absorption hazard h (absorption rate ×
+/// time, taken as uniform in time): the weight survives with e^(−h), and the lost weight
+/// falls, on average, at the fraction 1/h − 1/(e^h − 1) of the passage (the mean of the
+/// exponential law of rate h truncated to [0, 1]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) struct PassageCapture {
+    /// Survival factor e^(−h).
+    pub(super) survival: f64,
+    /// Mean time of the loss, as a fraction of the passage.
+    pub(super) mean_fraction: f64,
+}
+
+impl PassageCapture {
+    /// The capture over hazard `hazard` > 0.
+    pub(super) fn of_hazard(hazard: f64) -> Self {
+        let mean_fraction = if hazard < 1e-4 {
+            0.5 - hazard / 12.0
+        } else {
+            1.0 / hazard - 1.0 / hazard.exp_m1()
+        };
+        Self {
+            survival: (-hazard).exp(),
+            mean_fraction,
+        }
+    }
 }
 
 /// Local diffusion jumps for one medium. Immutable and `Sync`.
@@ -172,6 +202,7 @@ impl LocalJumps {
         &self,
         photon: &mut Photon,
         incoming: Option<&Vector3<f64>>,
+        weighted: bool,
         rng: &mut R,
         ledger: &mut L,
     ) -> Option<JumpOutcome> {
@@ -187,7 +218,9 @@ impl LocalJumps {
         let elapsed_s = first_passage::sample(rng)
             * (effective_radius * effective_radius - offset.norm_squared()).max(0.0)
             / diffusion;
-        if region.absorption_rate > 0.0 {
+        let capture = (weighted && region.absorption_rate > 0.0 && elapsed_s > 0.0)
+            .then(|| PassageCapture::of_hazard(region.absorption_rate * elapsed_s));
+        if !weighted && region.absorption_rate > 0.0 {
             let hazard = region.absorption_rate * elapsed_s;
             if rng.random::<f64>() >= (-hazard).exp() {
                 // Absorbed: when, given that it happened during the jump.
@@ -200,6 +233,7 @@ impl LocalJumps {
                 return Some(JumpOutcome {
                     elapsed_s: time,
                     absorbed: true,
+                    capture: None,
                 });
             }
         }
@@ -226,6 +260,7 @@ impl LocalJumps {
         Some(JumpOutcome {
             elapsed_s,
             absorbed: false,
+            capture,
         })
     }
 

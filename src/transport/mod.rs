@@ -1,5 +1,6 @@
 //! Photon transport: phase functions, random streams, direction sampling and the walkers.
 
+mod absorption;
 mod accelerated;
 mod cost;
 pub mod crossing;
@@ -17,6 +18,7 @@ mod radial_profile;
 pub mod rng;
 mod tridiagonal;
 
+pub use absorption::{Absorption, ROULETTE_SURVIVAL, ROULETTE_THRESHOLD};
 pub use accelerated::{AcceleratedWalker, Acceleration};
 pub use cost::{STALL_ULPS, Stall, WalkCost};
 pub use direct::{DirectWalker, WalkLimits};

@@ -130,6 +130,9 @@ const ADDED: &[&str] = &[
     "residence_budget.mean_time_s.stderr",
     "residence_budget.mean_time_s.value",
     "residence_budget.photons",
+    // Weighted photons and absorption rescaling.
+    "absorption_mode",
+    "reweighted",
 ];
 
 /// Key paths of `value`: `a.b` for object keys, `a[]` for the elements of an array (the

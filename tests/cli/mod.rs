@@ -17,3 +17,4 @@ mod star_command;
 mod stellar_runs;
 mod sweeps;
 mod walk_plan;
+mod weighted_runs;

@@ -1,6 +1,7 @@
 //! Checks of the physics against exact results and published values
 //! (docs/references.md).
 
+mod absorption_rescaling;
 mod accelerated;
 mod comparison;
 mod convective_zones;
@@ -19,3 +20,4 @@ mod slab_optics;
 mod slab_reflectance;
 mod sphere_diffusion;
 mod stellar_structure;
+mod weighted_absorption;
