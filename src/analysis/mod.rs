@@ -35,6 +35,7 @@
 
 pub mod comparison;
 pub mod decay_fit;
+pub mod detectors;
 pub mod escape_ks;
 pub mod late_decay;
 pub mod profile;
@@ -47,6 +48,7 @@ pub mod verdict;
 
 pub use comparison::{Comparison, OutcomeComparison};
 pub use decay_fit::{DecayFit, fit_late_decay};
+pub use detectors::{DetectorReading, detector_readings};
 pub use escape_ks::{EscapeKs, escape_time_ks};
 pub use late_decay::{LateDecay, late_decay};
 pub use profile::ProfileAnalysis;

@@ -396,9 +396,7 @@ fn slab_source_average(medium: &Medium, layers: &[DiffusionLayer]) -> Residence 
         }
         Source::Beam {
             polar_angle_deg, ..
-        } => {
-            beam_average(medium, layers, polar_angle_deg.to_radians().cos())
-        }
+        } => beam_average(medium, layers, polar_angle_deg.to_radians().cos()),
         Source::Diffuse => {
             let nodes = 16;
             let mut average = Residence {

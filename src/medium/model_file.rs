@@ -10,11 +10,11 @@ use thiserror::Error;
 
 use serde::Serialize;
 
+use super::detector::{Acceptance, Detector, Face};
 use super::profile::{
     ColumnValues, DEFAULT_TOLERANCE, ProfileColumns, ProfileOpacity, ProfileSummary, ProfileTable,
     RadialStructure,
 };
-use super::detector::{Acceptance, Detector, Face};
 use super::{BeamProfile, GasSample, Layer, Medium, MediumError, Quantity, Source};
 use crate::input::{
     InputError, MAX_COEFFICIENT_PER_CM, MAX_LAYERS, MAX_LENGTH_CM, MAX_OPTICAL_DEPTH,
@@ -1367,9 +1367,7 @@ fn build_source(
                          radius of a gaussian, the edge of a flat beam)",
                     ));
                 }
-                (BeamProfileKind::Gaussian, Some(radius_cm)) => {
-                    BeamProfile::Gaussian { radius_cm }
-                }
+                (BeamProfileKind::Gaussian, Some(radius_cm)) => BeamProfile::Gaussian { radius_cm },
                 (BeamProfileKind::Flat, Some(radius_cm)) => BeamProfile::Flat { radius_cm },
             };
             Ok(Source::Beam {

@@ -47,6 +47,53 @@ pub(super) fn scattering_time_rows(out: &mut String, rows: &[(&str, f64, f64)], 
     }
 }
 
+/// The detectors' readings: ring, acceptance, detected fraction and time of flight.
+fn write_detector_rows(out: &mut String, report: &RunReport) {
+    let detectors = &report.analysis.detectors;
+    if detectors.is_empty() {
+        return;
+    }
+    let _ = writeln!(
+        out,
+        "Detectors (fraction of photons launched, ± 1σ; time of flight of what they saw)"
+    );
+    for (index, d) in detectors.iter().enumerate() {
+        let label = if d.name.is_empty() {
+            format!("#{index}")
+        } else {
+            d.name.clone()
+        };
+        let acceptance = match d.numerical_aperture {
+            Some(na) => format!("NA {na} ({:.1}°)", d.acceptance_half_angle_deg),
+            None => format!("half-angle {}°", d.acceptance_half_angle_deg),
+        };
+        let _ = writeln!(
+            out,
+            "  {label:<10} {:<6} ρ {} – {}, {acceptance}",
+            d.face.name(),
+            report.model.length(d.inner_radius_cm),
+            report.model.length(d.outer_radius_cm),
+        );
+        let t = &d.time_of_flight;
+        let _ = writeln!(
+            out,
+            "  {:<10} {}   n = {}   mean {} ± {}   median {}   5–95 % {} – {}",
+            "",
+            match (d.fraction, d.stderr) {
+                (Some(v), Some(e)) => format!("{v:.3e} ± {e:.1e}"),
+                _ => "-".to_string(),
+            },
+            t.count,
+            time(t.mean_s),
+            time(t.stderr_s),
+            time(t.median_s),
+            time(t.p05_s),
+            time(t.p95_s),
+        );
+    }
+    let _ = writeln!(out);
+}
+
 /// The stellar diffusion times of a run (energy generation, zones), where the model has them.
 fn write_stellar_rows(out: &mut String, report: &RunReport) {
     let d = &report.analysis.diffusion;
@@ -261,6 +308,13 @@ pub fn render_run_report(report: &RunReport) -> String {
         };
         let _ = writeln!(out, "  {name}  {}   ({how})", fraction(v, e));
     }
+    if let (Some(v), Some(e)) = (o.collimated_transmitted, o.stderr.collimated_transmitted) {
+        let _ = writeln!(
+            out,
+            "    collimated   {}   (never scattered; part of the transmitted light)",
+            fraction(v, e)
+        );
+    }
     if let (Some(v), Some(e)) = (o.absorbed, o.stderr.absorbed) {
         let _ = writeln!(out, "  absorbed     {}", fraction(v, e));
     }
@@ -449,6 +503,7 @@ pub fn render_run_report(report: &RunReport) -> String {
         );
         let _ = writeln!(out);
     }
+    write_detector_rows(&mut out, report);
     let w = &report.analysis.walk;
     if let (Some(gamma), Some(epsilon)) = (w.gamma, w.epsilon) {
         let _ = writeln!(

@@ -163,7 +163,7 @@ pub fn run_with_progress(
 ) -> RunResult {
     let started = Instant::now();
     let walker = Walker::new(medium, config);
-    let mut tally = Tally::with_resolved(config.resolved);
+    let mut tally = Tally::for_run(medium, config.resolved);
     let end = config.first_photon + config.photons;
     let batch = (config.photons / 100).clamp(1_000, 1_000_000);
     let mut start = config.first_photon;
@@ -172,7 +172,7 @@ pub fn run_with_progress(
         let part = (start..stop)
             .into_par_iter()
             .fold(
-                || Tally::with_resolved(config.resolved),
+                || Tally::for_run(medium, config.resolved),
                 |mut tally, photon| {
                     let mut rng = photon_rng(config.seed, config.stream, photon);
                     tally.record(&walker.walk(&mut rng));
@@ -180,7 +180,7 @@ pub fn run_with_progress(
                 },
             )
             .reduce(
-                || Tally::with_resolved(config.resolved),
+                || Tally::for_run(medium, config.resolved),
                 |mut a, b| {
                     a.merge(&b);
                     a

@@ -26,6 +26,7 @@
 //! can carry. A tally that passes is as sound as one recorded in memory.
 
 mod bin_key;
+mod detectors;
 mod error;
 mod exact_sum;
 mod histogram;
@@ -35,6 +36,7 @@ mod resolved;
 mod weight;
 
 pub use bin_key::{RELATIVE_BIN_WIDTH, RESOLUTION_BITS};
+pub use detectors::{DetectorWindow, OpticsTally, detector_windows};
 pub use error::TallyError;
 pub use exact_sum::ExactSum;
 pub use histogram::{HistogramBin, LogHistogram, Regrouped, fine_bin_floor};
@@ -45,6 +47,7 @@ pub use weight::{WEIGHT_FRACTION_BITS, Weight, WeightSum};
 
 use serde::{Deserialize, Serialize};
 
+use detectors::OpticsRepr;
 use exact_sum::ExactSumRepr;
 use path_stats::PathStatsRepr;
 use resolved::ResolvedRepr;
@@ -127,6 +130,8 @@ pub struct Tally {
     paths: Box<[PathStats; 6]>,
     walk: WalkCounters,
     resolved: Option<Box<ResolvedTally>>,
+    /// Collimated transmittance and detectors of a slab lit from outside.
+    optics: Option<Box<OpticsTally>>,
 }
 
 /// Names of the outcomes, in the order of a tally's outcome array.
@@ -153,6 +158,21 @@ impl Tally {
         }
     }
 
+    /// An empty tally for a run on `medium`: resolved slab counts on `layout` (if given),
+    /// and the optical counts (collimated transmittance, detectors) the medium calls for
+    /// ([`OpticsTally::for_medium`]).
+    pub fn for_run(medium: &crate::medium::Medium, layout: Option<ResolvedLayout>) -> Self {
+        Self {
+            optics: OpticsTally::for_medium(medium).map(Box::new),
+            ..Self::with_resolved(layout)
+        }
+    }
+
+    /// Collimated transmittance and detector counts, if this tally keeps them.
+    pub fn optics(&self) -> Option<&OpticsTally> {
+        self.optics.as_deref()
+    }
+
     /// Resolved slab counts, if this tally keeps them.
     pub fn resolved(&self) -> Option<&ResolvedTally> {
         self.resolved.as_deref()
@@ -176,6 +196,9 @@ impl Tally {
         self.launched += 1;
         if let Some(resolved) = &mut self.resolved {
             resolved.record(record, weight);
+        }
+        if let Some(optics) = &mut self.optics {
+            optics.record(record, weight);
         }
         self.stats_mut(record.outcome)
             .add(record.time_s, record.scatterings, weight);
@@ -205,6 +228,9 @@ impl Tally {
         self.paths.iter_mut().for_each(PathStats::make_weighted);
         if let Some(resolved) = &mut self.resolved {
             resolved.make_weighted();
+        }
+        if let Some(optics) = &mut self.optics {
+            optics.make_weighted();
         }
     }
 
@@ -243,16 +269,40 @@ impl Tally {
             }
             _ => {}
         }
+        match (&mut self.optics, &other.optics) {
+            (Some(mine), Some(theirs)) => {
+                assert!(
+                    mine.compatible(theirs),
+                    "optical tallies with different detectors cannot be merged; check \
+                     Tally::compatible first"
+                );
+                mine.merge(theirs);
+            }
+            (None, Some(theirs)) => {
+                let mut theirs = theirs.clone();
+                if self.weighted {
+                    theirs.make_weighted();
+                }
+                self.optics = Some(theirs);
+            }
+            _ => {}
+        }
     }
 
     /// Whether `other` keeps resolved counts on the same layout, or neither keeps any (safe
     /// to merge).
     pub fn compatible(&self, other: &Tally) -> bool {
-        match (&self.resolved, &other.resolved) {
+        let optics = match (&self.optics, &other.optics) {
             (Some(a), Some(b)) => a.compatible(b),
             (None, None) => true,
             _ => false,
-        }
+        };
+        optics
+            && match (&self.resolved, &other.resolved) {
+                (Some(a), Some(b)) => a.compatible(b),
+                (None, None) => true,
+                _ => false,
+            }
     }
 
     /// Photons launched.
@@ -405,10 +455,41 @@ impl Tally {
             tally.resolved = Some(Box::new(resolved));
             tally.check_resolved()?;
         }
+        if let Some(optics) = repr.optics {
+            let optics = OpticsTally::from_repr(optics).map_err(|e| e.within("optics"))?;
+            tally.optics = Some(Box::new(optics));
+            tally.check_optics()?;
+        }
         if tally.weighted {
             tally.make_weighted();
         }
         Ok(tally)
+    }
+
+    /// The optical counts are parts of their outcomes: no more photons or weight than
+    /// those, and weights only in a weighted tally.
+    fn check_optics(&self) -> Result<(), TallyError> {
+        let Some(optics) = &self.optics else {
+            return Ok(());
+        };
+        for (name, stats, outcomes) in optics.parts() {
+            if stats.count() > 0 && stats.is_weighted() && !self.weighted {
+                return Err(mode_error(&format!("optics.{name}"), false));
+            }
+            let (count, weight) = outcomes.iter().fold((0u64, 0.0), |(c, w), &o| {
+                let s = self.stats(o);
+                (c.saturating_add(s.count()), w + s.weight())
+            });
+            if stats.count() > count || stats.weight() > weight * (1.0 + 1e-12) {
+                return Err(TallyError::mismatch(
+                    format!("optics.{name}"),
+                    "photons counted, against the outcomes they are part of",
+                    stats.count(),
+                    format!("at most {count}"),
+                ));
+            }
+        }
+        Ok(())
     }
 
     /// The resolved series hold exactly the photons (and weights) of their outcomes.
@@ -577,6 +658,8 @@ struct TallyRepr {
     walk: WalkRepr,
     #[serde(default)]
     resolved: Option<ResolvedRepr>,
+    #[serde(default)]
+    optics: Option<OpticsRepr>,
 }
 
 /// Serialised form of a [`Tally`], as written.
@@ -593,6 +676,8 @@ struct TallyOut<'a> {
     walk: &'a WalkCounters,
     #[serde(skip_serializing_if = "Option::is_none")]
     resolved: Option<&'a ResolvedTally>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    optics: Option<&'a OpticsTally>,
 }
 
 impl Serialize for Tally {
@@ -608,6 +693,7 @@ impl Serialize for Tally {
             censored: self.censored(),
             walk: &self.walk,
             resolved: self.resolved.as_deref(),
+            optics: self.optics.as_deref(),
         }
         .serialize(serializer)
     }

@@ -2,6 +2,7 @@
 //! (docs/references.md).
 
 mod accelerated;
+mod beams_detectors;
 mod comparison;
 mod convective_zones;
 mod diffusion_solver;
