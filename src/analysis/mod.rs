@@ -52,7 +52,7 @@ pub use detectors::{DetectorReading, detector_readings};
 pub use escape_ks::{EscapeKs, escape_time_ks};
 pub use late_decay::{LateDecay, late_decay};
 pub use profile::ProfileAnalysis;
-pub use resolved_layout::resolved_layout;
+pub use resolved_layout::{RadialRange, resolved_layout, resolved_layout_with};
 pub use run::{
     DistributionSummary, OutcomeFractions, OutcomeStderr, RunAnalysis, TimeSummary, WalkSummary,
 };

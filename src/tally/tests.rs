@@ -26,7 +26,8 @@ fn slab_layout() -> ResolvedLayout {
         depth_bin_cm: 0.1,
         depth_bins: 10,
         cosine_bins: 4,
-        radial_bin_cm: 0.1,
+        radial_min_cm: 0.01,
+        radial_max_cm: 1.0,
         radial_bins: 5,
         layers: 1,
     }
