@@ -14,6 +14,7 @@ mod phase_functions;
 mod profile_media;
 mod profile_monte_carlo;
 mod quantiles;
+mod radial_reflectance;
 mod reproducibility;
 mod slab_optics;
 mod slab_reflectance;
