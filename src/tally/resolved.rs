@@ -83,7 +83,7 @@ impl ResolvedLayout {
         if rho_cm < self.radial_min_cm {
             return 0;
         }
-        if !(rho_cm < self.radial_max_cm) {
+        if rho_cm >= self.radial_max_cm || rho_cm.is_nan() {
             return self.radial_bins + 1;
         }
         let position = (rho_cm / self.radial_min_cm).ln()
