@@ -3,7 +3,7 @@
 use std::fmt::Write;
 
 use super::run_document::RunReport;
-use crate::analysis::{DecayFit, TimeSummary};
+use crate::analysis::{DecayFit, ResolvedSummary, TimeSummary};
 use crate::medium::Geometry;
 use crate::units::{format_duration, format_significant};
 
@@ -43,6 +43,57 @@ pub(super) fn scattering_time_rows(out: &mut String, rows: &[(&str, f64, f64)], 
             " ".repeat(padding),
             format_significant(*scatterings, 4),
             format_duration(*time_s)
+        );
+    }
+}
+
+/// The radial bins of R(ρ) and T(ρ), and for a narrow beam the Monte Carlo against the
+/// dipole in the bins nearest 2, 5 and 10 transport mean free paths.
+fn write_radial_rows(out: &mut String, report: &RunReport, resolved: &ResolvedSummary) {
+    let edges = &resolved.radial_edges_cm;
+    let (Some(&first), Some(&last)) = (edges.first(), edges.last()) else {
+        return;
+    };
+    let l = resolved.transport_mean_free_path_cm;
+    let _ = writeln!(
+        out,
+        "  R(ρ), T(ρ)                     {} bins from {} to {} ({}–{} l′, l′ = {}); in the JSON report",
+        edges.len() - 1,
+        report.model.length(first),
+        report.model.length(last),
+        format_significant(first / l, 3),
+        format_significant(last / l, 3),
+        report.model.length(l),
+    );
+    if resolved.dipole_reflectance_per_cm2.is_empty() {
+        return;
+    }
+    let nearest = |target: f64| {
+        edges
+            .windows(2)
+            .enumerate()
+            .filter(|(_, w)| w[0] <= target * l && target * l < w[1])
+            .map(|(i, _)| i)
+            .next()
+    };
+    let ratios: Vec<String> = [2.0, 5.0, 10.0]
+        .into_iter()
+        .filter_map(|target| {
+            let i = nearest(target)?;
+            let (mc, err, dipole) = (
+                resolved.reflectance_per_cm2[i],
+                resolved.reflectance_per_cm2_stderr[i],
+                resolved.dipole_reflectance_per_cm2[i],
+            );
+            (mc > 0.0 && dipole > 0.0)
+                .then(|| format!("{:.3} ± {:.3} at {target} l′", mc / dipole, err / dipole))
+        })
+        .collect();
+    if !ratios.is_empty() {
+        let _ = writeln!(
+            out,
+            "  R(ρ) Monte Carlo / dipole      {}   (semi-infinite diffusion, narrow beam)",
+            ratios.join(", ")
         );
     }
 }
@@ -501,6 +552,7 @@ pub fn render_run_report(report: &RunReport) -> String {
             "  absorbed by layer              {}",
             layers.join("  ")
         );
+        write_radial_rows(&mut out, report, resolved);
         let _ = writeln!(out);
     }
     write_detector_rows(&mut out, report);
