@@ -35,6 +35,7 @@
 
 pub mod comparison;
 pub mod decay_fit;
+pub mod detectors;
 pub mod escape_ks;
 pub mod late_decay;
 pub mod profile;
@@ -48,11 +49,12 @@ pub mod verdict;
 
 pub use comparison::{Comparison, OutcomeComparison};
 pub use decay_fit::{DecayFit, MIN_TAIL_PHOTONS, fit_late_decay};
+pub use detectors::{DetectorReading, detector_readings};
 pub use escape_ks::{EscapeKs, escape_time_ks};
 pub use late_decay::{LateDecay, late_decay};
 pub use profile::ProfileAnalysis;
 pub use residence::{LayerPath, PathEstimate, ResidenceBudget};
-pub use resolved_layout::resolved_layout;
+pub use resolved_layout::{RadialRange, resolved_layout, resolved_layout_with};
 pub use run::{
     DistributionSummary, OutcomeFractions, OutcomeStderr, RunAnalysis, TimeSummary, WalkSummary,
 };

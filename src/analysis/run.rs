@@ -29,6 +29,9 @@ pub struct OutcomeFractions {
     pub specular: Option<f64>,
     /// Left a slab through the bottom face (total transmittance, unscattered included).
     pub transmitted: Option<f64>,
+    /// Slabs lit by a beam: the part of `transmitted` that never scattered (collimated
+    /// transmittance; the diffuse transmittance is `transmitted` minus this). Null otherwise.
+    pub collimated_transmitted: Option<f64>,
     /// Absorbed inside (null when no photon was launched).
     pub absorbed: Option<f64>,
     /// Stopped by the step cap (null when no photon was launched).
@@ -49,6 +52,8 @@ pub struct OutcomeStderr {
     pub specular: Option<f64>,
     /// Of `transmitted`.
     pub transmitted: Option<f64>,
+    /// Of `collimated_transmitted`.
+    pub collimated_transmitted: Option<f64>,
     /// Of `absorbed`.
     pub absorbed: Option<f64>,
     /// Of `censored`.
@@ -242,6 +247,9 @@ pub struct RunAnalysis {
     /// Resolved slab tallies (with `--resolve`): time of flight, depth, angle, radius.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub resolved: Option<ResolvedSummary>,
+    /// Slabs with detectors: what each saw (left out of the JSON when there are none).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub detectors: Vec<super::detectors::DetectorReading>,
     /// Stellar models with energy generation: L = ∫ ε dm of the star, erg s⁻¹.
     pub luminosity_erg_s: Option<f64>,
     /// Stellar models with energy generation: radiative and convective zones of the star.
@@ -370,7 +378,11 @@ impl RunAnalysis {
             effective_photons: tally.effective_photons(),
             seed: config.seed,
             optical_depth: diffusion.optical_depth,
-            outcome: outcome_fractions(tally, is_slab),
+            outcome: outcome_fractions(
+                tally,
+                is_slab,
+                matches!(medium.source(), Source::Beam { .. }),
+            ),
             escape_time: escape_time.seconds(),
             scatterings,
             reflected_time: is_slab
@@ -382,6 +394,7 @@ impl RunAnalysis {
             walk: WalkSummary::new(medium, config, tally),
             slab_diffusion: slab,
             resolved: resolved_summary(medium, tally),
+            detectors: super::detectors::detector_readings(medium, tally),
             luminosity_erg_s: stellar.as_ref().and_then(|s| s.luminosity_erg_s),
             zones: stellar
                 .as_ref()
@@ -439,7 +452,9 @@ fn absorption_note(absorption: Absorption, tally: &Tally) -> String {
     }
 }
 
-fn outcome_fractions(tally: &Tally, is_slab: bool) -> OutcomeFractions {
+/// The outcome fractions of `tally`; `beam`: the light is a beam (collimated
+/// transmittance reported).
+fn outcome_fractions(tally: &Tally, is_slab: bool, beam: bool) -> OutcomeFractions {
     let split = |stats| {
         let estimate = tally.fraction(stats);
         (estimate.map(|e| e.value), estimate.map(|e| e.stderr))
@@ -448,6 +463,12 @@ fn outcome_fractions(tally: &Tally, is_slab: bool) -> OutcomeFractions {
     let (reflected, reflected_err) = split(tally.reflected());
     let (specular, specular_err) = split(tally.specular());
     let (transmitted, transmitted_err) = split(tally.transmitted());
+    let (collimated, collimated_err) = tally
+        .optics()
+        .filter(|_| beam)
+        .map_or((None, None), |optics| {
+            split(optics.collimated_transmitted())
+        });
     let (absorbed, absorbed_err) = split(tally.absorbed());
     let (censored, censored_err) = split(tally.censored());
     OutcomeFractions {
@@ -455,6 +476,7 @@ fn outcome_fractions(tally: &Tally, is_slab: bool) -> OutcomeFractions {
         reflected: reflected.filter(|_| is_slab),
         specular: specular.filter(|_| is_slab),
         transmitted: transmitted.filter(|_| is_slab),
+        collimated_transmitted: collimated.filter(|_| is_slab),
         absorbed,
         censored,
         stderr: OutcomeStderr {
@@ -462,6 +484,7 @@ fn outcome_fractions(tally: &Tally, is_slab: bool) -> OutcomeFractions {
             reflected: reflected_err.filter(|_| is_slab),
             specular: specular_err.filter(|_| is_slab),
             transmitted: transmitted_err.filter(|_| is_slab),
+            collimated_transmitted: collimated_err.filter(|_| is_slab),
             absorbed: absorbed_err,
             censored: censored_err,
         },

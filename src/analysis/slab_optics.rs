@@ -165,10 +165,33 @@ pub struct ResolvedSummary {
     /// Limb darkening of the reflected light: relative radiance at the bin centres against
     /// the exact law of a deep conservative, isotropically scattering medium.
     pub limb_darkening: LimbDarkening,
-    /// Width of a radial bin, cm.
-    pub radial_bin_cm: f64,
-    /// Spatially resolved reflectance R(ρ) around the entry point, fraction per cm².
+    /// Null: the radial bins are logarithmic (`radial_edges_cm`); the key stays for
+    /// readers of older reports, where the bins were of one width.
+    pub radial_bin_cm: Option<f64>,
+    /// Transport mean free path l′ = 1/(μa + μs′) the bins are scaled to (thickness-weighted
+    /// optics), cm.
+    pub transport_mean_free_path_cm: f64,
+    /// Edges of the radial bins (distance from the beam axis), cm, logarithmic.
+    pub radial_edges_cm: Vec<f64>,
+    /// Spatially resolved diffuse reflectance R(ρ) around the beam axis, fraction of the
+    /// launched photons per cm², per radial bin.
     pub reflectance_per_cm2: Vec<f64>,
+    /// Its standard error per bin (binomial for analog photons; for weighted ones the
+    /// bound √(Σw)/N, as w ≤ 1).
+    pub reflectance_per_cm2_stderr: Vec<f64>,
+    /// Spatially resolved transmittance T(ρ) (unscattered light included), per cm².
+    pub transmittance_per_cm2: Vec<f64>,
+    /// Its standard error per bin.
+    pub transmittance_per_cm2_stderr: Vec<f64>,
+    /// Reflected and transmitted fractions nearer the axis than the first radial bin.
+    pub radial_nearer_fraction: [f64; 2],
+    /// Reflected and transmitted fractions beyond the last radial bin.
+    pub radial_farther_fraction: [f64; 2],
+    /// Narrow beams: the steady diffusion R(ρ) of a semi-infinite medium of the slab's
+    /// (thickness-weighted) optics, dipole with the extrapolated boundary (Farrell,
+    /// Patterson & Wilson 1992), averaged over each radial bin, per launched photon (× the
+    /// fraction entering), per cm²; empty for other sources.
+    pub dipole_reflectance_per_cm2: Vec<f64>,
 }
 
 /// Emergent angular distribution of reflected light as limb darkening.
@@ -274,17 +297,7 @@ pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummar
     let transmitted_by_time = resolved.transmitted_by_time().weights();
     let reflected_by_cosine = resolved.reflected_by_cosine().weights();
     let reflected_total: f64 = reflected_by_cosine.iter().sum();
-    let radial: Vec<f64> = resolved.reflected_by_radius().weights()[..layout.radial_bins]
-        .iter()
-        .enumerate()
-        .map(|(i, &c)| {
-            let (a, b) = (
-                i as f64 * layout.radial_bin_cm,
-                (i + 1) as f64 * layout.radial_bin_cm,
-            );
-            c / launched / (std::f64::consts::PI * (b * b - a * a))
-        })
-        .collect();
+    let radial = RadialSummary::new(medium, tally, resolved, entering);
     let diffusion_reflectance = curve(&extrapolated, true);
     let diffusion_transmittance = curve(&extrapolated, false);
     let reflected_radiance = radiance(&reflected_by_cosine);
@@ -343,7 +356,112 @@ pub fn resolved_summary(medium: &Medium, tally: &Tally) -> Option<ResolvedSummar
             })
             .collect(),
         cosine_edges,
-        radial_bin_cm: layout.radial_bin_cm,
-        reflectance_per_cm2: radial,
+        radial_bin_cm: None,
+        transport_mean_free_path_cm: radial.transport_mean_free_path_cm,
+        radial_edges_cm: radial.edges_cm,
+        reflectance_per_cm2: radial.reflectance.0,
+        reflectance_per_cm2_stderr: radial.reflectance.1,
+        transmittance_per_cm2: radial.transmittance.0,
+        transmittance_per_cm2_stderr: radial.transmittance.1,
+        radial_nearer_fraction: radial.nearer,
+        radial_farther_fraction: radial.farther,
+        dipole_reflectance_per_cm2: radial.dipole,
     })
+}
+
+/// R(ρ), T(ρ) and the dipole on the radial bins.
+struct RadialSummary {
+    transport_mean_free_path_cm: f64,
+    edges_cm: Vec<f64>,
+    reflectance: (Vec<f64>, Vec<f64>),
+    transmittance: (Vec<f64>, Vec<f64>),
+    nearer: [f64; 2],
+    farther: [f64; 2],
+    dipole: Vec<f64>,
+}
+
+impl RadialSummary {
+    fn new(medium: &Medium, tally: &Tally, resolved: &ResolvedTally, entering: f64) -> Self {
+        use std::f64::consts::PI;
+        let layout = resolved.layout();
+        let launched = tally.launched().max(1) as f64;
+        let edges_cm = layout.radial_edges_cm();
+        let areas: Vec<f64> = edges_cm
+            .windows(2)
+            .map(|w| PI * (w[1] * w[1] - w[0] * w[0]))
+            .collect();
+        let per_area = |series: &crate::tally::BinSeries| -> (Vec<f64>, Vec<f64>) {
+            let weights = series.weights();
+            let inner = &weights[1..=layout.radial_bins];
+            let values = inner
+                .iter()
+                .zip(&areas)
+                .map(|(w, area)| w / launched / area)
+                .collect();
+            let errors = inner
+                .iter()
+                .zip(&areas)
+                .map(|(w, area)| {
+                    let p = w / launched;
+                    let variance = if series_is_analog(series) {
+                        p * (1.0 - p) / launched
+                    } else {
+                        w / (launched * launched)
+                    };
+                    variance.max(0.0).sqrt() / area
+                })
+                .collect();
+            (values, errors)
+        };
+        let ends = |series: &crate::tally::BinSeries| {
+            let weights = series.weights();
+            (
+                weights[0] / launched,
+                weights[layout.radial_bins + 1] / launched,
+            )
+        };
+        let (r_near, r_far) = ends(resolved.reflected_by_radius());
+        let (t_near, t_far) = ends(resolved.transmitted_by_radius());
+        let optics = equivalent_optics(medium);
+        let beam = matches!(
+            medium.source(),
+            crate::medium::Source::Beam {
+                profile: crate::medium::BeamProfile::Narrow,
+                ..
+            }
+        );
+        let dipole = crate::diffusion::dipole::Dipole::new(
+            optics.mua_per_cm,
+            optics.musp_per_cm,
+            optics.n_medium / optics.n_outside,
+        )
+        .filter(|_| beam)
+        .map(|dipole| {
+            edges_cm
+                .windows(2)
+                .map(|w| entering * dipole.ring_average_per_cm2(w[0], w[1]))
+                .collect()
+        })
+        .unwrap_or_default();
+        Self {
+            transport_mean_free_path_cm: super::resolved_layout::transport_mean_free_path_cm(
+                medium,
+            ),
+            reflectance: per_area(resolved.reflected_by_radius()),
+            transmittance: per_area(resolved.transmitted_by_radius()),
+            edges_cm,
+            nearer: [r_near, t_near],
+            farther: [r_far, t_far],
+            dipole,
+        }
+    }
+}
+
+/// Whether every photon in `series` had weight 1 (its weights equal its counts).
+fn series_is_analog(series: &crate::tally::BinSeries) -> bool {
+    series
+        .weights()
+        .iter()
+        .zip(series.counts())
+        .all(|(w, &c)| *w == c as f64)
 }

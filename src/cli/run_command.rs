@@ -6,8 +6,8 @@ use anyhow::{Context, Result};
 use clap::Args;
 
 use serde_json::Value;
-use sojourn::analysis::resolved_layout;
 use sojourn::analysis::stellar::StellarAnalysis;
+use sojourn::analysis::{RadialRange, resolved_layout_with};
 use sojourn::medium::model_file::{
     DEMO_MODEL_JSON, DEMO_MODEL_LABEL, LoadOptions, model_from_value_with, parse_model_value,
 };
@@ -78,6 +78,11 @@ pub struct RunArgs {
     /// With --resolve: number of exit-cosine bins.
     #[arg(long, default_value_t = 20, value_parser = clap::value_parser!(u64).range(1..=10_000), requires = "resolve")]
     cosine_bins: u64,
+    /// With --resolve: range of the logarithmic bins of R(ρ) and T(ρ) in transport mean
+    /// free paths, MIN:MAX (10 bins per decade; default from 0.01 to where the light is
+    /// expected to reach).
+    #[arg(long, value_name = "MIN:MAX", value_parser = radial_range, requires = "resolve")]
+    radial_range: Option<RadialRange>,
     #[command(flatten)]
     scale: ScaleArgs,
     /// Write the run's figures as SVG files into DIR (created if missing).
@@ -204,6 +209,31 @@ fn stop_at_convective_base(medium: Medium, file: &str) -> Result<Medium> {
         .with_context(|| format!("{file}: cannot stop the walk at r = {base} cm"))
 }
 
+/// Parses `--radial-range MIN:MAX` (transport mean free paths, 0 < MIN < MAX, MAX/MIN ≤ 10¹²).
+fn radial_range(text: &str) -> Result<RadialRange, String> {
+    let expected = "MIN:MAX in transport mean free paths, finite, with 0 < MIN < MAX and \
+                    MAX/MIN <= 1e12, e.g. 0.1:50";
+    let (min, max) = text
+        .split_once(':')
+        .ok_or_else(|| format!("{text:?}: expected {expected}"))?;
+    let parse = |part: &str| part.trim().parse::<f64>().ok();
+    match (parse(min), parse(max)) {
+        (Some(min), Some(max))
+            if min.is_finite()
+                && max.is_finite()
+                && min > 0.0
+                && max > min
+                && max / min <= 1e12 =>
+        {
+            Ok(RadialRange {
+                min_mfp: min,
+                max_mfp: max,
+            })
+        }
+        _ => Err(format!("{text:?}: expected {expected}")),
+    }
+}
+
 /// Runs the subcommand.
 pub fn execute(args: RunArgs) -> Result<()> {
     let (medium, file, model) = load(&args)?;
@@ -212,11 +242,12 @@ pub fn execute(args: RunArgs) -> Result<()> {
         anyhow::bail!("{file}: --resolve is for slabs; this model is a sphere");
     }
     let resolved = args.resolve.then(|| {
-        resolved_layout(
+        resolved_layout_with(
             &medium,
             args.tof_bin_ps.map(|ps| ps * 1e-12),
             args.tof_bins as usize,
             args.cosine_bins as usize,
+            args.radial_range,
         )
     });
     let config = RunConfig {

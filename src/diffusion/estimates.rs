@@ -394,9 +394,9 @@ fn slab_source_average(medium: &Medium, layers: &[DiffusionLayer]) -> Residence 
         Source::SlabPoint { depth_cm } | Source::SlabPlane { depth_cm } => {
             slab_residence(layers, depth_cm)
         }
-        Source::Beam { polar_angle_deg } => {
-            beam_average(medium, layers, polar_angle_deg.to_radians().cos())
-        }
+        Source::Beam {
+            polar_angle_deg, ..
+        } => beam_average(medium, layers, polar_angle_deg.to_radians().cos()),
         Source::Diffuse => {
             let nodes = 16;
             let mut average = Residence {

@@ -4,6 +4,7 @@
 //! ([`transient`]).
 
 pub mod boundary;
+pub mod dipole;
 mod estimates;
 mod extrapolation;
 pub mod first_passage;

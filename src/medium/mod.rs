@@ -6,12 +6,14 @@
 //! [`model_file::load_model`]; both paths validate every value, so nothing downstream sees
 //! raw input.
 
+pub mod detector;
 pub mod emission;
 mod error;
 mod layer;
 pub mod model_file;
 pub mod profile;
 
+pub use detector::{Detector, Face};
 pub use emission::EmissionSampler;
 pub use error::{MediumError, Quantity};
 pub use layer::{GasSample, Layer};
@@ -39,10 +41,13 @@ pub enum Source {
         /// Distance from the centre, cm.
         radius_cm: f64,
     },
-    /// Slab: collimated beam entering the top face at `polar_angle_deg` from the normal.
+    /// Slab: collimated beam entering the top face at `polar_angle_deg` from the normal,
+    /// centred on x = y = 0, with the cross-section `profile`.
     Beam {
         /// Angle from the inward normal, degrees (0 ≤ angle < 90).
         polar_angle_deg: f64,
+        /// Intensity across the beam (infinitely narrow unless given).
+        profile: BeamProfile,
     },
     /// Slab: isotropic point source at `depth_cm` below the top face.
     SlabPoint {
@@ -70,10 +75,11 @@ impl Source {
         Source::SpherePoint { radius_cm: 0.0 }
     }
 
-    /// Collimated beam at normal incidence on a slab.
+    /// Infinitely narrow collimated beam at normal incidence on a slab.
     pub fn normal_beam() -> Self {
         Source::Beam {
             polar_angle_deg: 0.0,
+            profile: BeamProfile::Narrow,
         }
     }
 
@@ -82,6 +88,69 @@ impl Source {
     #[inline]
     pub fn enters_from_outside(&self) -> bool {
         matches!(self, Source::Beam { .. } | Source::Diffuse)
+    }
+}
+
+/// The intensity profile across a collimated beam, in the plane perpendicular to the beam.
+/// Its footprint on the top face is the same profile stretched by 1/cos θ along x for a
+/// beam at polar angle θ (the beam travels in the x–z plane).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub enum BeamProfile {
+    /// Infinitely narrow (a pencil beam): every photon enters at x = y = 0.
+    #[default]
+    Narrow,
+    /// Gaussian, I(r) ∝ exp(−2 r²/w²), with `radius_cm` = w the 1/e² intensity radius
+    /// (the usual laser-beam convention).
+    Gaussian {
+        /// The 1/e² intensity radius w, cm.
+        radius_cm: f64,
+    },
+    /// Uniform ("top-hat") intensity inside `radius_cm`, none outside.
+    Flat {
+        /// Radius of the lit disc, cm.
+        radius_cm: f64,
+    },
+}
+
+impl BeamProfile {
+    /// The beam radius, cm (None for a narrow beam).
+    pub fn radius_cm(&self) -> Option<f64> {
+        match *self {
+            BeamProfile::Narrow => None,
+            BeamProfile::Gaussian { radius_cm } | BeamProfile::Flat { radius_cm } => {
+                Some(radius_cm)
+            }
+        }
+    }
+
+    /// The distance from the beam axis, in the beam's cross-section, of a photon drawn from
+    /// the profile with the uniform number `xi` in (0, 1], cm: for the Gaussian the inverse
+    /// of its radial distribution 1 − exp(−2r²/w²), r = w √(−ln ξ / 2); for the flat beam
+    /// r = R √ξ (uniform over the disc).
+    pub fn sample_radius_cm(&self, xi: f64) -> f64 {
+        match *self {
+            BeamProfile::Narrow => 0.0,
+            BeamProfile::Gaussian { radius_cm } => radius_cm * (-0.5 * xi.ln()).sqrt(),
+            BeamProfile::Flat { radius_cm } => radius_cm * xi.sqrt(),
+        }
+    }
+
+    /// Irradiance in the beam's cross-section at distance `r_cm` from the axis, per unit
+    /// area, normalised to unit power, 1/cm²: 2/(π w²) exp(−2r²/w²) for the Gaussian,
+    /// 1/(π R²) inside the disc for the flat beam; None for the narrow beam (a delta).
+    pub fn irradiance_per_cm2(&self, r_cm: f64) -> Option<f64> {
+        use std::f64::consts::PI;
+        match *self {
+            BeamProfile::Narrow => None,
+            BeamProfile::Gaussian { radius_cm: w } => {
+                Some(2.0 / (PI * w * w) * (-2.0 * r_cm * r_cm / (w * w)).exp())
+            }
+            BeamProfile::Flat { radius_cm } => Some(if r_cm <= radius_cm {
+                1.0 / (PI * radius_cm * radius_cm)
+            } else {
+                0.0
+            }),
+        }
     }
 }
 
@@ -111,6 +180,8 @@ pub struct Medium {
     /// The radius the medium was cut at by [`Medium::truncated_at`], and its surface radius
     /// before, cm.
     truncation: Option<(f64, f64)>,
+    /// Detectors on a slab's faces (empty unless the model gives some).
+    detectors: Vec<Detector>,
 }
 
 impl Medium {
@@ -178,6 +249,7 @@ impl Medium {
             structure: None,
             emission: None,
             truncation: None,
+            detectors: Vec::new(),
         })
     }
 
@@ -218,13 +290,26 @@ impl Medium {
         let (boundaries_cm, layers) = split_layers(with_depths, "thickness", |_, _| true)?;
         let total = *boundaries_cm.last().unwrap_or(&0.0);
         let source_layer = match source {
-            Source::Beam { polar_angle_deg } => {
+            Source::Beam {
+                polar_angle_deg,
+                profile,
+            } => {
                 if !(0.0..90.0).contains(&polar_angle_deg) {
                     return Err(MediumError::value(
                         "source.polar_angle_deg",
                         polar_angle_deg,
                         Quantity::AngleDeg,
                         "an angle from the normal in [0, 90) degrees",
+                    ));
+                }
+                if let Some(radius_cm) = profile.radius_cm()
+                    && !(radius_cm.is_finite() && radius_cm > 0.0)
+                {
+                    return Err(MediumError::value(
+                        "source.radius",
+                        radius_cm,
+                        Quantity::Length,
+                        "a finite beam radius > 0",
                     ));
                 }
                 0
@@ -265,6 +350,7 @@ impl Medium {
             structure: None,
             emission: None,
             truncation: None,
+            detectors: Vec::new(),
         })
     }
 
@@ -358,6 +444,7 @@ impl Medium {
             .collect();
         let mut medium = Medium::slab(layers, self.ambient_above, source)?;
         medium.ambient_below = self.ambient_below;
+        medium.detectors = self.detectors.clone();
         medium.name = self.name.clone();
         medium.display_unit = self.display_unit;
         medium.sharp = self.sharp.clone();
@@ -562,6 +649,40 @@ impl Medium {
     /// The unit the user gave lengths in, for reports.
     pub fn display_unit(&self) -> LengthUnit {
         self.display_unit
+    }
+
+    /// The detectors on a slab's faces (empty unless given).
+    pub fn detectors(&self) -> &[Detector] {
+        &self.detectors
+    }
+
+    /// The same slab with `detectors` on its faces, each checked against the slab and its
+    /// ambient indices ([`Detector::check`]); errors name `detectors[i]`.
+    ///
+    /// # Errors
+    /// [`MediumError`] for a sphere, or for a detector [`Detector::check`] refuses.
+    pub fn with_detectors(mut self, detectors: Vec<Detector>) -> Result<Self, MediumError> {
+        if detectors.is_empty() {
+            self.detectors = detectors;
+            return Ok(self);
+        }
+        if self.geometry != Geometry::Slab {
+            return Err(MediumError::Invalid {
+                field: "detectors".into(),
+                problem: "detectors sit on a slab's faces; this model is a sphere".into(),
+            });
+        }
+        for (index, detector) in detectors.iter().enumerate() {
+            let ambient = match detector.face {
+                Face::Top => self.ambient_above,
+                Face::Bottom => self.ambient_below,
+            };
+            detector
+                .check(ambient)
+                .map_err(|e| e.within(&format!("detectors[{index}]")))?;
+        }
+        self.detectors = detectors;
+        Ok(self)
     }
 }
 

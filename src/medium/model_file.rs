@@ -10,11 +10,12 @@ use thiserror::Error;
 
 use serde::Serialize;
 
+use super::detector::{Acceptance, Detector, Face};
 use super::profile::{
     ColumnValues, DEFAULT_TOLERANCE, ProfileColumns, ProfileOpacity, ProfileSummary, ProfileTable,
     RadialStructure,
 };
-use super::{GasSample, Layer, Medium, MediumError, Quantity, Source};
+use super::{BeamProfile, GasSample, Layer, Medium, MediumError, Quantity, Source};
 use crate::input::{
     InputError, MAX_COEFFICIENT_PER_CM, MAX_LAYERS, MAX_LENGTH_CM, MAX_OPTICAL_DEPTH,
     MAX_TEXT_BYTES, MIN_COEFFICIENT_PER_CM, MIN_LENGTH_CM, field_and_message, plain_message,
@@ -114,6 +115,25 @@ struct ModelSpec {
     layers: Vec<LayerSpec>,
     ambient_index: Option<AmbientSpec>,
     source: Option<SourceSpec>,
+    detectors: Option<Vec<DetectorSpec>>,
+}
+
+/// One detector on a slab face, as written: `{"face": "top", "inner_radius": R1,
+/// "outer_radius": R2, "acceptance_half_angle_deg": A}` or with `"numerical_aperture"`
+/// instead of the half-angle (neither: every direction is accepted).
+#[derive(Debug, Clone, Deserialize)]
+#[serde(
+    deny_unknown_fields,
+    expecting = "a detector: an object such as {\"face\": \"top\", \"inner_radius\": 0.5, \
+                 \"outer_radius\": 1, \"numerical_aperture\": 0.22}"
+)]
+struct DetectorSpec {
+    name: Option<String>,
+    face: Face,
+    inner_radius: Option<f64>,
+    outer_radius: f64,
+    acceptance_half_angle_deg: Option<f64>,
+    numerical_aperture: Option<f64>,
 }
 
 /// The ambient refractive index: one number for both sides, or each side apart.
@@ -490,6 +510,15 @@ enum PhaseKind {
     Rayleigh,
 }
 
+/// Beam profiles, as written.
+#[derive(Debug, Clone, Copy, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+enum BeamProfileKind {
+    Narrow,
+    Gaussian,
+    Flat,
+}
+
 /// Source kinds.
 #[derive(Debug, Clone, Copy, Deserialize, PartialEq, Eq)]
 #[serde(rename_all = "snake_case")]
@@ -512,6 +541,7 @@ struct SourceSpec {
     radius: Option<f64>,
     depth: Option<f64>,
     polar_angle_deg: Option<f64>,
+    profile: Option<BeamProfileKind>,
 }
 
 /// Loads and validates a model file.
@@ -849,6 +879,10 @@ fn build_medium(
         }
     };
     check_totals(&medium)?;
+    let medium = match &spec.detectors {
+        None => medium,
+        Some(detectors) => medium.with_detectors(build_detectors(detectors, to_cm)?)?,
+    };
     let mut medium = medium
         .with_smooth_boundaries(smooth)
         .with_profiles(profiles)
@@ -861,6 +895,40 @@ fn build_medium(
         medium = medium.with_energy_generation_source()?;
     }
     Ok(medium)
+}
+
+/// The detectors of a model file, lengths converted with `to_cm` (cm per length unit); the
+/// medium checks them against its faces ([`Medium::with_detectors`]).
+fn build_detectors(specs: &[DetectorSpec], to_cm: f64) -> Result<Vec<Detector>, MediumError> {
+    specs
+        .iter()
+        .enumerate()
+        .map(|(index, spec)| {
+            let prefix = format!("detectors[{index}]");
+            let acceptance = match (spec.acceptance_half_angle_deg, spec.numerical_aperture) {
+                (Some(_), Some(_)) => {
+                    return Err(MediumError::Invalid {
+                        field: format!("{prefix}.numerical_aperture"),
+                        problem: "give either \"acceptance_half_angle_deg\" or \
+                                  \"numerical_aperture\", not both"
+                            .into(),
+                    });
+                }
+                (Some(angle), None) => Acceptance::HalfAngleDeg(angle),
+                (None, Some(aperture)) => Acceptance::NumericalAperture(aperture),
+                (None, None) => Acceptance::HalfAngleDeg(90.0),
+            };
+            let outer_radius_cm = spec.outer_radius * to_cm;
+            check_length("outer_radius", outer_radius_cm).map_err(|e| e.within(&prefix))?;
+            Ok(Detector {
+                name: spec.name.clone().unwrap_or_default(),
+                face: spec.face,
+                inner_radius_cm: spec.inner_radius.unwrap_or(0.0) * to_cm,
+                outer_radius_cm,
+                acceptance,
+            })
+        })
+        .collect()
 }
 
 /// A sphere layer given as a tabulated `profile`: checks that no plain-layer keys are mixed
@@ -1234,6 +1302,7 @@ fn build_source(
             ("radius", spec.radius.is_some()),
             ("depth", spec.depth.is_some()),
             ("polar_angle_deg", spec.polar_angle_deg.is_some()),
+            ("profile", spec.profile.is_some()),
         ]
         .into_iter()
         .find(|(name, given)| *given && !allowed.contains(name))
@@ -1272,11 +1341,38 @@ fn build_source(
             "a sphere takes only \"point\" or \"energy_generation\" sources",
         )),
         (GeometrySpec::Slab, SourceKind::Beam) => {
-            if let Some(field) = extra(&["polar_angle_deg"]) {
-                return Err(unexpected(field, "a beam takes only \"polar_angle_deg\""));
+            if let Some(field) = extra(&["polar_angle_deg", "profile", "radius"]) {
+                return Err(unexpected(
+                    field,
+                    "a beam takes only \"polar_angle_deg\", \"profile\" and \"radius\"",
+                ));
             }
+            let radius_cm = spec.radius.map(|r| r * to_cm);
+            if let Some(radius_cm) = radius_cm {
+                check_length("source.radius", radius_cm)?;
+            }
+            let profile = match (spec.profile.unwrap_or(BeamProfileKind::Narrow), radius_cm) {
+                (BeamProfileKind::Narrow, None) => BeamProfile::Narrow,
+                (BeamProfileKind::Narrow, Some(_)) => {
+                    return Err(unexpected(
+                        "radius",
+                        "a narrow beam has no radius: give \"profile\": \"gaussian\" (radius = \
+                         the 1/e² intensity radius) or \"flat\" with it",
+                    ));
+                }
+                (BeamProfileKind::Gaussian | BeamProfileKind::Flat, None) => {
+                    return Err(unexpected(
+                        "radius",
+                        "missing: a gaussian or flat beam needs \"radius\" (the 1/e² intensity \
+                         radius of a gaussian, the edge of a flat beam)",
+                    ));
+                }
+                (BeamProfileKind::Gaussian, Some(radius_cm)) => BeamProfile::Gaussian { radius_cm },
+                (BeamProfileKind::Flat, Some(radius_cm)) => BeamProfile::Flat { radius_cm },
+            };
             Ok(Source::Beam {
                 polar_angle_deg: spec.polar_angle_deg.unwrap_or(0.0),
+                profile,
             })
         }
         (GeometrySpec::Slab, SourceKind::Point | SourceKind::Plane) => {

@@ -3,7 +3,7 @@
 use std::fmt::Write;
 
 use super::run_document::RunReport;
-use crate::analysis::{DecayFit, MIN_TAIL_PHOTONS, TimeSummary};
+use crate::analysis::{DecayFit, MIN_TAIL_PHOTONS, ResolvedSummary, TimeSummary};
 use crate::medium::Geometry;
 use crate::units::{format_duration, format_significant};
 
@@ -45,6 +45,104 @@ pub(super) fn scattering_time_rows(out: &mut String, rows: &[(&str, f64, f64)], 
             format_duration(*time_s)
         );
     }
+}
+
+/// The radial bins of R(ρ) and T(ρ), and for a narrow beam the Monte Carlo against the
+/// dipole in the bins nearest 2, 5 and 10 transport mean free paths.
+fn write_radial_rows(out: &mut String, report: &RunReport, resolved: &ResolvedSummary) {
+    let edges = &resolved.radial_edges_cm;
+    let (Some(&first), Some(&last)) = (edges.first(), edges.last()) else {
+        return;
+    };
+    let l = resolved.transport_mean_free_path_cm;
+    let _ = writeln!(
+        out,
+        "  R(ρ), T(ρ)                     {} bins from {} to {} ({}–{} l′, l′ = {}); in the JSON report",
+        edges.len() - 1,
+        report.model.length(first),
+        report.model.length(last),
+        format_significant(first / l, 3),
+        format_significant(last / l, 3),
+        report.model.length(l),
+    );
+    if resolved.dipole_reflectance_per_cm2.is_empty() {
+        return;
+    }
+    let nearest = |target: f64| {
+        edges
+            .windows(2)
+            .enumerate()
+            .filter(|(_, w)| w[0] <= target * l && target * l < w[1])
+            .map(|(i, _)| i)
+            .next()
+    };
+    let ratios: Vec<String> = [2.0, 5.0, 10.0]
+        .into_iter()
+        .filter_map(|target| {
+            let i = nearest(target)?;
+            let (mc, err, dipole) = (
+                resolved.reflectance_per_cm2[i],
+                resolved.reflectance_per_cm2_stderr[i],
+                resolved.dipole_reflectance_per_cm2[i],
+            );
+            (mc > 0.0 && dipole > 0.0)
+                .then(|| format!("{:.3} ± {:.3} at {target} l′", mc / dipole, err / dipole))
+        })
+        .collect();
+    if !ratios.is_empty() {
+        let _ = writeln!(
+            out,
+            "  R(ρ) Monte Carlo / dipole      {}   (semi-infinite diffusion, narrow beam)",
+            ratios.join(", ")
+        );
+    }
+}
+
+/// The detectors' readings: ring, acceptance, detected fraction and time of flight.
+fn write_detector_rows(out: &mut String, report: &RunReport) {
+    let detectors = &report.analysis.detectors;
+    if detectors.is_empty() {
+        return;
+    }
+    let _ = writeln!(
+        out,
+        "Detectors (fraction of photons launched, ± 1σ; time of flight of what they saw)"
+    );
+    for (index, d) in detectors.iter().enumerate() {
+        let label = if d.name.is_empty() {
+            format!("#{index}")
+        } else {
+            d.name.clone()
+        };
+        let acceptance = match d.numerical_aperture {
+            Some(na) => format!("NA {na} ({:.1}°)", d.acceptance_half_angle_deg),
+            None => format!("half-angle {}°", d.acceptance_half_angle_deg),
+        };
+        let _ = writeln!(
+            out,
+            "  {label:<10} {:<6} ρ {} – {}, {acceptance}",
+            d.face.name(),
+            report.model.length(d.inner_radius_cm),
+            report.model.length(d.outer_radius_cm),
+        );
+        let t = &d.time_of_flight;
+        let _ = writeln!(
+            out,
+            "  {:<10} {}   n = {}   mean {} ± {}   median {}   5–95 % {} – {}",
+            "",
+            match (d.fraction, d.stderr) {
+                (Some(v), Some(e)) => format!("{v:.3e} ± {e:.1e}"),
+                _ => "-".to_string(),
+            },
+            t.count,
+            time(t.mean_s),
+            time(t.stderr_s),
+            time(t.median_s),
+            time(t.p05_s),
+            time(t.p95_s),
+        );
+    }
+    let _ = writeln!(out);
 }
 
 /// The stellar diffusion times of a run (energy generation, zones), where the model has them.
@@ -261,6 +359,13 @@ pub fn render_run_report(report: &RunReport) -> String {
         };
         let _ = writeln!(out, "  {name}  {}   ({how})", fraction(v, e));
     }
+    if let (Some(v), Some(e)) = (o.collimated_transmitted, o.stderr.collimated_transmitted) {
+        let _ = writeln!(
+            out,
+            "    collimated   {}   (never scattered; part of the transmitted light)",
+            fraction(v, e)
+        );
+    }
     if let (Some(v), Some(e)) = (o.absorbed, o.stderr.absorbed) {
         let _ = writeln!(out, "  absorbed     {}", fraction(v, e));
     }
@@ -463,8 +568,10 @@ pub fn render_run_report(report: &RunReport) -> String {
             "  absorbed by layer              {}",
             layers.join("  ")
         );
+        write_radial_rows(&mut out, report, resolved);
         let _ = writeln!(out);
     }
+    write_detector_rows(&mut out, report);
     let w = &report.analysis.walk;
     if let (Some(gamma), Some(epsilon)) = (w.gamma, w.epsilon) {
         let _ = writeln!(

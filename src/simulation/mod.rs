@@ -179,7 +179,7 @@ pub fn run_with_progress(
     let started = Instant::now();
     let walker = Walker::new(medium, config);
     let weighted = config.absorption == Absorption::Weighted;
-    let mut tally = Tally::with_resolved(config.resolved);
+    let mut tally = Tally::for_run(medium, config.resolved);
     let end = config.first_photon + config.photons;
     let batch = (config.photons / 100).clamp(1_000, 1_000_000);
     let mut start = config.first_photon;
@@ -190,7 +190,7 @@ pub fn run_with_progress(
             .fold(
                 || {
                     (
-                        Tally::with_resolved(config.resolved),
+                        Tally::for_run(medium, config.resolved),
                         (PathLedger::for_medium(medium), AbsorbedAlongPath::default()),
                     )
                 },
@@ -207,7 +207,7 @@ pub fn run_with_progress(
             )
             .map(|(tally, _)| tally)
             .reduce(
-                || Tally::with_resolved(config.resolved),
+                || Tally::for_run(medium, config.resolved),
                 |mut a, b| {
                     a.merge(&b);
                     a

@@ -26,6 +26,7 @@
 //! can carry. A tally that passes is as sound as one recorded in memory.
 
 mod bin_key;
+mod detectors;
 mod error;
 mod exact_sum;
 mod histogram;
@@ -36,6 +37,7 @@ mod resolved;
 mod weight;
 
 pub use bin_key::{RELATIVE_BIN_WIDTH, RESOLUTION_BITS};
+pub use detectors::{DetectorWindow, OpticsTally, detector_windows};
 pub use error::TallyError;
 pub use exact_sum::ExactSum;
 pub use histogram::{HistogramBin, LogHistogram, Regrouped, fine_bin_floor};
@@ -47,6 +49,7 @@ pub use weight::{WEIGHT_FRACTION_BITS, Weight, WeightSum};
 
 use serde::{Deserialize, Serialize};
 
+use detectors::OpticsRepr;
 use exact_sum::ExactSumRepr;
 use path_stats::PathStatsRepr;
 use resolved::ResolvedRepr;
@@ -176,6 +179,8 @@ pub struct Tally {
     /// Residence by cell and path by layer, per outcome (once a photon is recorded with
     /// its ledger, [`Tally::record_with_residence`]).
     residence: Option<Box<ResidenceTally>>,
+    /// Collimated transmittance and detectors of a slab lit from outside.
+    optics: Option<Box<OpticsTally>>,
 }
 
 /// Names of the outcomes, in the order of a tally's outcome array.
@@ -202,6 +207,21 @@ impl Tally {
         }
     }
 
+    /// An empty tally for a run on `medium`: resolved slab counts on `layout` (if given),
+    /// and the optical counts (collimated transmittance, detectors) the medium calls for
+    /// ([`OpticsTally::for_medium`]).
+    pub fn for_run(medium: &crate::medium::Medium, layout: Option<ResolvedLayout>) -> Self {
+        Self {
+            optics: OpticsTally::for_medium(medium).map(Box::new),
+            ..Self::with_resolved(layout)
+        }
+    }
+
+    /// Collimated transmittance and detector counts, if this tally keeps them.
+    pub fn optics(&self) -> Option<&OpticsTally> {
+        self.optics.as_deref()
+    }
+
     /// Resolved slab counts, if this tally keeps them.
     pub fn resolved(&self) -> Option<&ResolvedTally> {
         self.resolved.as_deref()
@@ -225,6 +245,9 @@ impl Tally {
         self.launched += 1;
         if let Some(resolved) = &mut self.resolved {
             resolved.record(record, weight);
+        }
+        if let Some(optics) = &mut self.optics {
+            optics.record(record, weight);
         }
         self.stats_mut(record.outcome)
             .add(record.time_s, record.scatterings, weight);
@@ -359,6 +382,9 @@ impl Tally {
             if let Some(resolved) = &mut self.resolved {
                 resolved.record(record, out);
             }
+            if let Some(optics) = &mut self.optics {
+                optics.record(record, out);
+            }
             self.stats_mut(record.outcome)
                 .add(record.time_s, record.scatterings, out);
             if record.time_s.is_finite() {
@@ -412,6 +438,9 @@ impl Tally {
         if let Some(resolved) = &mut self.resolved {
             resolved.make_weighted();
         }
+        if let Some(optics) = &mut self.optics {
+            optics.make_weighted();
+        }
     }
 
     /// Adds another tally (exact; any order gives the same state).
@@ -454,11 +483,34 @@ impl Tally {
             (None, Some(theirs)) => self.residence = Some(theirs.clone()),
             _ => {}
         }
+        match (&mut self.optics, &other.optics) {
+            (Some(mine), Some(theirs)) => {
+                assert!(
+                    mine.compatible(theirs),
+                    "optical tallies with different detectors cannot be merged; check \
+                     Tally::compatible first"
+                );
+                mine.merge(theirs);
+            }
+            (None, Some(theirs)) => {
+                let mut theirs = theirs.clone();
+                if self.weighted {
+                    theirs.make_weighted();
+                }
+                self.optics = Some(theirs);
+            }
+            _ => {}
+        }
     }
 
     /// Whether `other` keeps resolved counts on the same layout, or neither keeps any, and
     /// residence sums on the same cells (safe to merge).
     pub fn compatible(&self, other: &Tally) -> bool {
+        let optics = match (&self.optics, &other.optics) {
+            (Some(a), Some(b)) => a.compatible(b),
+            (None, None) => true,
+            _ => false,
+        };
         let resolved = match (&self.resolved, &other.resolved) {
             (Some(a), Some(b)) => a.compatible(b),
             (None, None) => true,
@@ -468,7 +520,7 @@ impl Tally {
             (Some(a), Some(b)) => a.compatible(b),
             _ => true,
         };
-        resolved && residence
+        optics && resolved && residence
     }
 
     /// Photons launched.
@@ -639,10 +691,41 @@ impl Tally {
             residence.check(tally.paths.each_ref().map(PathStats::count))?;
             tally.residence = Some(Box::new(residence));
         }
+        if let Some(optics) = repr.optics {
+            let optics = OpticsTally::from_repr(optics).map_err(|e| e.within("optics"))?;
+            tally.optics = Some(Box::new(optics));
+            tally.check_optics()?;
+        }
         if tally.weighted {
             tally.make_weighted();
         }
         Ok(tally)
+    }
+
+    /// The optical counts are parts of their outcomes: no more photons or weight than
+    /// those, and weights only in a weighted tally.
+    fn check_optics(&self) -> Result<(), TallyError> {
+        let Some(optics) = &self.optics else {
+            return Ok(());
+        };
+        for (name, stats, outcomes) in optics.parts() {
+            if stats.count() > 0 && stats.is_weighted() && !self.weighted {
+                return Err(mode_error(&format!("optics.{name}"), false));
+            }
+            let (count, weight) = outcomes.iter().fold((0u64, 0.0), |(c, w), &o| {
+                let s = self.stats(o);
+                (c.saturating_add(s.count()), w + s.weight())
+            });
+            if stats.count() > count || stats.weight() > weight * (1.0 + 1e-12) {
+                return Err(TallyError::mismatch(
+                    format!("optics.{name}"),
+                    "photons counted, against the outcomes they are part of",
+                    stats.count(),
+                    format!("at most {count}"),
+                ));
+            }
+        }
+        Ok(())
     }
 
     /// The resolved series hold exactly the photons (and weights) of their outcomes.
@@ -815,6 +898,7 @@ struct TallyRepr {
     resolved: Option<ResolvedRepr>,
     #[serde(default)]
     residence: Option<ResidenceTally>,
+    optics: Option<OpticsRepr>,
 }
 
 /// Serialised form of a [`Tally`], as written.
@@ -833,6 +917,7 @@ struct TallyOut<'a> {
     resolved: Option<&'a ResolvedTally>,
     #[serde(skip_serializing_if = "Option::is_none")]
     residence: Option<&'a ResidenceTally>,
+    optics: Option<&'a OpticsTally>,
 }
 
 impl Serialize for Tally {
@@ -849,6 +934,7 @@ impl Serialize for Tally {
             walk: &self.walk,
             resolved: self.resolved.as_deref(),
             residence: self.residence.as_deref(),
+            optics: self.optics.as_deref(),
         }
         .serialize(serializer)
     }

@@ -1,6 +1,7 @@
 //! Resolved slab tallies (opt-in): time of flight of reflected and transmitted light,
 //! absorption by layer and by depth, emergent angular distribution, and the radial
-//! distribution of reflectance around a pencil beam's entry point. Every bin holds an
+//! distributions of reflectance and transmittance around the beam axis (the normal through
+//! x = y = 0, where the beam's centre enters), on logarithmic bins. Every bin holds an
 //! integer count and, for weighted photons, the exact sum of their weights, so tallies
 //! merge exactly.
 
@@ -24,9 +25,13 @@ pub struct ResolvedLayout {
     pub depth_bins: usize,
     /// Number of bins in the exit cosine |μ| on [0, 1].
     pub cosine_bins: usize,
-    /// Width of a radial bin around the entry point, cm.
-    pub radial_bin_cm: f64,
-    /// Number of radial bins (farther exits are counted apart).
+    /// Lower edge of the first logarithmic radial bin, cm (exits nearer the axis are counted
+    /// apart, in the series' first entry).
+    pub radial_min_cm: f64,
+    /// Upper edge of the last radial bin, cm (farther exits are counted apart, in the
+    /// series' last entry).
+    pub radial_max_cm: f64,
+    /// Number of radial bins between the two, of equal width in ln ρ.
     pub radial_bins: usize,
     /// Number of layers of the medium.
     pub layers: usize,
@@ -43,12 +48,48 @@ impl ResolvedLayout {
         let count = |n: usize| (1..=MAX_BINS).contains(&n);
         width(self.time_bin_s)
             && width(self.depth_bin_cm)
-            && width(self.radial_bin_cm)
+            && width(self.radial_min_cm)
+            && self.radial_max_cm.is_finite()
+            && self.radial_max_cm > self.radial_min_cm
             && count(self.time_bins)
             && count(self.depth_bins)
             && count(self.cosine_bins)
             && count(self.radial_bins)
             && count(self.layers)
+    }
+}
+
+impl ResolvedLayout {
+    /// The radial bin edges, cm: `radial_bins + 1` values from `radial_min_cm` to
+    /// `radial_max_cm`, equally spaced in ln ρ.
+    pub fn radial_edges_cm(&self) -> Vec<f64> {
+        let ratio = (self.radial_max_cm / self.radial_min_cm).ln();
+        (0..=self.radial_bins)
+            .map(|i| {
+                if i == self.radial_bins {
+                    self.radial_max_cm
+                } else {
+                    self.radial_min_cm * (ratio * i as f64 / self.radial_bins as f64).exp()
+                }
+            })
+            .collect()
+    }
+
+    /// The entry of a radial series for distance `rho_cm` from the axis: 0 below
+    /// `radial_min_cm`, 1..=`radial_bins` for the logarithmic bins, `radial_bins + 1` at or
+    /// beyond `radial_max_cm` (and for NaN).
+    #[inline]
+    pub fn radial_entry(&self, rho_cm: f64) -> usize {
+        if rho_cm < self.radial_min_cm {
+            return 0;
+        }
+        if rho_cm >= self.radial_max_cm || rho_cm.is_nan() {
+            return self.radial_bins + 1;
+        }
+        let position = (rho_cm / self.radial_min_cm).ln()
+            / (self.radial_max_cm / self.radial_min_cm).ln()
+            * self.radial_bins as f64;
+        1 + (position as usize).min(self.radial_bins - 1)
     }
 }
 
@@ -154,6 +195,7 @@ pub struct ResolvedTally {
     reflected_by_cosine: BinSeries,
     transmitted_by_cosine: BinSeries,
     reflected_by_radius: BinSeries,
+    transmitted_by_radius: BinSeries,
 }
 
 fn bin(value: f64, width: f64, bins: usize) -> usize {
@@ -175,7 +217,8 @@ impl ResolvedTally {
             absorbed_by_depth: BinSeries::zeros(layout.depth_bins),
             reflected_by_cosine: BinSeries::zeros(layout.cosine_bins),
             transmitted_by_cosine: BinSeries::zeros(layout.cosine_bins),
-            reflected_by_radius: BinSeries::zeros(layout.radial_bins + 1),
+            reflected_by_radius: BinSeries::zeros(layout.radial_bins + 2),
+            transmitted_by_radius: BinSeries::zeros(layout.radial_bins + 2),
         }
     }
 
@@ -214,13 +257,19 @@ impl ResolvedTally {
         &self.transmitted_by_cosine
     }
 
-    /// Reflected photons per bin of distance from the entry point; the last bin counts
-    /// farther exits.
+    /// Reflected photons by distance from the beam axis, entries as in
+    /// [`ResolvedLayout::radial_entry`] (nearer, the logarithmic bins, farther).
     pub fn reflected_by_radius(&self) -> &BinSeries {
         &self.reflected_by_radius
     }
 
-    fn series_mut(&mut self) -> [&mut BinSeries; 7] {
+    /// Transmitted photons by distance from the beam axis, entries as in
+    /// [`ResolvedLayout::radial_entry`].
+    pub fn transmitted_by_radius(&self) -> &BinSeries {
+        &self.transmitted_by_radius
+    }
+
+    fn series_mut(&mut self) -> [&mut BinSeries; 8] {
         [
             &mut self.reflected_by_time,
             &mut self.transmitted_by_time,
@@ -229,10 +278,11 @@ impl ResolvedTally {
             &mut self.reflected_by_cosine,
             &mut self.transmitted_by_cosine,
             &mut self.reflected_by_radius,
+            &mut self.transmitted_by_radius,
         ]
     }
 
-    fn series(&self) -> [(&'static str, &BinSeries); 7] {
+    fn series(&self) -> [(&'static str, &BinSeries); 8] {
         [
             ("reflected_by_time", &self.reflected_by_time),
             ("transmitted_by_time", &self.transmitted_by_time),
@@ -241,6 +291,7 @@ impl ResolvedTally {
             ("reflected_by_cosine", &self.reflected_by_cosine),
             ("transmitted_by_cosine", &self.transmitted_by_cosine),
             ("reflected_by_radius", &self.reflected_by_radius),
+            ("transmitted_by_radius", &self.transmitted_by_radius),
         ]
     }
 
@@ -273,13 +324,15 @@ impl ResolvedTally {
                 self.reflected_by_time.add(time_bin(), weight);
                 self.reflected_by_cosine.add(cosine_bin(), weight);
                 let [x, y, _] = record.position_cm;
-                let radius = x.hypot(y);
-                let radial = bin(radius, layout.radial_bin_cm, layout.radial_bins);
+                let radial = layout.radial_entry(x.hypot(y));
                 self.reflected_by_radius.add(radial, weight);
             }
             Outcome::Transmitted => {
                 self.transmitted_by_time.add(time_bin(), weight);
                 self.transmitted_by_cosine.add(cosine_bin(), weight);
+                let [x, y, _] = record.position_cm;
+                let radial = layout.radial_entry(x.hypot(y));
+                self.transmitted_by_radius.add(radial, weight);
             }
             Outcome::Absorbed => {
                 if record.layer < layout.layers {
@@ -380,6 +433,7 @@ impl ResolvedTally {
             repr.reflected_by_cosine,
             repr.transmitted_by_cosine,
             repr.reflected_by_radius,
+            repr.transmitted_by_radius,
         ];
         let weighted = given.iter().any(|s| s.weights.is_some());
         let mut tally = fresh.clone();
@@ -450,6 +504,7 @@ impl ResolvedTally {
             reflected_by_cosine: self.reflected_by_cosine.clone(),
             transmitted_by_cosine: self.transmitted_by_cosine.clone(),
             reflected_by_radius: self.reflected_by_radius.clone(),
+            transmitted_by_radius: self.transmitted_by_radius.clone(),
         }
     }
 }
@@ -519,6 +574,7 @@ pub(crate) struct ResolvedRepr {
     reflected_by_cosine: BinSeries,
     transmitted_by_cosine: BinSeries,
     reflected_by_radius: BinSeries,
+    transmitted_by_radius: BinSeries,
 }
 
 impl Serialize for ResolvedTally {
@@ -545,7 +601,8 @@ mod tests {
             depth_bin_cm: 0.1,
             depth_bins: 3,
             cosine_bins: 2,
-            radial_bin_cm: 0.5,
+            radial_min_cm: 0.01,
+            radial_max_cm: 1.0,
             radial_bins: 2,
             layers: 2,
         }
@@ -585,6 +642,26 @@ mod tests {
         let text = serde_json::to_string(&tally).unwrap();
         let back: ResolvedTally = serde_json::from_str(&text).unwrap();
         assert_eq!(back, tally);
+    }
+
+    #[test]
+    fn radial_entries_are_logarithmic_with_under_and_overflow() {
+        let layout = layout();
+        let edges = layout.radial_edges_cm();
+        assert_eq!(edges.len(), 3);
+        assert!((edges[1] - 0.1).abs() < 1e-15);
+        assert_eq!(layout.radial_entry(0.0), 0);
+        assert_eq!(layout.radial_entry(0.009), 0);
+        assert_eq!(layout.radial_entry(0.01), 1);
+        assert_eq!(layout.radial_entry(0.099), 1);
+        assert_eq!(layout.radial_entry(0.11), 2);
+        assert_eq!(layout.radial_entry(0.999_999), 2);
+        assert_eq!(layout.radial_entry(1.0), 3);
+        assert_eq!(layout.radial_entry(f64::NAN), 3);
+        let mut tally = ResolvedTally::new(layout);
+        tally.record(&photon(Outcome::Transmitted, 1e-12), Weight::ONE);
+        // The photon leaves at ρ = 0.2 cm: the second logarithmic bin.
+        assert_eq!(tally.transmitted_by_radius().counts(), &[0, 0, 1, 0]);
     }
 
     #[test]

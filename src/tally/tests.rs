@@ -26,7 +26,8 @@ fn slab_layout() -> ResolvedLayout {
         depth_bin_cm: 0.1,
         depth_bins: 10,
         cosine_bins: 4,
-        radial_bin_cm: 0.1,
+        radial_min_cm: 0.01,
+        radial_max_cm: 1.0,
         radial_bins: 5,
         layers: 1,
     }
@@ -451,4 +452,40 @@ fn a_weighted_tally_with_impossible_counts_is_refused() {
     value["launched"] = json!(6);
     let error = Tally::from_json(value).unwrap_err();
     assert!(error.to_string().contains("launched"), "{error}");
+#[test]
+fn optical_counts_are_parts_of_their_outcomes() {
+    use crate::medium::Face;
+    let window = DetectorWindow {
+        face: Face::Bottom,
+        inner_radius_cm: 0.0,
+        outer_radius_cm: 10.0,
+        min_exit_cosine: 0.0,
+    };
+    let mut tally = Tally {
+        optics: Some(Box::new(OpticsTally::new(vec![window]))),
+        ..Tally::new()
+    };
+    for k in 0..4 {
+        let mut record = photon(Outcome::Transmitted, 1e-11, k as f64, 1.0);
+        record.position_cm = [0.5, 0.0, 1.0];
+        tally.record(&record);
+    }
+    tally.record(&photon(Outcome::Reflected, 1e-11, 2.0, 1.0));
+    let optics = tally.optics().unwrap();
+    assert_eq!(optics.collimated_transmitted().count(), 1);
+    assert_eq!(optics.detected()[0].count(), 4);
+    let good = serde_json::to_value(&tally).unwrap();
+    assert_eq!(Tally::from_json(good.clone()).unwrap(), tally);
+    // Merging keeps the parts; a tally without optics takes them over.
+    let mut merged = Tally::new();
+    merged.merge(&tally);
+    merged.merge(&tally);
+    assert_eq!(merged.optics().unwrap().detected()[0].count(), 8);
+    // A detector that saw more photons than left through its face is refused: the merged
+    // tally's series (8 photons) in the tally of 4 transmitted photons.
+    let mut bad = good;
+    bad["optics"]["detected"][0] =
+        serde_json::to_value(&merged).unwrap()["optics"]["detected"][0].clone();
+    let error = refused(bad).to_string();
+    assert!(error.contains("optics."), "{error}");
 }

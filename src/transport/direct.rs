@@ -24,7 +24,7 @@ use super::fresnel::{fresnel_reflectance, refract_across_z};
 use super::geometry::{Exit, plane_exit};
 use super::ledger::{Ledger, NoLedger, PathLedger};
 use super::phase::PhaseFunction;
-use crate::medium::{EmissionSampler, Geometry, Medium, Source};
+use crate::medium::{BeamProfile, EmissionSampler, Geometry, Medium, Source};
 use crate::tally::{AbsorbedAlongPath, Deposit, Outcome, PhotonRecord};
 use crate::units::SPEED_OF_LIGHT_CM_S;
 
@@ -501,9 +501,15 @@ impl DirectWalker {
             Source::SlabPoint { depth_cm } | Source::SlabPlane { depth_cm } => {
                 (Vector3::new(0.0, 0.0, depth_cm), direction::isotropic(rng))
             }
-            Source::Beam { polar_angle_deg } => {
+            Source::Beam {
+                polar_angle_deg,
+                profile,
+            } => {
                 let (sin, cos) = polar_angle_deg.to_radians().sin_cos();
-                (Vector3::zeros(), Vector3::new(sin, 0.0, cos))
+                (
+                    beam_entry_point(&profile, cos, rng),
+                    Vector3::new(sin, 0.0, cos),
+                )
             }
             Source::Diffuse => {
                 // Lambertian illumination: cosine-weighted directions, μ = sqrt(ξ).
@@ -676,6 +682,25 @@ impl DirectWalker {
             }
         }
     }
+}
+
+/// Where a photon of a beam with `profile`, travelling at polar cosine `cos_polar` in the
+/// x–z plane, meets the top face: a point drawn from the profile in the beam's
+/// cross-section (distance from the axis by [`BeamProfile::sample_radius_cm`], azimuth
+/// uniform), projected along the beam onto z = 0, which stretches the x offset by
+/// 1/cos θ. A narrow beam draws no random number and enters at the origin.
+fn beam_entry_point<R: Rng + ?Sized>(
+    profile: &BeamProfile,
+    cos_polar: f64,
+    rng: &mut R,
+) -> Vector3<f64> {
+    if *profile == BeamProfile::Narrow {
+        return Vector3::zeros();
+    }
+    // 1 − ξ lies in (0, 1], so the Gaussian's logarithm stays finite.
+    let radius = profile.sample_radius_cm(1.0 - rng.random::<f64>());
+    let (sin, cos) = (std::f64::consts::TAU * rng.random::<f64>()).sin_cos();
+    Vector3::new(radius * cos / cos_polar, radius * sin, 0.0)
 }
 
 /// Whether the segment from `p` along unit `u` of length `s` stays outside the sphere of

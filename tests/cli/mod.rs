@@ -7,6 +7,7 @@ mod cluster_scripts;
 mod import_command;
 mod json_keys;
 mod length_units;
+mod optics;
 mod output_paths;
 mod plots;
 mod profile_command;

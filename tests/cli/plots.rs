@@ -167,6 +167,7 @@ fn resolved_slab_run_adds_its_panels_and_a_sweep_plots_its_table() {
         [
             "absorption-depth.svg",
             "escape-time.svg",
+            "radial-reflectance.svg",
             "scatterings.svg",
             "time-resolved.svg"
         ]

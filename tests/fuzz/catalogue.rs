@@ -313,6 +313,131 @@ const CASES: &[Case] = &[
         needles: &["m.json", "source", "radius"],
     },
     Case {
+        name: "a detector ring whose inner radius is not below its outer radius",
+        files: &[(
+            "m.json",
+            Text(
+                r#"{"geometry":"slab","length_unit":"mm","layers":[{"thickness":1,"extinction_coefficient":1}],"detectors":[{"face":"top","inner_radius":2,"outer_radius":1}]}"#,
+            ),
+        )],
+        args: &["run", "m.json"],
+        status: 1,
+        needles: &[
+            "m.json",
+            "detectors[0].outer_radius",
+            "1 mm",
+            "greater than inner_radius (2 mm)",
+        ],
+    },
+    Case {
+        name: "a detector off the slab's faces",
+        files: &[(
+            "m.json",
+            Text(
+                r#"{"geometry":"slab","layers":[{"thickness":1,"extinction_coefficient":1}],"detectors":[{"face":"side","outer_radius":1}]}"#,
+            ),
+        )],
+        args: &["run", "m.json"],
+        status: 1,
+        needles: &["m.json", "detectors[0].face", "side", "top", "bottom"],
+    },
+    Case {
+        name: "a detector on a sphere",
+        files: &[(
+            "m.json",
+            Text(
+                r#"{"geometry":"sphere","layers":[{"outer_radius":1,"extinction_coefficient":1}],"detectors":[{"face":"top","outer_radius":1}]}"#,
+            ),
+        )],
+        args: &["run", "m.json"],
+        status: 1,
+        needles: &["m.json", "detectors", "slab"],
+    },
+    Case {
+        name: "a numerical aperture at the ambient index",
+        files: &[(
+            "m.json",
+            Text(
+                r#"{"geometry":"slab","layers":[{"thickness":1,"extinction_coefficient":1}],"ambient_index":1.33,"detectors":[{"face":"bottom","outer_radius":1,"numerical_aperture":1.33}]}"#,
+            ),
+        )],
+        args: &["run", "m.json"],
+        status: 1,
+        needles: &[
+            "m.json",
+            "detectors[0].numerical_aperture",
+            "1.33",
+            "(0, 1.33)",
+        ],
+    },
+    Case {
+        name: "both a half-angle and a numerical aperture",
+        files: &[(
+            "m.json",
+            Text(
+                r#"{"geometry":"slab","layers":[{"thickness":1,"extinction_coefficient":1}],"detectors":[{"face":"top","outer_radius":1,"numerical_aperture":0.2,"acceptance_half_angle_deg":10}]}"#,
+            ),
+        )],
+        args: &["run", "m.json"],
+        status: 1,
+        needles: &["m.json", "detectors[0].numerical_aperture", "not both"],
+    },
+    Case {
+        name: "a beam radius of zero",
+        files: &[(
+            "m.json",
+            Text(
+                r#"{"geometry":"slab","length_unit":"mm","layers":[{"thickness":1,"extinction_coefficient":1}],"source":{"kind":"beam","profile":"gaussian","radius":0}}"#,
+            ),
+        )],
+        args: &["run", "m.json"],
+        status: 1,
+        needles: &["m.json", "source.radius", "0 mm", "beam radius > 0"],
+    },
+    Case {
+        name: "a negative flat-beam radius",
+        files: &[(
+            "m.json",
+            Text(
+                r#"{"geometry":"slab","layers":[{"thickness":1,"extinction_coefficient":1}],"source":{"kind":"beam","profile":"flat","radius":-1}}"#,
+            ),
+        )],
+        args: &["run", "m.json"],
+        status: 1,
+        needles: &["m.json", "source.radius", "-1", "beam radius > 0"],
+    },
+    Case {
+        name: "a gaussian beam without a radius",
+        files: &[(
+            "m.json",
+            Text(
+                r#"{"geometry":"slab","layers":[{"thickness":1,"extinction_coefficient":1}],"source":{"kind":"beam","profile":"gaussian"}}"#,
+            ),
+        )],
+        args: &["run", "m.json"],
+        status: 1,
+        needles: &["m.json", "source.radius", "missing"],
+    },
+    Case {
+        name: "an unknown beam profile",
+        files: &[(
+            "m.json",
+            Text(
+                r#"{"geometry":"slab","layers":[{"thickness":1,"extinction_coefficient":1}],"source":{"kind":"beam","profile":"donut","radius":1}}"#,
+            ),
+        )],
+        args: &["run", "m.json"],
+        status: 1,
+        needles: &["m.json", "source.profile", "donut", "gaussian", "flat"],
+    },
+    Case {
+        name: "a radial range upside down",
+        files: &[],
+        args: &["run", "--resolve", "--radial-range", "5:1"],
+        status: 2,
+        needles: &["--radial-range", "5:1", "MIN < MAX"],
+    },
+    Case {
         name: "too many layers",
         files: &[],
         args: &["run", "many-layers.json"],

@@ -551,6 +551,7 @@ fn awkward_media_solve_without_panics() {
                 1.0,
                 Source::Beam {
                     polar_angle_deg: 60.0,
+                    profile: sojourn::medium::BeamProfile::Narrow,
                 },
             )
             .unwrap(),

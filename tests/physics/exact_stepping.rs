@@ -49,6 +49,7 @@ fn oblique_beam_through_three_absorbing_layers() {
         1.0,
         Source::Beam {
             polar_angle_deg: 40.0,
+            profile: sojourn::medium::BeamProfile::Narrow,
         },
     )
     .unwrap();

@@ -3,6 +3,7 @@
 
 mod absorption_rescaling;
 mod accelerated;
+mod beams_detectors;
 mod comparison;
 mod convective_zones;
 mod diffusion_solver;
@@ -14,6 +15,7 @@ mod phase_functions;
 mod profile_media;
 mod profile_monte_carlo;
 mod quantiles;
+mod radial_reflectance;
 mod reproducibility;
 mod residence;
 mod slab_optics;

@@ -111,6 +111,7 @@ fn oblique_beam_specular_reflection_follows_fresnel() {
         1.0,
         Source::Beam {
             polar_angle_deg: 60.0,
+            profile: sojourn::medium::BeamProfile::Narrow,
         },
     )
     .unwrap();

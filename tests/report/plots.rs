@@ -9,6 +9,7 @@ use sojourn::report::plots::escape_time::escape_time_panel;
 use sojourn::report::plots::limb_darkening::LimbDarkeningPanel;
 use sojourn::report::plots::optical_structure::OpticalStructurePanel;
 use sojourn::report::plots::profile_budget::ProfileTimeBudgetPanel;
+use sojourn::report::plots::radial_reflectance::RadialReflectancePanel;
 use sojourn::report::plots::scatterings::scatterings_panel;
 use sojourn::report::plots::sweep_escape_time::{StudyPoint, SweepPanel};
 use sojourn::report::plots::time_budget::TimeBudgetPanel;
@@ -604,10 +605,34 @@ fn resolved_slab_has_time_absorption_and_angle_panels() {
             "scatterings",
             "time-resolved",
             "absorption-depth",
+            "radial-reflectance",
         ]
     );
     // Lit from outside: no limb-darkening panel (it is the law of light from inside).
     assert!(LimbDarkeningPanel::for_run(&run.inputs()).is_none());
+    // R(ρ) on log-log axes: the narrow beam's dipole, then the Monte Carlo R and T.
+    let radial = RadialReflectancePanel::for_run(&run.inputs()).unwrap();
+    let spec = radial.spec();
+    assert_eq!(
+        (spec.x_axis.scale, spec.y_axis.scale),
+        (Scale::Log, Scale::Log)
+    );
+    assert_eq!(
+        labels(&spec),
+        [
+            "diffusion dipole, semi-infinite, extrapolated boundary",
+            "Monte Carlo R(ρ) ± 1σ",
+            "Monte Carlo T(ρ) ± 1σ",
+        ]
+    );
+    assert!(
+        spec.series[1]
+            .points
+            .iter()
+            .all(|&(rho, r)| rho > 0.0 && r > 0.0)
+    );
+    let svg = radial.render().unwrap().svg;
+    assert!(svg.starts_with("<svg"), "{}", &svg[..40]);
     // Without --resolve, only the existing panels (checked for the plain slab in
     // run_figures_cover_each_geometry).
 

@@ -127,7 +127,9 @@ impl SourceTerms {
                 }
                 point(depth_cm);
             }
-            Source::Beam { polar_angle_deg } => {
+            Source::Beam {
+                polar_angle_deg, ..
+            } => {
                 let mu = polar_angle_deg.to_radians().cos();
                 terms.add_beam(medium, model, mu, 1.0);
             }

@@ -12,7 +12,8 @@
 //!   [`escape_time::escape_time_panel`], [`scatterings::scatterings_panel`] and, for spheres,
 //!   [`time_budget::TimeBudgetPanel`]; a slab run with resolved tallies adds
 //!   [`time_resolved::TimeResolvedPanel`], [`absorption_depth::AbsorptionDepthPanel`] and
-//!   [`limb_darkening::LimbDarkeningPanel`]; [`run_panels`] lists them. `sojourn profile`
+//!   [`limb_darkening::LimbDarkeningPanel`] and
+//!   [`radial_reflectance::RadialReflectancePanel`]; [`run_panels`] lists them. `sojourn profile`
 //!   has [`optical_structure::OpticalStructurePanel`] (two figures: mean free path and
 //!   optical depth) and
 //!   [`profile_budget::ProfileTimeBudgetPanel`] ([`profile_panels`]), a sweep
@@ -49,6 +50,7 @@ pub mod limb_darkening;
 mod line_chart;
 pub mod optical_structure;
 pub mod profile_budget;
+pub mod radial_reflectance;
 pub mod rebin;
 mod run_inputs;
 pub mod scatterings;
@@ -118,6 +120,9 @@ pub fn run_panels(inputs: &RunInputs) -> Vec<Box<dyn Panel>> {
         panels.push(Box::new(panel));
     }
     if let Some(panel) = limb_darkening::LimbDarkeningPanel::for_run(inputs) {
+        panels.push(Box::new(panel));
+    }
+    if let Some(panel) = radial_reflectance::RadialReflectancePanel::for_run(inputs) {
         panels.push(Box::new(panel));
     }
     panels
