@@ -414,7 +414,7 @@ fn accuracy_limits(
         } else {
             limits.push(format!(
                 "the measurement uncertainties dominate ({:.0} % of the variance): more \
-                 photons would not help",
+                 photons per evaluation would help little",
                 100.0 * measurement / (measurement + monte_carlo)
             ));
         }

@@ -4,6 +4,7 @@
 //! of a sphere's optical structure (`sojourn profile`), with its text and CSV renderings.
 //! The figures and the HTML report need the `plots` feature (on by default).
 
+mod fit_document;
 #[cfg(feature = "plots")]
 pub mod html;
 #[cfg(feature = "plots")]
@@ -13,6 +14,9 @@ mod profile_text;
 mod run_document;
 mod text;
 
+pub use fit_document::{
+    ErrorsInUnit, FitReport, FitSummary, PlanePoint, StartInUnit, render_fit_report,
+};
 pub use profile_document::{ProfileModel, ProfileReport};
 pub use profile_text::{render_profile_csv, render_profile_report};
 pub use run_document::{ModelSummary, RunReport};
