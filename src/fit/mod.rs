@@ -160,7 +160,8 @@ pub fn fit(
         .zip(&sigma)
         .map(|(m, s)| s.max(floor(*m)))
         .collect();
-    let start = start::starting_point(&sample, measurement, &config, &first_scale, &settings)?;
+    let (start, start_runs, start_photons) =
+        start::starting_point(&sample, measurement, &config, &first_scale, &settings)?;
     let start_medium =
         sample.with_coefficients(start.absorption_per_cm, start.reduced_scattering_per_cm)?;
     config.method = plan(&start_medium, &config).method;
@@ -204,6 +205,7 @@ pub fn fit(
                 measurement,
                 monte_carlo,
                 conditioning,
+                ..
             }) => (
                 errors(Some(*total)),
                 errors(Some(*measurement)),
@@ -277,9 +279,9 @@ pub fn fit(
         misfit: solution.misfit,
         scales: scale,
         iterations: solution.iterations,
-        evaluations: model.evaluations(),
+        evaluations: model.evaluations() + start_runs,
         photons_per_evaluation: config.photons,
-        photons_total: model.photons_run(),
+        photons_total: model.photons_run() + start_photons,
         seed: config.seed,
         method: config.method.name(),
         converged,
@@ -314,11 +316,12 @@ fn coefficient_errors(
         };
     };
     let (a, s) = (c[(0, 0)].max(0.0).sqrt(), c[(1, 1)].max(0.0).sqrt());
+    let finite = a.is_finite() && s.is_finite();
     CoefficientErrors {
         absorption_per_cm: absorption * a,
         scattering_per_cm: scattering * s,
         reduced_scattering_per_cm: reduced * s,
-        correlation: if a > 0.0 && s > 0.0 {
+        correlation: if finite && a > 0.0 && s > 0.0 {
             (c[(0, 1)] / (a * s)).clamp(-1.0, 1.0)
         } else {
             0.0
@@ -346,6 +349,27 @@ fn uniqueness(
                 .into(),
         );
     };
+    if let Some(which) = propagated.undetermined {
+        let (name, hint) = if which == 0 {
+            (
+                "μa",
+                "the data look non-absorbing (or absorb too little to be resolved)",
+            )
+        } else {
+            (
+                "μs′",
+                "the data look non-scattering (or scatter too little to be resolved)",
+            )
+        };
+        return (
+            false,
+            format!(
+                "not unique: no photon's fate changes with {name} near the solution, so \
+                 {name} is not determined ({hint}); the other coefficient's standard error \
+                 is propagated alone"
+            ),
+        );
+    }
     if propagated.conditioning < MIN_CONDITIONING {
         return (
             false,

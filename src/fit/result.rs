@@ -69,7 +69,7 @@ pub struct FitResult {
     pub scales: Vec<f64>,
     /// Solver iterations (Jacobians).
     pub iterations: usize,
-    /// Monte Carlo runs, the start's and the final Jacobian's included.
+    /// Monte Carlo runs, those of a grid start and of the final Jacobian included.
     pub evaluations: usize,
     /// Photons per Monte Carlo run.
     pub photons_per_evaluation: u64,

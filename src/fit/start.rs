@@ -136,13 +136,14 @@ fn from_diffusion(
     }))
 }
 
-/// The best grid point by the weighted misfit, with short runs of the fit's photons.
+/// The best grid point by the weighted misfit, with short runs of the fit's photons; with
+/// the Monte Carlo runs and photons it took.
 fn from_grid(
     sample: &Sample,
     measurement: &Measurement,
     config: &RunConfig,
     scale: &[f64],
-) -> Result<Start, FitError> {
+) -> Result<(Start, usize, u64), FitError> {
     let d = sample.thickness_cm();
     let grid_config = RunConfig {
         photons: config.photons.min(GRID_PHOTONS),
@@ -173,14 +174,19 @@ fn from_grid(
     let (_, p) = best.ok_or_else(|| {
         FitError::NoSolution("no point of the starting grid could be simulated".into())
     })?;
-    Ok(Start {
-        method: StartMethod::Grid,
-        absorption_per_cm: p[0].exp(),
-        reduced_scattering_per_cm: p[1].exp(),
-    })
+    Ok((
+        Start {
+            method: StartMethod::Grid,
+            absorption_per_cm: p[0].exp(),
+            reduced_scattering_per_cm: p[1].exp(),
+        },
+        model.evaluations(),
+        model.photons_run(),
+    ))
 }
 
-/// The starting point: diffusion if it can match the measurements, else the grid.
+/// The starting point: diffusion if it can match the measurements, else the grid; with
+/// the Monte Carlo runs and photons it took (none for diffusion).
 ///
 /// # Errors
 /// Whatever the forward models report.
@@ -190,9 +196,9 @@ pub fn starting_point(
     config: &RunConfig,
     scale: &[f64],
     settings: &Settings,
-) -> Result<Start, FitError> {
+) -> Result<(Start, usize, u64), FitError> {
     if let Some(start) = from_diffusion(sample, measurement, scale, settings)? {
-        return Ok(start);
+        return Ok((start, 0, 0));
     }
     from_grid(sample, measurement, config, scale)
 }

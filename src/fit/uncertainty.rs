@@ -23,11 +23,15 @@ pub struct Propagated {
     /// Smallest over largest singular value of the weighted Jacobian W^½J: near 0 when the
     /// measurements fix only one combination of μa and μs′.
     pub conditioning: f64,
+    /// The parameter (0: ln μa, 1: ln μs′) on which no prediction depends at all (a zero
+    /// column of the Jacobian), if one: its variance is then infinite and the other's is
+    /// propagated alone.
+    pub undetermined: Option<usize>,
 }
 
 /// Propagates `measurement_variance` (diagonal) and `monte_carlo` (covariance of the
 /// predictions) through `jacobian` (rows: measurements; columns: d/d ln μa, d/d ln μs′),
-/// with the fit's scales `scale`. `None` when JᵀWJ is singular.
+/// with the fit's scales `scale`. `None` when JᵀWJ is singular with neither column zero.
 pub fn propagate(
     jacobian: &DMatrix<f64>,
     scale: &[f64],
@@ -47,11 +51,37 @@ pub fn propagate(
     } else {
         0.0
     };
+    let measured =
+        DMatrix::from_diagonal(&nalgebra::DVector::from_column_slice(measurement_variance));
+    let zero: Vec<usize> = (0..2)
+        .filter(|&j| jacobian.column(j).iter().all(|v| *v == 0.0))
+        .collect();
+    if let [undetermined] = zero[..] {
+        // One parameter moves nothing: propagate to the other alone.
+        let other = 1 - undetermined;
+        let column = jacobian.column(other).into_owned();
+        let normal = (column.transpose() * &weights * &column)[(0, 0)];
+        let gain = (column.transpose() * &weights) / normal;
+        let alone = |c: &DMatrix<f64>| {
+            let v = (&gain * c * gain.transpose())[(0, 0)];
+            let mut m = Matrix2::zeros();
+            m[(undetermined, undetermined)] = f64::INFINITY;
+            m[(other, other)] = v;
+            m
+        };
+        let measurement = alone(&measured);
+        let monte_carlo = alone(monte_carlo);
+        return Some(Propagated {
+            total: measurement + monte_carlo,
+            measurement,
+            monte_carlo,
+            conditioning: 0.0,
+            undetermined: Some(undetermined),
+        });
+    }
     let normal = jacobian.transpose() * &weights * jacobian;
     let inverse = normal.try_inverse()?;
     let gain = inverse * jacobian.transpose() * &weights;
-    let measured =
-        DMatrix::from_diagonal(&nalgebra::DVector::from_column_slice(measurement_variance));
     let to2 = |c: DMatrix<f64>| Matrix2::new(c[(0, 0)], c[(0, 1)], c[(1, 0)], c[(1, 1)]);
     let measurement = to2(&gain * measured * gain.transpose());
     let monte_carlo = to2(&gain * monte_carlo * gain.transpose());
@@ -60,6 +90,7 @@ pub fn propagate(
         measurement,
         monte_carlo,
         conditioning,
+        undetermined: None,
     })
 }
 

@@ -332,7 +332,7 @@ pub fn render_fit_report(report: &FitReport) -> String {
     }
     if m.collimated_transmittance.is_some() {
         out.push_str(&format!(
-            "  unscattered, counted      {:.5}   (the closed form's Monte Carlo twin)\n",
+            "  unscattered, counted      {:.5}   (Monte Carlo count, beside the closed form)\n",
             f.unscattered_transmittance_counted
         ));
     }
