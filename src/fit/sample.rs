@@ -96,7 +96,7 @@ impl Sample {
             given.name(),
             extinction,
             albedo,
-            given.phase().clone(),
+            *given.phase(),
             given.refractive_index(),
         )?;
         let layers = (0..self.medium.layers().len())
