@@ -8,10 +8,11 @@
 //!
 //! **Stopping.** The fit has converged when a step (accepted, or proposed after the
 //! damping grew) changes both parameters by less than the tolerance in their logarithm
-//! (0.001 is 0.1 %), or when every residual is below [`NEGLIGIBLE_RESIDUAL`] scales (the
-//! measurements are matched far inside their uncertainty). It stops unconverged after the
-//! iteration cap, or when the damping runs past [`MAX_DAMPING`] without a step that lowers
-//! the misfit.
+//! (0.001 is 0.1 %) while no residual exceeds [`STALLED_RESIDUAL`] scales, or when every
+//! residual is below [`NEGLIGIBLE_RESIDUAL`] scales (the measurements are matched far
+//! inside their uncertainty). It stops unconverged after the iteration cap, when the steps
+//! become that small with a residual still above [`STALLED_RESIDUAL`] (stalled), or when
+//! the damping runs past [`MAX_DAMPING`] without a step that lowers the misfit.
 
 use nalgebra::{Matrix2, Vector2};
 
@@ -20,6 +21,9 @@ use super::forward::ForwardModel;
 
 /// A residual this small (in units of its scale) counts as matched.
 pub const NEGLIGIBLE_RESIDUAL: f64 = 0.02;
+
+/// A residual (in scales) above which a solver that can no longer move has not converged.
+pub const STALLED_RESIDUAL: f64 = 3.0;
 
 /// Damping past which the solver gives up looking for a better step.
 pub const MAX_DAMPING: f64 = 1e10;
@@ -196,6 +200,15 @@ pub fn solve(
             let trial = clamp([p[0] + step[0], p[1] + step[1]], settings);
             let moved = (trial[0] - p[0]).abs().max((trial[1] - p[1]).abs());
             if moved < settings.tolerance {
+                let worst = residuals.iter().fold(0.0f64, |w, r| w.max(r.abs()));
+                if worst > STALLED_RESIDUAL {
+                    let reason = format!(
+                        "stalled: no step lowers the misfit, yet a measurement is missed by \
+                         {worst:.1} times its combined standard uncertainty (χ² = {chi2:.3e}); \
+                         the model does not reach the measurements from here"
+                    );
+                    return Ok(finish(p, predicted, chi2, iterations, false, reason, path));
+                }
                 let reason = format!(
                     "the next step changes μa and μs′ by less than {:.2} % (χ² = {chi2:.3e})",
                     settings.tolerance * 100.0
