@@ -266,3 +266,29 @@ fn a_fit_is_reproducible_whatever_the_threads() {
     };
     assert_eq!(run("1"), run("2"));
 }
+
+#[test]
+fn a_pair_out_of_reach_is_not_converged() {
+    // R = 0.99 with no transmission: the film would need μa → 0 and μs′ → ∞ together,
+    // beyond what the solver reaches; it must stop with converged false and a reason, not
+    // claim a solution.
+    let film = film();
+    let value = json(&succeed(&[
+        "fit",
+        &film,
+        "--reflectance",
+        "0.99",
+        "--transmittance",
+        "0",
+        "--photons",
+        "500",
+        "--json",
+        "-",
+    ]));
+    assert_eq!(value["fit"]["converged"], false, "{}", value["fit"]);
+    assert!(
+        !value["fit"]["reason"].as_str().unwrap().is_empty(),
+        "{}",
+        value["fit"]
+    );
+}
