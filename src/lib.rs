@@ -50,6 +50,7 @@ pub mod checkpoint;
 pub mod diffusion;
 pub(crate) mod file_format;
 pub mod fingerprint;
+pub mod fit;
 pub mod import;
 pub mod input;
 pub mod medium;

@@ -3,6 +3,7 @@
 
 mod args;
 mod figures;
+mod fit_command;
 mod import_command;
 mod merge_command;
 mod model_input;
@@ -41,6 +42,9 @@ enum Command {
     Import(import_command::ImportArgs),
     /// Optical structure and diffusion-time budget of a sphere, no Monte Carlo.
     Profile(profile_command::ProfileArgs),
+    /// Find a slab layer's absorption and scattering coefficients from measured reflectance
+    /// and transmittance (Monte Carlo fit).
+    Fit(fit_command::FitArgs),
 }
 
 /// Parses the command line and runs the chosen subcommand.
@@ -53,6 +57,7 @@ pub fn run() -> Result<()> {
         Command::Star(args) => star_command::execute(args),
         Command::Import(args) => import_command::execute(args),
         Command::Profile(args) => profile_command::execute(args),
+        Command::Fit(args) => fit_command::execute(args),
     }
 }
 

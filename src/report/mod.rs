@@ -5,6 +5,7 @@
 //! The figures and the HTML report need the `plots` feature (on by default).
 
 mod budget_text;
+mod fit_document;
 #[cfg(feature = "plots")]
 pub mod html;
 #[cfg(feature = "plots")]
@@ -14,6 +15,9 @@ mod profile_text;
 mod run_document;
 mod text;
 
+pub use fit_document::{
+    ErrorsInUnit, FitReport, FitSummary, PlanePoint, StartInUnit, render_fit_report,
+};
 pub use profile_document::{ProfileModel, ProfileReport};
 pub use profile_text::{render_profile_csv, render_profile_report};
 pub use run_document::{ModelSummary, RunReport};

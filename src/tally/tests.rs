@@ -452,6 +452,8 @@ fn a_weighted_tally_with_impossible_counts_is_refused() {
     value["launched"] = json!(6);
     let error = Tally::from_json(value).unwrap_err();
     assert!(error.to_string().contains("launched"), "{error}");
+}
+
 #[test]
 fn optical_counts_are_parts_of_their_outcomes() {
     use crate::medium::Face;

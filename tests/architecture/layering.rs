@@ -31,7 +31,7 @@ const LAYERS: &[&[&str]] = &[
     &["transport"],
     &["simulation"],
     &["analysis"],
-    &["shard", "checkpoint"],
+    &["shard", "checkpoint", "fit"],
     &["sweep", "report"],
 ];
 

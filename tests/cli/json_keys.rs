@@ -165,6 +165,73 @@ const ADDED: &[&str] = &[
     "detectors[].time_of_flight.median_s",
     "detectors[].time_of_flight.p75_s",
     "detectors[].time_of_flight.p95_s",
+    // sojourn fit (its own report; model.*, sojourn_version and elapsed_s as in run)
+    "fit",
+    "fit.absorption_coefficient",
+    "fit.anisotropy",
+    "fit.collimated_transmittance",
+    "fit.conditioning",
+    "fit.converged",
+    "fit.covariance_log",
+    "fit.evaluations",
+    "fit.iterations",
+    "fit.layer",
+    "fit.layer_name",
+    "fit.limits",
+    "fit.matched",
+    "fit.matched[].measured",
+    "fit.matched[].model",
+    "fit.matched[].model_stderr",
+    "fit.matched[].name",
+    "fit.matched[].uncertainty",
+    "fit.method",
+    "fit.misfit",
+    "fit.path",
+    "fit.path[].absorption_coefficient",
+    "fit.path[].reduced_scattering_coefficient",
+    "fit.photons_per_evaluation",
+    "fit.photons_total",
+    "fit.reason",
+    "fit.reduced_scattering_coefficient",
+    "fit.reflectance",
+    "fit.scales",
+    "fit.scattering_coefficient",
+    "fit.seed",
+    "fit.start",
+    "fit.start.absorption_coefficient",
+    "fit.start.method",
+    "fit.start.reduced_scattering_coefficient",
+    "fit.stderr",
+    "fit.stderr.absorption_coefficient",
+    "fit.stderr.correlation",
+    "fit.stderr.reduced_scattering_coefficient",
+    "fit.stderr.scattering_coefficient",
+    "fit.stderr_measurement",
+    "fit.stderr_measurement.absorption_coefficient",
+    "fit.stderr_measurement.correlation",
+    "fit.stderr_measurement.reduced_scattering_coefficient",
+    "fit.stderr_measurement.scattering_coefficient",
+    "fit.stderr_monte_carlo",
+    "fit.stderr_monte_carlo.absorption_coefficient",
+    "fit.stderr_monte_carlo.correlation",
+    "fit.stderr_monte_carlo.reduced_scattering_coefficient",
+    "fit.stderr_monte_carlo.scattering_coefficient",
+    "fit.transmittance",
+    "fit.unique",
+    "fit.uniqueness",
+    "fit.unscattered_transmittance_counted",
+    "length_unit",
+    "measurement",
+    "measurement.collimated_transmittance",
+    "measurement.collimated_transmittance.uncertainty",
+    "measurement.collimated_transmittance.value",
+    "measurement.reflectance",
+    "measurement.reflectance.uncertainty",
+    "measurement.reflectance.value",
+    "measurement.specular_included",
+    "measurement.transmittance",
+    "measurement.transmittance.uncertainty",
+    "measurement.transmittance.value",
 ];
 
 /// Key paths of `value`: `a.b` for object keys, `a[]` for the elements of an array (the
@@ -347,4 +414,33 @@ fn sweep_rows_keep_their_columns() {
             &keys_of(&serde_json::from_str(line).unwrap()),
         );
     }
+}
+
+#[test]
+fn fit_json_keys_are_listed() {
+    let fit = succeed(&[
+        "fit",
+        &model("../examples/fit/lumaris-film.json"),
+        "--reflectance",
+        "0.52",
+        "--transmittance",
+        "0.35",
+        "--collimated-transmittance",
+        "0.004",
+        "--uncertainty",
+        "0.005",
+        "--photons",
+        "2000",
+        "--json",
+        "-",
+    ]);
+    let run = recorded("run-slab-resolved.keys");
+    let unknown: Vec<String> = keys_of(&serde_json::from_str(&fit).unwrap())
+        .into_iter()
+        .filter(|k| !ADDED.contains(&k.as_str()) && !run.contains(k))
+        .collect();
+    assert!(
+        unknown.is_empty(),
+        "fit: new keys {unknown:?}: document them in the README and list them in ADDED"
+    );
 }

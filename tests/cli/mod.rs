@@ -4,6 +4,7 @@ mod bad_models;
 mod bad_profiles;
 mod checkpoints;
 mod cluster_scripts;
+mod fit_command;
 mod import_command;
 mod json_keys;
 mod length_units;

@@ -9,6 +9,7 @@ mod convective_zones;
 mod diffusion_solver;
 mod energy_generation;
 mod exact_stepping;
+mod fit_round_trip;
 mod h_function;
 mod opacity_tables;
 mod phase_functions;

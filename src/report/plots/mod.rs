@@ -45,6 +45,7 @@ pub mod display_unit;
 pub mod distribution;
 mod error;
 pub mod escape_time;
+pub mod fit_plane;
 mod histogram_chart;
 pub mod limb_darkening;
 mod line_chart;
