@@ -48,7 +48,13 @@ pub(super) fn write_residence_budget(out: &mut String, report: &RunReport) {
         budget.photons
     );
     let what = if sphere { "radius" } else { "depth" };
-    if let (Some(mc), Some(theory)) = (budget.half_time_cm, budget.diffusion_half_time_cm) {
+    // With one cell the half-time point would only be read off a straight line through it.
+    let resolved_in_cells = budget.cells.len() > 1;
+    if let (Some(mc), Some(theory), true) = (
+        budget.half_time_cm,
+        budget.diffusion_half_time_cm,
+        resolved_in_cells,
+    ) {
         let error = if mc.stderr.is_finite() {
             if sphere {
                 format!(" ± {:.3} R", mc.stderr / size)
@@ -143,7 +149,9 @@ pub(super) fn write_residence_budget(out: &mut String, report: &RunReport) {
     }
     let _ = writeln!(
         out,
-        "  mean time {} s (Monte Carlo), {} s (diffusion from {}, surface at the boundary)",
+        "  mean time {} s (Monte Carlo), {} s (conservative steady diffusion from {}, surface \
+         at the boundary, time inside the medium only: a rough guide; the shares are what \
+         compare)",
         format_significant(total.value, 5),
         format_significant(budget.diffusion_mean_time_s, 5),
         budget.diffusion_source
