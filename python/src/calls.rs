@@ -98,7 +98,6 @@ fn thread_pool(threads: Option<&Bound<'_, PyAny>>) -> PyResult<ThreadPool> {
         .map_err(|error| refused(format!("cannot start the worker threads: {error}")))
 }
 
-
 /// Runs `config` on `medium` in chunks of photons, each with the GIL released, checking
 /// for signals between chunks. Chunks start at four photons per thread and are scaled to
 /// take about [`CHUNK_TARGET_S`]. The tally is that of one uninterrupted run.
