@@ -263,7 +263,7 @@ impl DirectWalker {
 
     /// Follows one photon from the source until it leaves, is absorbed or hits the step cap.
     /// For weighted walks, what the photon left in the medium is dropped: use
-    /// [`DirectWalker::walk_weighted`].
+    /// [`DirectWalker::walk_weighted_with_ledger`].
     pub fn walk<R: Rng + ?Sized>(&self, rng: &mut R) -> PhotonRecord {
         self.walk_booking(rng, &mut AbsorbedAlongPath::default(), &mut NoLedger)
     }
@@ -280,18 +280,9 @@ impl DirectWalker {
         self.walk_booking(rng, &mut AbsorbedAlongPath::default(), ledger)
     }
 
-    /// Follows one photon, putting what it left in the medium (weighted walks; nothing for
-    /// analog ones) into `absorbed`, which is cleared first (its memory is reused).
-    pub fn walk_weighted<R: Rng + ?Sized>(
-        &self,
-        rng: &mut R,
-        absorbed: &mut AbsorbedAlongPath,
-    ) -> PhotonRecord {
-        self.walk_booking(rng, absorbed, &mut NoLedger)
-    }
-
-    /// [`Self::walk_weighted`] and [`Self::walk_with_ledger`] at once (`ledger` cleared
-    /// first): what absorption rescaling needs of one photon.
+    /// [`Self::walk_with_ledger`] that also puts what the photon left in the medium
+    /// (weighted walks; nothing for analog ones) into `absorbed`; both are cleared first.
+    /// What the run loop and absorption rescaling call for each photon.
     pub fn walk_weighted_with_ledger<R: Rng + ?Sized>(
         &self,
         rng: &mut R,
